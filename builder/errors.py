@@ -1,0 +1,88 @@
+"""Problems found in a catalogue, and the exceptions that carry them.
+
+Problems are data: a position (file, line, column, key path) and a message,
+formatted only when printed.  Bad catalogue content is always reported as a
+Problem; an exception that is not a PeriplusError is a bug in Periplus.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+__all__ = [
+    "CatalogueUnreadable",
+    "PeriplusError",
+    "Position",
+    "Problem",
+    "UsageError",
+    "format_key_path",
+]
+
+KeyPath = tuple[str | int, ...]
+
+
+def format_key_path(path: KeyPath) -> str:
+    """Render ("provenance", "references", 2) as provenance.references[2]."""
+    out = ""
+    for part in path:
+        if isinstance(part, int):
+            out += f"[{part}]"
+        else:
+            out += f".{part}" if out else part
+    return out
+
+
+@dataclass(frozen=True, order=True, slots=True)
+class Position:
+    """Where a problem is: a file, a 1-based line and column, and a key path in the document."""
+
+    file: Path
+    line: int = 0  # 0 when the problem concerns the file as a whole
+    column: int = 0
+    key_path: KeyPath = field(default=(), compare=False)
+
+    def __str__(self) -> str:
+        if self.line:
+            return f"{self.file}:{self.line}:{self.column}"
+        return str(self.file)
+
+
+@dataclass(frozen=True, order=True, slots=True)
+class Problem:
+    """One thing wrong with a catalogue.
+
+    ``code`` is a short stable name for the kind of problem (for tools and
+    tests); ``message`` is for people and names what was expected and got.
+    """
+
+    position: Position
+    message: str = field(compare=False)
+    code: str = field(default="invalid", compare=False)
+    severity: str = field(default="error", compare=False)
+
+    def __str__(self) -> str:
+        return f"{self.position}: {self.severity}: {self.message}"
+
+
+class PeriplusError(Exception):
+    """Base of every error Periplus raises on purpose."""
+
+    exit_code = 1
+
+
+class UsageError(PeriplusError):
+    """The command line asks for something impossible."""
+
+    exit_code = 2
+
+
+class CatalogueUnreadable(PeriplusError):
+    """The catalogue as a whole cannot be read (missing directory, not a catalogue)."""
+
+    exit_code = 2
+
+    def __init__(self, path: Path, reason: str) -> None:
+        super().__init__(f"{path}: {reason}")
+        self.path = path
+        self.reason = reason

@@ -1,0 +1,45 @@
+"""Exact conversion between integers and decimal text, of any size.
+
+Python refuses ``int(text)`` and ``str(n)`` beyond 4,300 digits by default
+(CVE-2020-10735 mitigation, ``sys.int_info.str_digits_check_threshold``).
+Catalogue members may be far longer, so every conversion in Periplus goes
+through these two functions, which hand large values to GMP (via gmpy2),
+whose conversions are sub-quadratic and unlimited.  The process-wide limit
+is left untouched.
+"""
+
+from __future__ import annotations
+
+import re
+
+import gmpy2
+
+__all__ = ["DECIMAL_INTEGER", "parse_decimal", "to_decimal"]
+
+#: A decimal integer as the catalogue accepts it: optional sign, no leading
+#: zeros (YAML 1.1 reads ``017`` as octal), no underscores.
+DECIMAL_INTEGER = re.compile(r"[-+]?(?:0|[1-9][0-9]*)")
+
+# Safely below CPython's default limit of 4,300 digits (about 14,284 bits).
+_SMALL_DIGITS = 4000
+_SMALL_BITS = 13000
+
+
+def parse_decimal(text: str) -> int:
+    """Return the integer written in ``text`` (which must match DECIMAL_INTEGER).
+
+    Raises ValueError for anything else.
+    """
+    if DECIMAL_INTEGER.fullmatch(text) is None:
+        raise ValueError(f"not a decimal integer: {text[:40]!r}")
+    if len(text) < _SMALL_DIGITS:
+        return int(text)
+    # int(mpz) converts in binary, so it is not subject to the str limit.
+    return int(gmpy2.mpz(text))
+
+
+def to_decimal(n: int) -> str:
+    """Return the decimal text of ``n``, however many digits it has."""
+    if n.bit_length() < _SMALL_BITS:
+        return str(int(n))
+    return str(gmpy2.mpz(n))

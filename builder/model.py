@@ -1,0 +1,134 @@
+"""The verified record: frozen objects built only from entries that passed every check.
+
+Everything a page or an export needs is derived here once (canonical
+member, rotated word, residue counts, cycle equation), so later stages do no
+arithmetic of their own.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from datetime import date
+from pathlib import Path
+
+from .dynamics import AffineMap, Equation
+from .errors import Problem
+from .words import rotate
+
+__all__ = ["Catalogue", "Cycle", "MapEntry", "Provenance", "Reference", "Report", "word_text"]
+
+
+def word_text(word: tuple[int, ...], modulus: int) -> str:
+    """Write a word as the catalogue does: digits when m <= 10, else comma-separated residues."""
+    if modulus <= 10:
+        return "".join(map(str, word))
+    return ",".join(map(str, word))
+
+
+@dataclass(frozen=True, slots=True)
+class Reference:
+    key: str
+    authors: tuple[str, ...]
+    title: str
+    venue: str
+    year: int
+    doi: str | None
+    url: str | None
+    status: str | None  # "read", "secondary" or "memory": how sure the record is of it
+    note: str | None
+
+
+@dataclass(frozen=True, slots=True)
+class MapEntry:
+    id: str
+    name: str
+    summary: str
+    notes: str | None
+    references: tuple[str, ...]
+    dynamics: AffineMap
+    path: Path
+
+    @property
+    def modulus(self) -> int:
+        return self.dynamics.modulus
+
+    @property
+    def branches(self) -> tuple[tuple[int, int], ...]:
+        return self.dynamics.branches
+
+
+@dataclass(frozen=True, slots=True)
+class Provenance:
+    found_by: str
+    found_on: date
+    method: str
+    references: tuple[str, ...]
+    notes: str | None
+
+
+@dataclass(frozen=True, slots=True)
+class Cycle:
+    """A verified cycle.  ``members`` and ``word`` are read from ``start``, as the entry gives them."""
+
+    id: str
+    map_id: str
+    path: Path
+    start: int
+    members: tuple[int, ...]
+    word: tuple[int, ...]
+    canonical_index: int  # index in ``members`` of the canonical member
+    equation: Equation  # along the word read from the canonical member
+    residue_counts: tuple[int, ...]  # how often each residue 0..m-1 occurs in the word
+    standard_length: int | None  # for 2-branch n/2 maps: the length counting n -> qn+d and n/2 apart
+    provenance: Provenance
+
+    @property
+    def length(self) -> int:
+        return len(self.members)
+
+    @property
+    def canonical(self) -> int:
+        """The member of least absolute value, the positive one on a tie."""
+        return self.members[self.canonical_index]
+
+    @property
+    def canonical_members(self) -> tuple[int, ...]:
+        return rotate(self.members, self.canonical_index)
+
+    @property
+    def canonical_word(self) -> tuple[int, ...]:
+        return rotate(self.word, self.canonical_index)
+
+    @property
+    def minimum(self) -> int:
+        return min(self.members)
+
+    @property
+    def maximum(self) -> int:
+        return max(self.members)
+
+
+@dataclass(frozen=True, slots=True)
+class Catalogue:
+    root: Path
+    maps: Mapping[str, MapEntry]
+    cycles: Mapping[str, tuple[Cycle, ...]]  # by map id, in order of canonical member
+    references: Mapping[str, Reference]
+
+
+@dataclass(frozen=True, slots=True)
+class Report:
+    """The outcome of verifying a catalogue: the verified part and every problem found."""
+
+    catalogue: Catalogue
+    problems: tuple[Problem, ...]
+    files: int
+
+    @property
+    def errors(self) -> tuple[Problem, ...]:
+        return tuple(p for p in self.problems if p.severity == "error")
+
+    @property
+    def ok(self) -> bool:
+        return not self.errors

@@ -1,0 +1,690 @@
+"""Stage 2: check raw entries field by field, re-derive every cycle, build the model.
+
+Every file is checked even after others fail; each problem is reported at
+the YAML node at fault, with what was expected and what was got.  A cycle
+is accepted only when exact iteration from its start returns to the start,
+the cycle equation computed independently from the word agrees, and every
+claim the entry makes (word, length, members) matches what was derived.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import difflib
+import re
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+from types import MappingProxyType
+from typing import TypeVar
+
+import yaml.resolver
+
+from .dynamics import AffineMap, CycleFound, EntersCycle, Unresolved, branch_defects, cycle_equation, trace
+from .errors import KeyPath, Position, Problem, format_key_path
+from .integers import DECIMAL_INTEGER, parse_decimal, to_decimal
+from .load import ID_PATTERN, Mapping, Node, RawCatalogue, RawFile, Scalar, Sequence, load_catalogue
+from .model import Catalogue, Cycle, MapEntry, Provenance, Reference, Report, word_text
+from .words import is_rotation, least_period
+
+__all__ = ["DEFAULT_MAX_STEPS", "Limits", "verify_catalogue", "verify_raw"]
+
+DEFAULT_MAX_STEPS = 1_000_000
+T = TypeVar("T")
+
+_RESOLVER = yaml.resolver.Resolver()
+_DOI = re.compile(r"10\.[0-9]{4,9}/\S+")
+_URL = re.compile(r"https?://[^\s/$.?#][^\s]*", re.IGNORECASE)
+_STATUSES = ("read", "secondary", "memory")
+
+
+@dataclass(frozen=True, slots=True)
+class Limits:
+    """Bounds on each trace: steps, and member size in bits (None: grows with the entry's size)."""
+
+    max_steps: int = DEFAULT_MAX_STEPS
+    max_bits: int | None = None
+
+
+def short(text: str, keep: int = 48) -> str:
+    """Shorten long values for messages, saying how long they were."""
+    if len(text) <= keep:
+        return text
+    return f"{text[: keep // 2]}...{text[-12:]} ({len(text)} characters)"
+
+
+def show(n: int) -> str:
+    """A number for a message: in full when short, else its ends and its digit count."""
+    text = to_decimal(n)
+    digits = len(text.lstrip("-"))
+    if digits <= 60:
+        return text
+    return f"{text[:20]}...{text[-10:]} ({digits} digits)"
+
+
+def _yaml_type(node: Scalar) -> str:
+    """The YAML 1.1 type a plain scalar resolves to: str, int, float, bool, null, timestamp..."""
+    tag: str = _RESOLVER.resolve(yaml.ScalarNode, node.value, (True, False))  # type: ignore[no-untyped-call]
+    return tag.rsplit(":", 1)[-1]
+
+
+def describe(node: Node) -> str:
+    """Say what a node is, for "expected X, got Y" messages."""
+    if isinstance(node, Mapping):
+        return "a mapping"
+    if isinstance(node, Sequence):
+        return "a list"
+    assert isinstance(node, Scalar)
+    if not node.plain:
+        return f"the quoted text '{short(node.value)}'"
+    kind = _yaml_type(node)
+    if kind == "null":
+        return "nothing (an empty value)"
+    if kind == "bool":
+        return f"the boolean {node.value}"
+    if kind in ("int", "float"):
+        return f"the number {short(node.value)}"
+    if kind == "timestamp":
+        return f"the date {node.value}"
+    return f"'{short(node.value)}'"
+
+
+class _Doc:
+    """Reads one file's nodes, recording a positioned problem for each bad value."""
+
+    def __init__(self, path: Path, problems: list[Problem]) -> None:
+        self.path = path
+        self.problems = problems
+        self.failed = False
+
+    def error(self, node: Node | None, key_path: KeyPath, message: str, code: str = "invalid") -> None:
+        self.failed = True
+        line, column = (node.line, node.column) if node is not None else (0, 0)
+        prefix = _label(key_path)
+        self.problems.append(Problem(Position(self.path, line, column, key_path), prefix + message, code))
+
+    def fields(
+        self, node: Node | None, key_path: KeyPath, what: str, required: tuple[str, ...], optional: tuple[str, ...]
+    ) -> dict[str, Node] | None:
+        """Check a mapping's keys: unknown ones and missing required ones are errors."""
+        if not isinstance(node, Mapping):
+            got = describe(node) if node is not None else "an empty file"
+            self.error(node, key_path, f"expected {what} (a mapping of fields), got {got}")
+            return None
+        allowed = required + optional
+        found: dict[str, Node] = {}
+        for key, (key_node, value) in node.entries.items():
+            if key in allowed:
+                found[key] = value
+                continue
+            close = difflib.get_close_matches(key, allowed, n=1)
+            hint = f"; did you mean '{close[0]}'?" if close else ""
+            self.error(
+                key_node,
+                key_path + (key,),
+                f"unknown field '{short(key)}' in {what}; expected one of: {', '.join(allowed)}{hint}",
+                "unknown-field",
+            )
+        for key in required:
+            if key not in found:
+                self.error(node, key_path, f"{what} is missing the required field '{key}'", "missing-field")
+        return found
+
+    def integer(self, node: Node, key_path: KeyPath) -> int | None:
+        if isinstance(node, Scalar) and node.plain and DECIMAL_INTEGER.fullmatch(node.value):
+            return parse_decimal(node.value)
+        got = describe(node)
+        hint = ""
+        if isinstance(node, Scalar):
+            text = node.value.strip()
+            if not node.plain and DECIMAL_INTEGER.fullmatch(text):
+                hint = "; write it without quotes"
+            elif re.fullmatch(r"[-+]?0[0-9_]+", text):
+                hint = f"; leading zeros are not allowed (YAML 1.1 reads {short(text)} as octal)"
+            elif re.fullmatch(r"[-+]?[0-9][0-9_]*", text):
+                hint = "; write it without underscores"
+        self.error(node, key_path, f"expected an integer, got {got}{hint}")
+        return None
+
+    def text(self, node: Node, key_path: KeyPath, one_line: bool = False) -> str | None:
+        if isinstance(node, Scalar) and (not node.plain or _yaml_type(node) == "str"):
+            if one_line and "\n" in node.value.strip():
+                self.error(node, key_path, "expected one line of text, got several lines")
+                return None
+            if not node.value.strip():
+                self.error(node, key_path, "expected some text, got an empty string")
+                return None
+            return node.value
+        hint = "; put it in quotes if it is meant as text" if isinstance(node, Scalar) else ""
+        self.error(node, key_path, f"expected text, got {describe(node)}{hint}")
+        return None
+
+    def date(self, node: Node, key_path: KeyPath) -> _dt.date | None:
+        if isinstance(node, Scalar) and re.fullmatch(r"[0-9]{4}-[0-9]{2}-[0-9]{2}", node.value):
+            try:
+                return _dt.date.fromisoformat(node.value)
+            except ValueError:
+                self.error(node, key_path, f"expected a real calendar date, got {node.value}")
+                return None
+        self.error(node, key_path, f"expected a date written YYYY-MM-DD, got {describe(node)}")
+        return None
+
+    def listing(self, node: Node, key_path: KeyPath, item: Callable[[Node, KeyPath], T | None]) -> list[T] | None:
+        if not isinstance(node, Sequence):
+            self.error(node, key_path, f"expected a list, got {describe(node)}")
+            return None
+        out = []
+        ok = True
+        for i, child in enumerate(node.items):
+            value = item(child, key_path + (i,))
+            if value is None:
+                ok = False
+            else:
+                out.append(value)
+        return out if ok else None
+
+    def ident(self, node: Node, key_path: KeyPath) -> str | None:
+        value = self.text(node, key_path)
+        if value is None:
+            return None
+        if ID_PATTERN.fullmatch(value) is None:
+            self.error(
+                node,
+                key_path,
+                f"expected an id of lowercase letters, digits and hyphens, got '{short(value)}'",
+                "bad-id",
+            )
+            return None
+        return value
+
+    def reference_keys(self, node: Node, key_path: KeyPath, references: dict[str, Reference]) -> list[str] | None:
+        keys = self.listing(node, key_path, self.ident)
+        if keys is None:
+            return None
+        assert isinstance(node, Sequence)
+        for i, key in enumerate(keys):
+            if key not in references:
+                self.error(
+                    node.items[i],
+                    key_path + (i,),
+                    f"expected a key of references.yaml, got '{key}'",
+                    "unknown-reference",
+                )
+        return None if self.failed else keys
+
+    def word(self, node: Node, key_path: KeyPath, modulus: int) -> tuple[int, ...] | None:
+        """A word: quoted digits when the modulus is at most 10, or a list of residues."""
+        if isinstance(node, Sequence):
+            residues = self.listing(node, key_path, self.integer)
+            if residues is None:
+                return None
+            for i, r in enumerate(residues):
+                if not 0 <= r < modulus:
+                    self.error(node.items[i], key_path + (i,), f"expected a residue 0..{modulus - 1}, got {show(r)}")
+                    return None
+            if not residues:
+                self.error(node, key_path, "expected at least one residue, got an empty list")
+                return None
+            return tuple(residues)
+        if isinstance(node, Scalar) and node.plain and re.fullmatch(r"[0-9_]+", node.value):
+            kind = _yaml_type(node)
+            reads = (
+                "an octal number" if kind == "int" and node.value.startswith("0") and node.value != "0" else "a number"
+            )
+            self.error(
+                node,
+                key_path,
+                f"expected a quoted string of residue digits, got the unquoted {short(node.value)}, "
+                f'which YAML reads as {reads}; write it in quotes: word: "{short(node.value)}"',
+                "unquoted-word",
+            )
+            return None
+        if modulus > 10:
+            self.error(
+                node, key_path, f"expected a list of residues (the modulus {modulus} is above 10), got {describe(node)}"
+            )
+            return None
+        value = self.text(node, key_path)
+        if value is None:
+            return None
+        for i, ch in enumerate(value):
+            if not ("0" <= ch <= "9" and int(ch) < modulus):
+                self.error(
+                    node, key_path, f"expected residue digits 0..{modulus - 1}, got '{short(ch)}' at position {i + 1}"
+                )
+                return None
+        return tuple(map(int, value))
+
+
+def _label(key_path: KeyPath) -> str:
+    return f"{format_key_path(key_path)}: " if key_path else ""
+
+
+# --- references ------------------------------------------------------------
+
+
+def _check_references(raw: RawFile, problems: list[Problem]) -> dict[str, Reference]:
+    doc = _Doc(raw.path, problems)
+    out: dict[str, Reference] = {}
+    root = raw.root
+    if root is None:
+        return out
+    if not isinstance(root, Mapping):
+        doc.error(root, (), f"expected a mapping from reference keys to references, got {describe(root)}")
+        return out
+    for key, (key_node, node) in root.entries.items():
+        if ID_PATTERN.fullmatch(key) is None:
+            doc.error(
+                key_node,
+                (key,),
+                f"expected a key of lowercase letters, digits and hyphens, got '{short(key)}'",
+                "bad-id",
+            )
+            continue
+        f = doc.fields(
+            node, (key,), "a reference", ("authors", "title", "venue", "year"), ("doi", "url", "status", "note")
+        )
+        if f is None:
+            continue
+        before = len(problems)
+        authors = (
+            doc.listing(f["authors"], (key, "authors"), lambda n, p: doc.text(n, p, one_line=True))
+            if "authors" in f
+            else None
+        )
+        if authors is not None and not authors:
+            doc.error(f["authors"], (key, "authors"), "expected at least one author, got an empty list")
+        title = doc.text(f["title"], (key, "title"), one_line=True) if "title" in f else None
+        venue = doc.text(f["venue"], (key, "venue"), one_line=True) if "venue" in f else None
+        year = doc.integer(f["year"], (key, "year")) if "year" in f else None
+        if year is not None and not 1000 <= year <= 9999:
+            doc.error(f["year"], (key, "year"), f"expected a four-digit year, got {show(year)}")
+        doi = url = status = note = None
+        if "doi" in f:
+            doi = doc.text(f["doi"], (key, "doi"), one_line=True)
+            if doi is not None and _DOI.fullmatch(doi) is None:
+                doc.error(f["doi"], (key, "doi"), f"expected a DOI such as 10.2307/2322189, got '{short(doi)}'")
+        if "url" in f:
+            url = doc.text(f["url"], (key, "url"), one_line=True)
+            if url is not None and _URL.fullmatch(url) is None:
+                doc.error(f["url"], (key, "url"), f"expected an http or https address, got '{short(url)}'")
+        if "status" in f:
+            status = doc.text(f["status"], (key, "status"))
+            if status is not None and status not in _STATUSES:
+                doc.error(
+                    f["status"], (key, "status"), f"expected one of {', '.join(_STATUSES)}, got '{short(status)}'"
+                )
+        if "note" in f:
+            note = doc.text(f["note"], (key, "note"))
+        if len(problems) == before:
+            assert authors is not None and title is not None and venue is not None and year is not None
+            out[key] = Reference(key, tuple(authors), title, venue, year, doi, url, status, note)
+    return out
+
+
+# --- maps ------------------------------------------------------------------
+
+
+def _check_map(raw: RawFile, references: dict[str, Reference], problems: list[Problem]) -> MapEntry | None:
+    doc = _Doc(raw.path, problems)
+    if raw.root is None:
+        return None
+    f = doc.fields(raw.root, (), "a map entry", ("name", "modulus", "branches", "summary"), ("notes", "references"))
+    if f is None:
+        return None
+    name = doc.text(f["name"], ("name",), one_line=True) if "name" in f else None
+    summary = doc.text(f["summary"], ("summary",), one_line=True) if "summary" in f else None
+    notes = doc.text(f["notes"], ("notes",)) if "notes" in f else None
+    refs = doc.reference_keys(f["references"], ("references",), references) if "references" in f else []
+    modulus = doc.integer(f["modulus"], ("modulus",)) if "modulus" in f else None
+    if modulus is not None and modulus < 2:
+        doc.error(f["modulus"], ("modulus",), f"expected a modulus of at least 2, got {show(modulus)}")
+        modulus = None
+    branches = _check_branches(doc, f["branches"], modulus) if "branches" in f and modulus is not None else None
+    if doc.failed or branches is None:
+        return None
+    assert name is not None and summary is not None and refs is not None and modulus is not None
+    return MapEntry(raw.id, name, summary, notes, tuple(refs), AffineMap(modulus, branches), raw.path)
+
+
+def _check_branches(doc: _Doc, node: Node, modulus: int) -> tuple[tuple[int, int], ...] | None:
+    if not isinstance(node, Sequence):
+        doc.error(node, ("branches",), f"expected a list of branches, got {describe(node)}")
+        return None
+    by_residue: dict[int, tuple[int, int]] = {}
+    where: dict[int, Node] = {}
+    for i, item in enumerate(node.items):
+        path: KeyPath = ("branches", i)
+        f = doc.fields(item, path, "a branch", ("residue", "multiplier", "increment"), ())
+        if f is None or len(f) < 3:
+            continue
+        residue = doc.integer(f["residue"], path + ("residue",))
+        a = doc.integer(f["multiplier"], path + ("multiplier",))
+        b = doc.integer(f["increment"], path + ("increment",))
+        if residue is None or a is None or b is None:
+            continue
+        if not 0 <= residue < modulus:
+            doc.error(f["residue"], path + ("residue",), f"expected a residue 0..{modulus - 1}, got {show(residue)}")
+            continue
+        if residue in by_residue:
+            doc.error(
+                item,
+                path,
+                f"expected one branch per residue, got a second branch for residue {residue} "
+                f"(first at line {where[residue].line})",
+            )
+            continue
+        by_residue[residue] = (a, b)
+        where[residue] = item
+    if doc.failed:
+        return None
+    missing = [r for r in range(modulus) if r not in by_residue]
+    if missing:
+        listed = ", ".join(map(str, missing[:10])) + (", ..." if len(missing) > 10 else "")
+        doc.error(node, ("branches",), f"expected one branch for each residue 0..{modulus - 1}, got none for {listed}")
+        return None
+    branches = tuple(by_residue[r] for r in range(modulus))
+    for residue, reason in branch_defects(modulus, branches):
+        assert residue >= 0, reason  # counts were checked above
+        doc.error(
+            where[residue],
+            ("branches", _index_of(node, where[residue])),
+            f"residue {residue}: {reason}",
+            "ill-defined-map",
+        )
+    return None if doc.failed else branches
+
+
+def _index_of(node: Sequence, item: Node) -> int:
+    return next(i for i, child in enumerate(node.items) if child is item)
+
+
+# --- cycles ----------------------------------------------------------------
+
+
+def _check_cycle(
+    raw: RawFile,
+    maps: dict[str, MapEntry],
+    bad_maps: set[str],
+    references: dict[str, Reference],
+    limits: Limits,
+    problems: list[Problem],
+) -> tuple[Cycle, Node] | None:
+    doc = _Doc(raw.path, problems)
+    if raw.root is None:
+        return None
+    f = doc.fields(raw.root, (), "a cycle entry", ("map", "provenance"), ("start", "word", "length", "members"))
+    if f is None:
+        return None
+    provenance = _check_provenance(doc, f["provenance"], references) if "provenance" in f else None
+    map_id = doc.ident(f["map"], ("map",)) if "map" in f else None
+    if map_id is not None and map_id != raw.folder:
+        doc.error(
+            f["map"], ("map",), f"expected '{raw.folder}' (the folder this file is in), got '{map_id}'", "wrong-folder"
+        )
+        map_id = None
+    entry = None
+    if map_id is not None:
+        entry = maps.get(map_id)
+        if entry is None and map_id not in bad_maps:
+            doc.error(
+                f["map"],
+                ("map",),
+                f"expected the id of a map in maps/, got '{map_id}' (no maps/{map_id}.yaml)",
+                "unknown-map",
+            )
+    start = doc.integer(f["start"], ("start",)) if "start" in f else None
+    length = doc.integer(f["length"], ("length",)) if "length" in f else None
+    if length is not None and length < 1:
+        doc.error(f["length"], ("length",), f"expected a positive length, got {show(length)}")
+        length = None
+    members = doc.listing(f["members"], ("members",), doc.integer) if "members" in f else None
+    if "start" not in f and "word" not in f:
+        doc.error(raw.root, (), "a cycle entry needs a start or a word, got neither", "missing-field")
+    if entry is None:
+        # No map to check against; still report what can be said about the word.
+        return None
+    word = doc.word(f["word"], ("word",), entry.modulus) if "word" in f else None
+    if doc.failed or provenance is None:
+        return None
+    return _derive(doc, raw, entry, f, start, word, length, members, provenance, limits)
+
+
+def _check_provenance(doc: _Doc, node: Node, references: dict[str, Reference]) -> Provenance | None:
+    path: KeyPath = ("provenance",)
+    f = doc.fields(node, path, "the provenance", ("found_by", "found_on", "method"), ("references", "notes"))
+    if f is None:
+        return None
+    found_by = doc.text(f["found_by"], path + ("found_by",), one_line=True) if "found_by" in f else None
+    found_on = doc.date(f["found_on"], path + ("found_on",)) if "found_on" in f else None
+    method = doc.text(f["method"], path + ("method",)) if "method" in f else None
+    refs = doc.reference_keys(f["references"], path + ("references",), references) if "references" in f else []
+    notes = doc.text(f["notes"], path + ("notes",)) if "notes" in f else None
+    if found_by is None or found_on is None or method is None or refs is None:
+        return None
+    return Provenance(found_by, found_on, method, tuple(refs), notes)
+
+
+def _derive(
+    doc: _Doc,
+    raw: RawFile,
+    entry: MapEntry,
+    f: dict[str, Node],
+    start: int | None,
+    word: tuple[int, ...] | None,
+    length: int | None,
+    members: list[int] | None,
+    provenance: Provenance,
+    limits: Limits,
+) -> tuple[Cycle, Node] | None:
+    """Re-derive the cycle from its start (or its word) and compare every claim."""
+    mapping = entry.dynamics
+    m = mapping.modulus
+    if word is not None:
+        period = least_period(word)
+        if period < len(word):
+            unit = word_text(word[:period], m)
+            doc.error(
+                f["word"],
+                ("word",),
+                f"expected an aperiodic word (a cycle's word is its least period), got {short(word_text(word, m))}, "
+                f"which is {short(unit)} repeated {len(word) // period} times; write {short(unit)}",
+                "periodic-word",
+            )
+            return None
+    start_node = f["start"] if "start" in f else f["word"]
+    if start is None:
+        assert word is not None and "start" not in f
+        equation = cycle_equation(mapping, word)
+        if equation.target == 0:
+            doc.error(
+                start_node,
+                ("word",),
+                "the cycle equation does not fix a start for this word (m^k - A = 0); give a start as well",
+                "no-integer-cycle",
+            )
+            return None
+        num, den = equation.start()
+        if den != 1:
+            doc.error(
+                start_node,
+                ("word",),
+                f"expected a word with an integer cycle, got one whose cycle equation gives "
+                f"n = B / (m^k - A) = {show(equation.offset)} / {show(equation.target)} = {show(num)}/{show(den)}, "
+                "not an integer",
+                "no-integer-cycle",
+            )
+            return None
+        start = num
+    outcome = trace(mapping, start, limits.max_steps, limits.max_bits)
+    key: KeyPath = ("start",) if "start" in f else ("word",)
+    if isinstance(outcome, EntersCycle):
+        found = outcome.cycle
+        canonical = found.members[_canonical_index(found.members)]
+        if "start" in f:
+            doc.error(
+                start_node,
+                key,
+                f"expected a member of a cycle, got {show(start)}, whose orbit enters the cycle through "
+                f"{show(canonical)} (length {len(found.members)}) after {outcome.steps} steps",
+                "not-periodic",
+            )
+        else:
+            doc.error(
+                start_node,
+                key,
+                f"the cycle equation gives n = {show(start)}, but its orbit does not follow the word: it enters the "
+                f"cycle through {show(canonical)} after {outcome.steps} steps",
+                "no-integer-cycle",
+            )
+        return None
+    if isinstance(outcome, Unresolved):
+        if outcome.reason == "steps":
+            why = f"did not return or repeat within {limits.max_steps} steps (raise --max-steps to look further)"
+        else:
+            why = (
+                f"grew past {outcome.bits} bits after {outcome.steps} steps without returning "
+                "(raise --max-bits to look further)"
+            )
+        doc.error(start_node, key, f"expected a member of a cycle, got {show(start)}, whose orbit {why}", "unresolved")
+        return None
+    assert isinstance(outcome, CycleFound)
+    derived_word = outcome.word
+    k = len(derived_word)
+    equation = cycle_equation(mapping, derived_word)
+    # The equation is derived from the branch constants alone; iteration
+    # found a cycle, so disagreement means a bug in Periplus, not bad data.
+    if equation.target * start != equation.offset:
+        raise AssertionError(f"cycle equation disagrees with iteration for start {show(start)} in {raw.path}")
+    if word is not None and word != derived_word:
+        hint = " (a rotation of it: the word is read from the start)" if is_rotation(word, derived_word) else ""
+        doc.error(
+            f["word"],
+            ("word",),
+            f"expected {short(word_text(derived_word, m))} (the residues along the orbit of {show(start)}), "
+            f"got {short(word_text(word, m))}{hint}",
+            "wrong-word",
+        )
+    if length is not None and length != k:
+        hint = " (a cycle's length is its least period)" if length % k == 0 else ""
+        doc.error(
+            f["length"],
+            ("length",),
+            f"expected {k} (the steps until the orbit of {show(start)} returns), got {show(length)}{hint}",
+            "wrong-length",
+        )
+    if members is not None and tuple(members) != outcome.members:
+        node = f["members"]
+        assert isinstance(node, Sequence)
+        if len(members) != k:
+            doc.error(
+                node,
+                ("members",),
+                f"expected {k} members (the cycle of {show(start)}), got {len(members)}",
+                "wrong-members",
+            )
+        else:
+            i = next(i for i in range(k) if members[i] != outcome.members[i])
+            doc.error(
+                node.items[i],
+                ("members", i),
+                f"expected {show(outcome.members[i])} (step {i} of the orbit of {show(start)}), got {show(members[i])}",
+                "wrong-members",
+            )
+    if doc.failed:
+        return None
+    index = _canonical_index(outcome.members)
+    canonical_word = derived_word[index:] + derived_word[:index]
+    counts = [0] * m
+    for r in derived_word:
+        counts[r] += 1
+    cycle = Cycle(
+        id=raw.id,
+        map_id=entry.id,
+        path=raw.path,
+        start=start,
+        members=outcome.members,
+        word=derived_word,
+        canonical_index=index,
+        equation=cycle_equation(mapping, canonical_word) if index else equation,
+        residue_counts=tuple(counts),
+        standard_length=_standard_length(mapping, k, counts),
+        provenance=provenance,
+    )
+    return cycle, start_node
+
+
+def _canonical_index(members: tuple[int, ...]) -> int:
+    """Index of the member of least absolute value, the positive one on a tie."""
+    return min(range(len(members)), key=lambda i: (abs(members[i]), members[i] < 0))
+
+
+def _standard_length(mapping: AffineMap, k: int, counts: list[int]) -> int | None:
+    """Length counting n -> q n + d and the halving after it as two steps, for n/2 maps.
+
+    Applies to 2-branch maps whose even branch is n/2: the shortcut form
+    (q n + d)/2 with q, d odd takes k + x standard steps (x odd steps); the
+    standard form q n + d itself takes k.  Elsewhere there is no such convention.
+    """
+    if mapping.modulus != 2 or mapping.branches[0] != (1, 0):
+        return None
+    a, b = mapping.branches[1]
+    if a % 2 and b % 2:
+        return k + counts[1]
+    if a % 4 == 2 and b % 4 == 2:
+        return k
+    return None
+
+
+# --- the whole catalogue ---------------------------------------------------
+
+
+def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
+    """Verify loaded files; return the verified model and every problem."""
+    problems = list(raw.problems)
+    references: dict[str, Reference] = {}
+    for file in raw.of_kind("references"):
+        references = _check_references(file, problems)
+    maps: dict[str, MapEntry] = {}
+    bad_maps: set[str] = set()
+    for file in raw.of_kind("map"):
+        entry = _check_map(file, references, problems)
+        if entry is None:
+            bad_maps.add(file.id)
+        else:
+            maps[entry.id] = entry
+    by_map: dict[str, dict[int, Cycle]] = {}
+    for file in raw.of_kind("cycle"):
+        result = _check_cycle(file, maps, bad_maps, references, limits, problems)
+        if result is None:
+            continue
+        cycle, node = result
+        seen = by_map.setdefault(cycle.map_id, {})
+        first = seen.get(cycle.canonical)
+        if first is not None:
+            problems.append(
+                Problem(
+                    Position(cycle.path, node.line, node.column, ("start",)),
+                    f"expected a cycle not yet listed, got the cycle of {first.path} again (both contain "
+                    f"{show(cycle.canonical)}); a cycle is listed once, whatever member it starts from",
+                    "duplicate-cycle",
+                )
+            )
+            continue
+        seen[cycle.canonical] = cycle
+    cycles = {
+        map_id: tuple(sorted(found.values(), key=lambda c: (abs(c.canonical), c.canonical < 0)))
+        for map_id, found in sorted(by_map.items())
+    }
+    catalogue = Catalogue(
+        root=raw.root,
+        maps=MappingProxyType(dict(sorted(maps.items()))),
+        cycles=MappingProxyType(cycles),
+        references=MappingProxyType(dict(sorted(references.items()))),
+    )
+    return Report(catalogue, tuple(sorted(problems)), len(raw.files))
+
+
+def verify_catalogue(root: Path, limits: Limits = Limits()) -> Report:
+    """Load and verify the catalogue at root (raises CatalogueUnreadable if it is not one)."""
+    return verify_raw(load_catalogue(root), limits)
