@@ -50,8 +50,11 @@ def read_map(path: Path) -> AffineMap:
 
 def starter_maps(catalogue: Path) -> dict[str, tuple[int, int, int]]:
     """Map id -> (bound, max_steps, max_bits) for the search."""
-    plan = {"3x-plus-1": (10**6, 10**5, 4096), "3x-minus-1": (10**6, 10**5, 4096),
-            "3x-plus-1-standard": (10**6, 10**5, 4096)}
+    plan = {
+        "3x-plus-1": (10**6, 10**5, 4096),
+        "3x-minus-1": (10**6, 10**5, 4096),
+        "3x-plus-1-standard": (10**6, 10**5, 4096),
+    }
     for d in range(-99, 100, 2):
         if d % 3 and abs(d) > 1:
             name = f"3x-plus-{d}" if d > 0 else f"3x-minus-{-d}"
@@ -63,9 +66,11 @@ def starter_maps(catalogue: Path) -> dict[str, tuple[int, int, int]]:
 
 
 def method_text(map_id: str, bound: int, steps: int, bits: int, unresolved: int) -> str:
-    text = (f"exhaustive search by scripts/make_starter.py: every start n with |n| <= {bound:,} iterated exactly, "
-            f"each for up to {steps:,} steps or until a member exceeded {bits} bits; "
-            "this file's start is the cycle's least |member|")
+    text = (
+        f"exhaustive search by scripts/make_starter.py: every start n with |n| <= {bound:,} iterated exactly, "
+        f"each for up to {steps:,} steps or until a member exceeded {bits} bits; "
+        "this file's start is the cycle's least |member|"
+    )
     if unresolved:
         text += f"; {unresolved:,} starts in the range were not resolved within those limits (see the map's notes)"
     return text
@@ -90,8 +95,9 @@ def write_3x_plus_d_map(path: Path, d: int) -> None:
     )
 
 
-def write_cycle(path: Path, map_id: str, members: tuple[int, ...], word: tuple[int, ...], modulus: int,
-                method: str) -> None:
+def write_cycle(
+    path: Path, map_id: str, members: tuple[int, ...], word: tuple[int, ...], modulus: int, method: str
+) -> None:
     lines = [f"map: {map_id}", f"start: {to_decimal(members[0])}"]
     if modulus <= 10:
         lines.append(f'word: "{word_text(word, modulus)}"')
@@ -100,8 +106,13 @@ def write_cycle(path: Path, map_id: str, members: tuple[int, ...], word: tuple[i
     lines.append(f"length: {len(members)}")
     if len(members) <= MEMBERS_IN_FILE:
         lines.append(f"members: [{', '.join(to_decimal(v) for v in members)}]")
-    lines += ["provenance:", "  found_by: Periplus starter search", f"  found_on: {FOUND_ON}", f"  method: >-",
-              f"    {method}"]
+    lines += [
+        "provenance:",
+        "  found_by: Periplus starter search",
+        f"  found_on: {FOUND_ON}",
+        "  method: >-",
+        f"    {method}",
+    ]
     refs = SOURCES.get((map_id, members[0]))
     if refs:
         lines.append(f"  references: [{', '.join(refs)}]")
@@ -127,10 +138,13 @@ def main(argv: list[str]) -> int:
             text = method
             if abs(canonical) > bound:
                 text += "; reached from a start in that range, though its least |member| lies beyond the bound"
-            write_cycle(folder / f"{cycle_id(canonical)}.yaml", map_id, cycle.members, cycle.word,
-                        mapping.modulus, text)
-        print(f"{map_id}: {len(result.cycles)} cycles, {len(result.unresolved)} unresolved "
-              f"(first: {result.unresolved[:8]})")
+            write_cycle(
+                folder / f"{cycle_id(canonical)}.yaml", map_id, cycle.members, cycle.word, mapping.modulus, text
+            )
+        print(
+            f"{map_id}: {len(result.cycles)} cycles, {len(result.unresolved)} unresolved "
+            f"(first: {result.unresolved[:8]})"
+        )
     return 0
 
 
