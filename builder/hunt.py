@@ -56,9 +56,14 @@ def hunt(mapping: AffineMap, bound: int, max_steps: int = 100_000, max_bits: int
                 if -magnitude < n < magnitude or n == magnitude != s:
                     break
             if n == s:
+                # s is the canonical member of its cycle, but the limits still
+                # apply: a cycle longer than max_steps (or whose members pass
+                # max_bits) is reported as unresolved, not asserted away.
                 outcome = trace(mapping, s, max_steps, max_bits)
-                assert isinstance(outcome, CycleFound)
-                result.cycles[s] = outcome
+                if isinstance(outcome, CycleFound):
+                    result.cycles[s] = outcome
+                else:
+                    unresolved.add(s)
                 continue
             if -magnitude < n < magnitude or n == magnitude != s:
                 if n in unresolved:
@@ -69,6 +74,9 @@ def hunt(mapping: AffineMap, bound: int, max_steps: int = 100_000, max_bits: int
             if isinstance(outcome, EntersCycle):
                 c = outcome.cycle
                 result.cycles.setdefault(_canonical(c.members), _rotate_to_canonical(c))
+            elif isinstance(outcome, CycleFound):
+                # s lies on a cycle longer than the quick pass.
+                result.cycles.setdefault(_canonical(outcome.members), _rotate_to_canonical(outcome))
             elif isinstance(outcome, Unresolved):
                 unresolved.add(s)
     result.cycles = dict(sorted(result.cycles.items(), key=lambda kv: (abs(kv[0]), kv[0] < 0)))

@@ -38,6 +38,8 @@ __all__ = [
 ID_PATTERN = re.compile(r"[a-z0-9][a-z0-9-]*")
 #: Catalogue documents are shallow; anything deeper is refused.
 MAX_DEPTH = 16
+#: Characters YAML does not allow in a stream (YAML 1.1 section 5.1, the same set PyYAML's reader refuses).
+_NON_PRINTABLE = re.compile("[^\x09\x0a\x0d\x20-\x7e\x85\xa0-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
 
 try:  # the C parser when libyaml is present, else PyYAML's own
     _Loader: type = yaml.CSafeLoader
@@ -104,11 +106,31 @@ def _problem(path: Path, line: int, column: int, message: str, code: str) -> Pro
 def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
     """Parse one YAML document into nodes; return (root or None, problems)."""
     problems: list[Problem] = []
+    bad = _NON_PRINTABLE.search(text)
+    if bad is not None:
+        # The YAML reader refuses these too, but reports an offset (in bytes
+        # for libyaml, in characters for PyYAML) instead of a line and column.
+        line = text.count("\n", 0, bad.start()) + 1
+        column = bad.start() - (text.rfind("\n", 0, bad.start()) + 1) + 1
+        problems.append(
+            _problem(
+                path,
+                line,
+                column,
+                f"expected printable text, got the non-printable character U+{ord(bad.group()):04X}",
+                "encoding",
+            )
+        )
+        return None, problems
     parser = _Loader(text)
     root: Node | None = None
     # Each open container with, for mappings, the key awaiting its value.
     stack: list[list[Any]] = []
     documents = 0
+    # An alias stands in the tree as an empty placeholder; checking the tree
+    # would then report things about a value nobody wrote, so a file with an
+    # alias yields no tree (its problems say why).
+    aliased = False
 
     def add(node: Node) -> None:
         nonlocal root
@@ -175,6 +197,7 @@ def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
                     )
                 )
                 add(Scalar("", False, line, column))
+                aliased = True
                 continue
             elif isinstance(event, yaml.DocumentStartEvent):
                 documents += 1
@@ -208,14 +231,18 @@ def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
         if exc.context and exc.problem:
             reason = f"{exc.context}: {exc.problem}"
         line, column = (mark.line + 1, mark.column + 1) if mark else (0, 0)
+        rows = text.split("\n")
+        row = rows[line - 1] if 0 < line <= len(rows) else ""
+        if 0 < column <= len(row) and row[column - 1] == "\t" and "tab" not in reason:
+            reason += " (a tab character; indent with spaces)"
         problems.append(_problem(path, line, column, f"YAML syntax: {reason}", "yaml"))
         return None, problems
     except yaml.YAMLError as exc:  # pragma: no cover - unmarked errors are rare
-        problems.append(_problem(path, 0, 0, f"YAML syntax: {exc}", "yaml"))
+        problems.append(_problem(path, 0, 0, "YAML syntax: " + " ".join(str(exc).split()), "yaml"))
         return None, problems
     finally:
         parser.dispose()
-    return root, problems
+    return (None if aliased else root), problems
 
 
 @dataclass(slots=True)

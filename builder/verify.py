@@ -36,6 +36,11 @@ _RESOLVER = yaml.resolver.Resolver()
 _DOI = re.compile(r"10\.[0-9]{4,9}/\S+")
 _URL = re.compile(r"https?://[^\s/$.?#][^\s]*", re.IGNORECASE)
 _STATUSES = ("read", "secondary", "memory")
+_WHAT = {
+    "map": "a map entry (a mapping of fields)",
+    "cycle": "a cycle entry (a mapping of fields)",
+    "references": "a mapping from reference keys to references",
+}
 
 
 @dataclass(frozen=True, slots=True)
@@ -409,7 +414,7 @@ def _check_cycle(
     references: dict[str, Reference],
     limits: Limits,
     problems: list[Problem],
-) -> tuple[Cycle, Node] | None:
+) -> tuple[Cycle, Node, KeyPath] | None:
     doc = _Doc(raw.path, problems)
     if raw.root is None:
         return None
@@ -476,7 +481,7 @@ def _derive(
     members: list[int] | None,
     provenance: Provenance,
     limits: Limits,
-) -> tuple[Cycle, Node] | None:
+) -> tuple[Cycle, Node, KeyPath] | None:
     """Re-derive the cycle from its start (or its word) and compare every claim."""
     mapping = entry.dynamics
     m = mapping.modulus
@@ -611,7 +616,7 @@ def _derive(
         standard_length=_standard_length(mapping, k, counts),
         provenance=provenance,
     )
-    return cycle, start_node
+    return cycle, start_node, key
 
 
 def _canonical_index(members: tuple[int, ...]) -> int:
@@ -642,30 +647,43 @@ def _standard_length(mapping: AffineMap, k: int, counts: list[int]) -> int | Non
 def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
     """Verify loaded files; return the verified model and every problem."""
     problems = list(raw.problems)
+    # A file with no YAML document at all (empty, or only comments) parses
+    # to no node and no problem; it must not pass unnoticed.
+    reported = {p.position.file for p in raw.problems}
+    for file in raw.files:
+        if file.root is None and file.path not in reported:
+            problems.append(
+                Problem(Position(file.path), f"expected {_WHAT[file.kind]}, got an empty file", "empty-file")
+            )
     references: dict[str, Reference] = {}
+    # A file the loader found fault with (a duplicate key, an anchor, a tag, a
+    # second document) still has its fields checked, but nothing from it
+    # reaches the model: its tree may not be what its author meant.
     for file in raw.of_kind("references"):
         references = _check_references(file, problems)
+        if file.path in reported:
+            references = {}
     maps: dict[str, MapEntry] = {}
     bad_maps: set[str] = set()
     for file in raw.of_kind("map"):
         entry = _check_map(file, references, problems)
-        if entry is None:
+        if entry is None or file.path in reported:
             bad_maps.add(file.id)
         else:
             maps[entry.id] = entry
     by_map: dict[str, dict[int, Cycle]] = {}
     for file in raw.of_kind("cycle"):
         result = _check_cycle(file, maps, bad_maps, references, limits, problems)
-        if result is None:
+        if result is None or file.path in reported:
             continue
-        cycle, node = result
+        cycle, node, key = result
         seen = by_map.setdefault(cycle.map_id, {})
         first = seen.get(cycle.canonical)
         if first is not None:
             problems.append(
                 Problem(
-                    Position(cycle.path, node.line, node.column, ("start",)),
-                    f"expected a cycle not yet listed, got the cycle of {first.path} again (both contain "
+                    Position(cycle.path, node.line, node.column, key),
+                    f"{_label(key)}expected a cycle not yet listed, got the cycle of {first.path} again (both contain "
                     f"{show(cycle.canonical)}); a cycle is listed once, whatever member it starts from",
                     "duplicate-cycle",
                 )
@@ -682,7 +700,10 @@ def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
         cycles=MappingProxyType(cycles),
         references=MappingProxyType(dict(sorted(references.items()))),
     )
-    return Report(catalogue, tuple(sorted(problems)), len(raw.files))
+    # Count every path looked at, including those refused by name or kind,
+    # so that "N errors in X of Y files" never has X > Y.
+    files = {f.path for f in raw.files} | {p.position.file for p in problems}
+    return Report(catalogue, tuple(sorted(problems)), len(files))
 
 
 def verify_catalogue(root: Path, limits: Limits = Limits()) -> Report:
