@@ -47,7 +47,6 @@ def _parser() -> argparse.ArgumentParser:
         help="catalogue directory (default: catalogue)",
     )
     _add_limits(verify)
-    verify.add_argument("-q", "--quiet", action="store_true", help="print only problems and the summary line")
     return parser
 
 

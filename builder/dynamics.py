@@ -22,6 +22,8 @@ from dataclasses import dataclass
 
 import gmpy2
 
+from .integers import show
+
 __all__ = [
     "AffineMap",
     "CycleFound",
@@ -54,9 +56,11 @@ def branch_defects(modulus: int, branches: Sequence[tuple[int, int]]) -> list[tu
     means the problem concerns the branch list as a whole.
     """
     if modulus < 2:
-        return [(-1, f"expected a modulus of at least 2, got {modulus}")]
+        return [(-1, f"expected a modulus of at least 2, got {show(modulus)}")]
     if len(branches) != modulus:
-        return [(-1, f"expected {modulus} branches (one per residue 0..{modulus - 1}), got {len(branches)}")]
+        return [
+            (-1, f"expected {show(modulus)} branches (one per residue 0..{show(modulus - 1)}), got {len(branches)}")
+        ]
     defects = []
     for i, (a, b) in enumerate(branches):
         if a == 0:
@@ -65,8 +69,8 @@ def branch_defects(modulus: int, branches: Sequence[tuple[int, int]]) -> list[tu
             defects.append(
                 (
                     i,
-                    f"expected multiplier * {i} + increment to be divisible by {modulus}, "
-                    f"got {a} * {i} + {b} = {a * i + b}, so T would not send integers to integers",
+                    f"expected multiplier * {i} + increment to be divisible by {show(modulus)}, "
+                    f"got {show(a)} * {i} + {show(b)} = {show(a * i + b)}, so T would not send integers to integers",
                 )
             )
     return defects
@@ -274,7 +278,7 @@ def cycle_equation(mapping: AffineMap, word: Sequence[int]) -> Equation:
     br = mapping.branches
     for r in word:
         if not 0 <= r < m:
-            raise ValueError(f"residue {r} is outside 0..{m - 1}")
+            raise ValueError(f"residue {show(r)} is outside 0..{show(m - 1)}")
 
     def leaf(lo: int, hi: int) -> tuple[int, int, int]:
         a_total, b_total, m_total = 1, 0, 1

@@ -14,7 +14,7 @@ import re
 
 import gmpy2
 
-__all__ = ["DECIMAL_INTEGER", "parse_decimal", "to_decimal"]
+__all__ = ["DECIMAL_INTEGER", "parse_decimal", "show", "to_decimal"]
 
 #: A decimal integer as the catalogue accepts it: optional sign, no leading
 #: zeros (YAML 1.1 reads ``017`` as octal), no underscores.
@@ -43,3 +43,12 @@ def to_decimal(n: int) -> str:
     if n.bit_length() < _SMALL_BITS:
         return str(int(n))
     return str(gmpy2.mpz(n))
+
+
+def show(n: int) -> str:
+    """A number for a message: in full when short, else its ends and its digit count."""
+    text = to_decimal(n)
+    digits = len(text.lstrip("-"))
+    if digits <= 60:
+        return text
+    return f"{text[:20]}...{text[-10:]} ({digits} digits)"

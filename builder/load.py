@@ -11,6 +11,7 @@ recurses and crashes on a deeply nested document).
 
 from __future__ import annotations
 
+import os
 import re
 from collections.abc import Iterator
 from dataclasses import dataclass, field
@@ -32,6 +33,8 @@ __all__ = [
     "Sequence",
     "load_catalogue",
     "parse_yaml",
+    "read_file",
+    "scan_catalogue",
 ]
 
 #: Entry ids are file stems: lowercase letters, digits and hyphens.
@@ -103,6 +106,30 @@ def _problem(path: Path, line: int, column: int, message: str, code: str) -> Pro
     return Problem(Position(path, line, column), message, code)
 
 
+_SCALAR = yaml.ScalarEvent
+_MAPPING_START = yaml.MappingStartEvent
+_MAPPING_END = yaml.MappingEndEvent
+_SEQUENCE_START = yaml.SequenceStartEvent
+_SEQUENCE_END = yaml.SequenceEndEvent
+_ALIAS = yaml.AliasEvent
+_DOCUMENT_START = yaml.DocumentStartEvent
+_STREAM_END = yaml.StreamEndEvent
+
+
+def _decorations(event: Any, node: Node, path: Path, problems: list[Problem]) -> None:
+    """Report an anchor or an explicit tag on a node: catalogue files use neither."""
+    if event.anchor:
+        problems.append(
+            _problem(path, node.line, node.column, f"anchor &{event.anchor} is not allowed in catalogue files", "yaml")
+        )
+    if event.tag and event.tag != "!":
+        problems.append(
+            _problem(
+                path, node.line, node.column, f"explicit tag {event.tag} is not allowed in catalogue files", "yaml"
+            )
+        )
+
+
 def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
     """Parse one YAML document into nodes; return (root or None, problems)."""
     problems: list[Problem] = []
@@ -123,108 +150,114 @@ def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
         )
         return None, problems
     parser = _Loader(text)
+    get_event = parser.get_event
     root: Node | None = None
-    # Each open container with, for mappings, the key awaiting its value.
-    stack: list[list[Any]] = []
+    # The open container, whether it is a mapping, the key awaiting its value
+    # and whether that value is to be dropped (after a bad or repeated key);
+    # the enclosing containers' states are saved on the stack.  Kept in
+    # locals because this loop runs once per YAML event of every file.
+    container: Any = None
+    is_map = False
+    key: Scalar | None = None
+    drop = False
+    stack: list[tuple[Any, bool, Scalar | None, bool]] = []
     documents = 0
     # An alias stands in the tree as an empty placeholder; checking the tree
     # would then report things about a value nobody wrote, so a file with an
     # alias yields no tree (its problems say why).
     aliased = False
-
-    def add(node: Node) -> None:
-        nonlocal root
-        if not stack:
-            root = node
-            return
-        top = stack[-1]
-        container = top[0]
-        if isinstance(container, Sequence):
-            container.items.append(node)
-        elif top[1] is None:
-            if not isinstance(node, Scalar):
-                problems.append(
-                    _problem(path, node.line, node.column, f"expected a plain text key, got a {node.kind()}", "yaml")
-                )
-                top[1] = Scalar("", True, node.line, node.column)
-                top[2] = True
-            else:
-                top[1] = node
-                top[2] = False
-                first = container.entries.get(node.value)
-                if first is not None:
-                    problems.append(
-                        _problem(
-                            path,
-                            node.line,
-                            node.column,
-                            f"duplicate key '{node.value}' (first given at line {first[0].line})",
-                            "duplicate-key",
-                        )
-                    )
-                    top[2] = True
-        else:
-            key = top[1]
-            if not top[2]:
-                container.entries[key.value] = (key, node)
-            top[1] = None
-
     try:
         while True:
-            event = parser.get_event()
-            if event is None or isinstance(event, yaml.StreamEndEvent):
-                break
-            mark = event.start_mark
-            line, column = mark.line + 1, mark.column + 1
-            if isinstance(event, yaml.ScalarEvent):
-                node: Node = Scalar(event.value, not event.style, line, column)
-            elif isinstance(event, yaml.SequenceStartEvent):
-                node = Sequence(line, column)
-            elif isinstance(event, yaml.MappingStartEvent):
-                node = Mapping(line, column)
-            elif isinstance(event, yaml.CollectionEndEvent):
-                stack.pop()
+            event = get_event()
+            cls = type(event)
+            if cls is _SCALAR:
+                mark = event.start_mark
+                node: Node = Scalar(event.value, not event.style, mark.line + 1, mark.column + 1)
+                if event.anchor is not None or event.tag is not None:
+                    _decorations(event, node, path, problems)
+            elif cls is _MAPPING_END or cls is _SEQUENCE_END:
+                container, is_map, key, drop = stack.pop()
                 continue
-            elif isinstance(event, yaml.AliasEvent):
+            elif cls is _MAPPING_START or cls is _SEQUENCE_START:
+                mark = event.start_mark
+                node = (Mapping if cls is _MAPPING_START else Sequence)(mark.line + 1, mark.column + 1)
+                if event.anchor is not None or event.tag is not None:
+                    _decorations(event, node, path, problems)
+            elif cls is _ALIAS:
+                mark = event.start_mark
                 problems.append(
                     _problem(
                         path,
-                        line,
-                        column,
+                        mark.line + 1,
+                        mark.column + 1,
                         f"expected a value, got the alias *{event.anchor}; "
                         "anchors and aliases are not allowed in catalogue files",
                         "yaml",
                     )
                 )
-                add(Scalar("", False, line, column))
+                node = Scalar("", False, mark.line + 1, mark.column + 1)
                 aliased = True
-                continue
-            elif isinstance(event, yaml.DocumentStartEvent):
+            elif cls is _DOCUMENT_START:
                 documents += 1
                 if documents > 1:
-                    problems.append(_problem(path, line, column, "expected one YAML document, got several", "yaml"))
+                    mark = event.start_mark
+                    problems.append(
+                        _problem(
+                            path, mark.line + 1, mark.column + 1, "expected one YAML document, got several", "yaml"
+                        )
+                    )
                     break
                 continue
+            elif cls is _STREAM_END or event is None:
+                break
             else:
                 continue
-            if getattr(event, "anchor", None):
-                problems.append(
-                    _problem(path, line, column, f"anchor &{event.anchor} is not allowed in catalogue files", "yaml")
-                )
-            if getattr(event, "tag", None) and event.tag != "!":
-                problems.append(
-                    _problem(path, line, column, f"explicit tag {event.tag} is not allowed in catalogue files", "yaml")
-                )
-            add(node)
-            if not isinstance(node, Scalar):
+            # Attach the node to the open container.
+            if container is None:
+                root = node
+            elif not is_map:
+                container.items.append(node)
+            elif key is None:
+                if type(node) is not Scalar:
+                    problems.append(
+                        _problem(
+                            path, node.line, node.column, f"expected a plain text key, got a {node.kind()}", "yaml"
+                        )
+                    )
+                    key = Scalar("", True, node.line, node.column)
+                    drop = True
+                else:
+                    key = node
+                    first = container.entries.get(node.value)
+                    drop = first is not None
+                    if drop:
+                        problems.append(
+                            _problem(
+                                path,
+                                node.line,
+                                node.column,
+                                f"duplicate key '{node.value}' (first given at line {first[0].line})",
+                                "duplicate-key",
+                            )
+                        )
+            else:
+                if not drop:
+                    container.entries[key.value] = (key, node)
+                key = None
+            if cls is _MAPPING_START or cls is _SEQUENCE_START:
                 if len(stack) >= MAX_DEPTH:
                     problems.append(
                         _problem(
-                            path, line, column, f"expected at most {MAX_DEPTH} levels of nesting, got more", "yaml"
+                            path,
+                            node.line,
+                            node.column,
+                            f"expected at most {MAX_DEPTH} levels of nesting, got more",
+                            "yaml",
                         )
                     )
                     return None, problems
-                stack.append([node, None, False])
+                stack.append((container, is_map, key, drop))
+                container, is_map, key, drop = node, cls is _MAPPING_START, None, False
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
         reason = exc.problem or exc.context or "invalid YAML"
@@ -247,20 +280,35 @@ def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
 
 @dataclass(slots=True)
 class RawFile:
-    """One catalogue file as loaded: its kind, id and parsed root node (None if unparsable)."""
+    """One catalogue file: its kind and id, and once parsed its root node and problems.
+
+    ``problems`` is None until the file has been parsed; ``root`` is None
+    when it could not be (or holds no document).
+    """
 
     path: Path
     kind: str  # "map", "cycle" or "references"
     id: str
     folder: str | None  # for cycles, the map folder the file sits in
-    root: Node | None
+    root: Node | None = None
+    problems: list[Problem] | None = None
 
 
 @dataclass(slots=True)
 class RawCatalogue:
+    """The files of a catalogue directory, and the problems with its layout."""
+
     root: Path
     files: list[RawFile] = field(default_factory=list)
-    problems: list[Problem] = field(default_factory=list)
+    layout_problems: list[Problem] = field(default_factory=list)
+
+    @property
+    def problems(self) -> list[Problem]:
+        """Layout problems, then those of every file parsed so far."""
+        out = list(self.layout_problems)
+        for f in self.files:
+            out.extend(f.problems or ())
+        return out
 
     def of_kind(self, kind: str) -> Iterator[RawFile]:
         return (f for f in self.files if f.kind == kind)
@@ -284,16 +332,36 @@ def _read_text(path: Path, problems: list[Problem]) -> str | None:
         return None
 
 
+def read_file(file: RawFile) -> tuple[Node | None, list[Problem]]:
+    """Return the file's root node and problems, parsing it now unless already parsed.
+
+    Nothing is cached: a caller that streams through a large catalogue keeps
+    only the file at hand alive.
+    """
+    if file.problems is not None:
+        return file.root, file.problems
+    problems: list[Problem] = []
+    text = _read_text(file.path, problems)
+    if text is None:
+        return None, problems
+    node, found = parse_yaml(text, file.path)
+    problems.extend(found)
+    return node, problems
+
+
 def _entry_files(folder: Path, what: str, problems: list[Problem]) -> Iterator[tuple[str, Path]]:
     """Yield (id, path) for each ``<id>.yaml`` in folder, reporting anything else there."""
-    for path in sorted(folder.iterdir()):
-        name = path.name
+    with os.scandir(folder) as listing:
+        entries = sorted(listing, key=lambda e: e.name)
+    for entry in entries:
+        name = entry.name
         if name.startswith("."):
             continue  # .gitkeep and editor files
-        if path.is_symlink():
+        path = folder / name
+        if entry.is_symlink():
             problems.append(_problem(path, 0, 0, "expected a regular file, got a symbolic link", "layout"))
             continue
-        if not path.is_file():
+        if not entry.is_file():
             problems.append(
                 _problem(path, 0, 0, f"expected only {what} files (<id>.yaml) here, got a folder", "layout")
             )
@@ -317,11 +385,11 @@ def _entry_files(folder: Path, what: str, problems: list[Problem]) -> Iterator[t
         yield stem, path
 
 
-def load_catalogue(root: Path) -> RawCatalogue:
-    """Read every file of the catalogue at ``root``.
+def scan_catalogue(root: Path) -> RawCatalogue:
+    """List the files of the catalogue at ``root`` without parsing them.
 
     Raises CatalogueUnreadable if ``root`` is not a catalogue directory; every
-    problem with individual files is collected in the result instead.
+    problem with the layout (bad names, links, stray folders) is collected.
     """
     if not root.is_dir():
         raise CatalogueUnreadable(
@@ -331,40 +399,46 @@ def load_catalogue(root: Path) -> RawCatalogue:
     if not maps_dir.is_dir() or maps_dir.is_symlink():
         raise CatalogueUnreadable(root, "expected a catalogue directory with a maps/ folder, got none")
     raw = RawCatalogue(root)
-    problems = raw.problems
-
-    def add(path: Path, kind: str, entry_id: str, folder: str | None) -> None:
-        text = _read_text(path, problems)
-        node = None
-        if text is not None:
-            node, found = parse_yaml(text, path)
-            problems.extend(found)
-        raw.files.append(RawFile(path, kind, entry_id, folder, node))
-
+    problems = raw.layout_problems
     refs = root / "references.yaml"
     if refs.is_symlink():
         problems.append(_problem(refs, 0, 0, "expected a regular file, got a symbolic link", "layout"))
     elif refs.is_file():
-        add(refs, "references", "references", None)
+        raw.files.append(RawFile(refs, "references", "references", None))
     for map_id, path in _entry_files(maps_dir, "map", problems):
-        add(path, "map", map_id, None)
+        raw.files.append(RawFile(path, "map", map_id, None))
     cycles_dir = root / "cycles"
     if cycles_dir.is_symlink():
         problems.append(_problem(cycles_dir, 0, 0, "expected a folder, got a symbolic link", "layout"))
     elif cycles_dir.is_dir():
-        for folder in sorted(cycles_dir.iterdir()):
-            if folder.name.startswith("."):
+        with os.scandir(cycles_dir) as listing:
+            folders = sorted(listing, key=lambda e: e.name)
+        for entry in folders:
+            if entry.name.startswith("."):
                 continue
-            if folder.is_symlink() or not folder.is_dir():
+            folder = cycles_dir / entry.name
+            if entry.is_symlink() or not entry.is_dir():
                 problems.append(
                     _problem(folder, 0, 0, "expected a folder named after a map id, got a file or link", "layout")
                 )
                 continue
-            if ID_PATTERN.fullmatch(folder.name) is None:
+            if ID_PATTERN.fullmatch(entry.name) is None:
                 problems.append(
-                    _problem(folder, 0, 0, f"expected a folder named after a map id, got '{folder.name}'", "bad-id")
+                    _problem(folder, 0, 0, f"expected a folder named after a map id, got '{entry.name}'", "bad-id")
                 )
                 continue
             for cycle_id, path in _entry_files(folder, "cycle", problems):
-                add(path, "cycle", cycle_id, folder.name)
+                raw.files.append(RawFile(path, "cycle", cycle_id, entry.name))
+    return raw
+
+
+def load_catalogue(root: Path) -> RawCatalogue:
+    """Scan the catalogue at ``root`` and parse every file (the whole raw layer in memory).
+
+    Raises CatalogueUnreadable if ``root`` is not a catalogue directory; every
+    problem with individual files is collected in the result instead.
+    """
+    raw = scan_catalogue(root)
+    for file in raw.files:
+        file.root, file.problems = read_file(file)
     return raw

@@ -12,7 +12,7 @@ from __future__ import annotations
 import datetime as _dt
 import difflib
 import re
-from collections.abc import Callable
+from collections.abc import Callable, Collection
 from dataclasses import dataclass
 from pathlib import Path
 from types import MappingProxyType
@@ -22,8 +22,8 @@ import yaml.resolver
 
 from .dynamics import AffineMap, CycleFound, EntersCycle, Unresolved, branch_defects, cycle_equation, trace
 from .errors import KeyPath, Position, Problem, format_key_path
-from .integers import DECIMAL_INTEGER, parse_decimal, to_decimal
-from .load import ID_PATTERN, Mapping, Node, RawCatalogue, RawFile, Scalar, Sequence, load_catalogue
+from .integers import DECIMAL_INTEGER, parse_decimal, show
+from .load import ID_PATTERN, Mapping, Node, RawCatalogue, RawFile, Scalar, Sequence, read_file, scan_catalogue
 from .model import Catalogue, Cycle, MapEntry, Provenance, Reference, Report, word_text
 from .words import is_rotation, least_period
 
@@ -56,15 +56,6 @@ def short(text: str, keep: int = 48) -> str:
     if len(text) <= keep:
         return text
     return f"{text[: keep // 2]}...{text[-12:]} ({len(text)} characters)"
-
-
-def show(n: int) -> str:
-    """A number for a message: in full when short, else its ends and its digit count."""
-    text = to_decimal(n)
-    digits = len(text.lstrip("-"))
-    if digits <= 60:
-        return text
-    return f"{text[:20]}...{text[-10:]} ({digits} digits)"
 
 
 def _yaml_type(node: Scalar) -> str:
@@ -136,8 +127,9 @@ class _Doc:
         return found
 
     def integer(self, node: Node, key_path: KeyPath) -> int | None:
-        if isinstance(node, Scalar) and node.plain and DECIMAL_INTEGER.fullmatch(node.value):
-            return parse_decimal(node.value)
+        if type(node) is Scalar and node.plain and DECIMAL_INTEGER.fullmatch(node.value):
+            # Checked decimal text: short values take the plain int path at once.
+            return int(node.value) if len(node.value) < 1000 else parse_decimal(node.value)
         got = describe(node)
         hint = ""
         if isinstance(node, Scalar):
@@ -202,13 +194,14 @@ class _Doc:
             return None
         return value
 
-    def reference_keys(self, node: Node, key_path: KeyPath, references: dict[str, Reference]) -> list[str] | None:
+    def reference_keys(self, node: Node, key_path: KeyPath, known: Collection[str] | None) -> list[str] | None:
+        """A list of reference keys, each of which must be in ``known`` (None: references.yaml unusable)."""
         keys = self.listing(node, key_path, self.ident)
         if keys is None:
             return None
         assert isinstance(node, Sequence)
         for i, key in enumerate(keys):
-            if key not in references:
+            if known is not None and key not in known:
                 self.error(
                     node.items[i],
                     key_path + (i,),
@@ -225,7 +218,9 @@ class _Doc:
                 return None
             for i, r in enumerate(residues):
                 if not 0 <= r < modulus:
-                    self.error(node.items[i], key_path + (i,), f"expected a residue 0..{modulus - 1}, got {show(r)}")
+                    self.error(
+                        node.items[i], key_path + (i,), f"expected a residue 0..{show(modulus - 1)}, got {show(r)}"
+                    )
                     return None
             if not residues:
                 self.error(node, key_path, "expected at least one residue, got an empty list")
@@ -246,7 +241,9 @@ class _Doc:
             return None
         if modulus > 10:
             self.error(
-                node, key_path, f"expected a list of residues (the modulus {modulus} is above 10), got {describe(node)}"
+                node,
+                key_path,
+                f"expected a list of residues (the modulus {show(modulus)} is above 10), got {describe(node)}",
             )
             return None
         value = self.text(node, key_path)
@@ -255,7 +252,9 @@ class _Doc:
         for i, ch in enumerate(value):
             if not ("0" <= ch <= "9" and int(ch) < modulus):
                 self.error(
-                    node, key_path, f"expected residue digits 0..{modulus - 1}, got '{short(ch)}' at position {i + 1}"
+                    node,
+                    key_path,
+                    f"expected residue digits 0..{show(modulus - 1)}, got '{short(ch)}' at position {i + 1}",
                 )
                 return None
         return tuple(map(int, value))
@@ -330,7 +329,7 @@ def _check_references(raw: RawFile, problems: list[Problem]) -> dict[str, Refere
 # --- maps ------------------------------------------------------------------
 
 
-def _check_map(raw: RawFile, references: dict[str, Reference], problems: list[Problem]) -> MapEntry | None:
+def _check_map(raw: RawFile, known: Collection[str] | None, problems: list[Problem]) -> MapEntry | None:
     doc = _Doc(raw.path, problems)
     if raw.root is None:
         return None
@@ -340,7 +339,7 @@ def _check_map(raw: RawFile, references: dict[str, Reference], problems: list[Pr
     name = doc.text(f["name"], ("name",), one_line=True) if "name" in f else None
     summary = doc.text(f["summary"], ("summary",), one_line=True) if "summary" in f else None
     notes = doc.text(f["notes"], ("notes",)) if "notes" in f else None
-    refs = doc.reference_keys(f["references"], ("references",), references) if "references" in f else []
+    refs = doc.reference_keys(f["references"], ("references",), known) if "references" in f else []
     modulus = doc.integer(f["modulus"], ("modulus",)) if "modulus" in f else None
     if modulus is not None and modulus < 2:
         doc.error(f["modulus"], ("modulus",), f"expected a modulus of at least 2, got {show(modulus)}")
@@ -358,6 +357,7 @@ def _check_branches(doc: _Doc, node: Node, modulus: int) -> tuple[tuple[int, int
         return None
     by_residue: dict[int, tuple[int, int]] = {}
     where: dict[int, Node] = {}
+    index: dict[int, int] = {}
     for i, item in enumerate(node.items):
         path: KeyPath = ("branches", i)
         f = doc.fields(item, path, "a branch", ("residue", "multiplier", "increment"), ())
@@ -369,39 +369,47 @@ def _check_branches(doc: _Doc, node: Node, modulus: int) -> tuple[tuple[int, int
         if residue is None or a is None or b is None:
             continue
         if not 0 <= residue < modulus:
-            doc.error(f["residue"], path + ("residue",), f"expected a residue 0..{modulus - 1}, got {show(residue)}")
+            doc.error(
+                f["residue"], path + ("residue",), f"expected a residue 0..{show(modulus - 1)}, got {show(residue)}"
+            )
             continue
         if residue in by_residue:
             doc.error(
                 item,
                 path,
-                f"expected one branch per residue, got a second branch for residue {residue} "
+                f"expected one branch per residue, got a second branch for residue {show(residue)} "
                 f"(first at line {where[residue].line})",
             )
             continue
         by_residue[residue] = (a, b)
         where[residue] = item
+        index[residue] = i
     if doc.failed:
         return None
-    missing = [r for r in range(modulus) if r not in by_residue]
-    if missing:
-        listed = ", ".join(map(str, missing[:10])) + (", ..." if len(missing) > 10 else "")
-        doc.error(node, ("branches",), f"expected one branch for each residue 0..{modulus - 1}, got none for {listed}")
+    if len(by_residue) < modulus:
+        # The modulus may be huge: look only as far as the first ten gaps.
+        missing: list[int] = []
+        r = 0
+        while len(missing) < 10 and r < modulus:
+            if r not in by_residue:
+                missing.append(r)
+            r += 1
+        more = modulus - len(by_residue) > len(missing)
+        listed = ", ".join(map(str, missing)) + (", ..." if more else "")
+        doc.error(
+            node, ("branches",), f"expected one branch for each residue 0..{show(modulus - 1)}, got none for {listed}"
+        )
         return None
     branches = tuple(by_residue[r] for r in range(modulus))
     for residue, reason in branch_defects(modulus, branches):
         assert residue >= 0, reason  # counts were checked above
         doc.error(
             where[residue],
-            ("branches", _index_of(node, where[residue])),
-            f"residue {residue}: {reason}",
+            ("branches", index[residue]),
+            f"residue {show(residue)}: {reason}",
             "ill-defined-map",
         )
     return None if doc.failed else branches
-
-
-def _index_of(node: Sequence, item: Node) -> int:
-    return next(i for i, child in enumerate(node.items) if child is item)
 
 
 # --- cycles ----------------------------------------------------------------
@@ -411,7 +419,7 @@ def _check_cycle(
     raw: RawFile,
     maps: dict[str, MapEntry],
     bad_maps: set[str],
-    references: dict[str, Reference],
+    known: Collection[str] | None,
     limits: Limits,
     problems: list[Problem],
 ) -> tuple[Cycle, Node, KeyPath] | None:
@@ -421,7 +429,7 @@ def _check_cycle(
     f = doc.fields(raw.root, (), "a cycle entry", ("map", "provenance"), ("start", "word", "length", "members"))
     if f is None:
         return None
-    provenance = _check_provenance(doc, f["provenance"], references) if "provenance" in f else None
+    provenance = _check_provenance(doc, f["provenance"], known) if "provenance" in f else None
     map_id = doc.ident(f["map"], ("map",)) if "map" in f else None
     if map_id is not None and map_id != raw.folder:
         doc.error(
@@ -455,7 +463,7 @@ def _check_cycle(
     return _derive(doc, raw, entry, f, start, word, length, members, provenance, limits)
 
 
-def _check_provenance(doc: _Doc, node: Node, references: dict[str, Reference]) -> Provenance | None:
+def _check_provenance(doc: _Doc, node: Node, known: Collection[str] | None) -> Provenance | None:
     path: KeyPath = ("provenance",)
     f = doc.fields(node, path, "the provenance", ("found_by", "found_on", "method"), ("references", "notes"))
     if f is None:
@@ -463,7 +471,7 @@ def _check_provenance(doc: _Doc, node: Node, references: dict[str, Reference]) -
     found_by = doc.text(f["found_by"], path + ("found_by",), one_line=True) if "found_by" in f else None
     found_on = doc.date(f["found_on"], path + ("found_on",)) if "found_on" in f else None
     method = doc.text(f["method"], path + ("method",)) if "method" in f else None
-    refs = doc.reference_keys(f["references"], path + ("references",), references) if "references" in f else []
+    refs = doc.reference_keys(f["references"], path + ("references",), known) if "references" in f else []
     notes = doc.text(f["notes"], path + ("notes",)) if "notes" in f else None
     if found_by is None or found_on is None or method is None or refs is None:
         return None
@@ -485,18 +493,12 @@ def _derive(
     """Re-derive the cycle from its start (or its word) and compare every claim."""
     mapping = entry.dynamics
     m = mapping.modulus
-    if word is not None:
-        period = least_period(word)
-        if period < len(word):
-            unit = word_text(word[:period], m)
-            doc.error(
-                f["word"],
-                ("word",),
-                f"expected an aperiodic word (a cycle's word is its least period), got {short(word_text(word, m))}, "
-                f"which is {short(unit)} repeated {len(word) // period} times; write {short(unit)}",
-                "periodic-word",
-            )
-            return None
+    periodic = word is not None and least_period(word) < len(word)
+    if periodic and start is None:
+        # The word is all there is: a repeated word names no cycle of its own.
+        assert word is not None
+        _periodic_word(doc, f["word"], word, m)
+        return None
     start_node = f["start"] if "start" in f else f["word"]
     if start is None:
         assert word is not None and "start" not in f
@@ -511,12 +513,14 @@ def _derive(
             return None
         num, den = equation.start()
         if den != 1:
+            fraction = f"{show(equation.offset)} / {show(equation.target)}"
+            if (num, den) != (equation.offset, equation.target):
+                fraction += f" = {show(num)}/{show(den)}"
             doc.error(
                 start_node,
                 ("word",),
                 f"expected a word with an integer cycle, got one whose cycle equation gives "
-                f"n = B / (m^k - A) = {show(equation.offset)} / {show(equation.target)} = {show(num)}/{show(den)}, "
-                "not an integer",
+                f"n = B / (m^k - A) = {fraction}, not an integer",
                 "no-integer-cycle",
             )
             return None
@@ -545,7 +549,8 @@ def _derive(
         return None
     if isinstance(outcome, Unresolved):
         if outcome.reason == "steps":
-            why = f"did not return or repeat within {limits.max_steps} steps (raise --max-steps to look further)"
+            steps = "1 step" if limits.max_steps == 1 else f"{limits.max_steps} steps"
+            why = f"did not return or repeat within {steps} (raise --max-steps to look further)"
         else:
             why = (
                 f"grew past {outcome.bits} bits after {outcome.steps} steps without returning "
@@ -561,7 +566,13 @@ def _derive(
     # found a cycle, so disagreement means a bug in Periplus, not bad data.
     if equation.target * start != equation.offset:
         raise AssertionError(f"cycle equation disagrees with iteration for start {show(start)} in {raw.path}")
-    if word is not None and word != derived_word:
+    if periodic and word != derived_word:
+        # A primitive cycle's word is aperiodic except for maps whose composed
+        # slope is -1 (T(n) = -n on a class gives the 2-cycle 2, -2 with word 00),
+        # so a repeated word is refused only when it is not what the orbit gives.
+        assert word is not None
+        _periodic_word(doc, f["word"], word, m)
+    elif word is not None and word != derived_word:
         hint = " (a rotation of it: the word is read from the start)" if is_rotation(word, derived_word) else ""
         doc.error(
             f["word"],
@@ -619,9 +630,22 @@ def _derive(
     return cycle, start_node, key
 
 
+def _periodic_word(doc: _Doc, node: Node, word: tuple[int, ...], modulus: int) -> None:
+    period = least_period(word)
+    unit = word_text(word[:period], modulus)
+    doc.error(
+        node,
+        ("word",),
+        f"expected an aperiodic word (a cycle's word is its least period), got {short(word_text(word, modulus))}, "
+        f"which is {short(unit)} repeated {len(word) // period} times; write {short(unit)}",
+        "periodic-word",
+    )
+
+
 def _canonical_index(members: tuple[int, ...]) -> int:
     """Index of the member of least absolute value, the positive one on a tie."""
-    return min(range(len(members)), key=lambda i: (abs(members[i]), members[i] < 0))
+    least = min(map(abs, members))
+    return members.index(least) if least in members else members.index(-least)
 
 
 def _standard_length(mapping: AffineMap, k: int, counts: list[int]) -> int | None:
@@ -645,36 +669,56 @@ def _standard_length(mapping: AffineMap, k: int, counts: list[int]) -> int | Non
 
 
 def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
-    """Verify loaded files; return the verified model and every problem."""
-    problems = list(raw.problems)
-    # A file with no YAML document at all (empty, or only comments) parses
-    # to no node and no problem; it must not pass unnoticed.
-    reported = {p.position.file for p in raw.problems}
-    for file in raw.files:
-        if file.root is None and file.path not in reported:
+    """Verify a catalogue's files; return the verified model and every problem.
+
+    Files not yet parsed are parsed one at a time and dropped once checked,
+    so memory holds the model, not every file's node tree.
+    """
+    problems = list(raw.layout_problems)
+
+    def parsed(file: RawFile) -> tuple[RawFile, bool]:
+        """The file with its nodes, and whether the loader found fault with it."""
+        root, found = read_file(file)
+        problems.extend(found)
+        if root is None and not found:
+            # No YAML document at all (empty, or only comments): it must not pass unnoticed.
             problems.append(
                 Problem(Position(file.path), f"expected {_WHAT[file.kind]}, got an empty file", "empty-file")
             )
-    references: dict[str, Reference] = {}
+        return RawFile(file.path, file.kind, file.id, file.folder, root, found), bool(found)
+
     # A file the loader found fault with (a duplicate key, an anchor, a tag, a
     # second document) still has its fields checked, but nothing from it
     # reaches the model: its tree may not be what its author meant.
+    references: dict[str, Reference] = {}
+    # Keys that entries may cite: those of the valid references, or, when
+    # references.yaml has problems of its own, every key it lists (None if it
+    # could not be read at all), so that its faults are not blamed on every
+    # entry that cites it.
+    known: Collection[str] | None = references
     for file in raw.of_kind("references"):
+        before = len(problems)
+        file, faulted = parsed(file)
         references = _check_references(file, problems)
-        if file.path in reported:
+        known = references
+        if len(problems) > before:
+            known = set(file.root.entries) if isinstance(file.root, Mapping) else None
+        if faulted:
             references = {}
     maps: dict[str, MapEntry] = {}
     bad_maps: set[str] = set()
     for file in raw.of_kind("map"):
-        entry = _check_map(file, references, problems)
-        if entry is None or file.path in reported:
+        file, faulted = parsed(file)
+        entry = _check_map(file, known, problems)
+        if entry is None or faulted:
             bad_maps.add(file.id)
         else:
             maps[entry.id] = entry
     by_map: dict[str, dict[int, Cycle]] = {}
     for file in raw.of_kind("cycle"):
-        result = _check_cycle(file, maps, bad_maps, references, limits, problems)
-        if result is None or file.path in reported:
+        file, faulted = parsed(file)
+        result = _check_cycle(file, maps, bad_maps, known, limits, problems)
+        if result is None or faulted:
             continue
         cycle, node, key = result
         seen = by_map.setdefault(cycle.map_id, {})
@@ -708,4 +752,4 @@ def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
 
 def verify_catalogue(root: Path, limits: Limits = Limits()) -> Report:
     """Load and verify the catalogue at root (raises CatalogueUnreadable if it is not one)."""
-    return verify_raw(load_catalogue(root), limits)
+    return verify_raw(scan_catalogue(root), limits)

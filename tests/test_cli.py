@@ -179,7 +179,7 @@ EXACT = [
         "no-integer-cycle",
         # Along 11100: n -> (27n+19)/32, so 5n = 19 (fact of the trade; Lagarias 1990 Thm 2.1 via literature.md).
         "cycles/3x-plus-1/word-11100.yaml:2:7: error: word: expected a word with an integer cycle, got one whose "
-        "cycle equation gives n = B / (m^k - A) = 19 / 5 = 19/5, not an integer",
+        "cycle equation gives n = B / (m^k - A) = 19 / 5, not an integer",
     ),
     (
         "wrong-length",

@@ -1,0 +1,91 @@
+"""Edge cases of verification: degenerate maps, huge constants, broken bibliographies."""
+
+from __future__ import annotations
+
+import sys
+
+from conftest import PROVENANCE
+
+MAP_HEADER = "name: m\nsummary: s\n"
+
+
+def map_file(modulus: int | str, branches: list[tuple[object, object, object]]) -> str:
+    rows = "".join(f"  - {{residue: {r}, multiplier: {a}, increment: {b}}}\n" for r, a, b in branches)
+    return f"{MAP_HEADER}modulus: {modulus}\nbranches:\n{rows}"
+
+
+def test_periodic_word_of_a_real_cycle_is_accepted_when_the_slope_is_minus_one(cli, catalogue):
+    # T(n) = -n on even n (branch (-2, 0) over 2) sends 2 to -2 and back: a genuine 2-cycle
+    # whose word 00 is periodic. Composing the branch twice has slope (-2/2)^2 = 1, so the
+    # cycle equation is degenerate (m^k - A = 0, B = 0); common practice, no source.
+    root = catalogue(
+        empty=True,
+        files={
+            "maps/flip.yaml": map_file(2, [(0, -2, 0), (1, 3, 1)]),
+            "cycles/flip/2.yaml": f'map: flip\nstart: 2\nword: "00"\nmembers: [2, -2]\n{PROVENANCE}',
+        },
+    )
+    run = cli("verify", str(root))
+    assert run.code == 0, run.out
+    assert run.lines[-1] == "verified 1 map, 1 cycle and 0 references in 2 files: every claim holds"
+
+
+def test_periodic_word_without_a_start_is_refused_even_when_degenerate(cli, catalogue):
+    # Same map: the word 00 alone fixes no start (m^k - A = 4 - 4 = 0); common practice, no source.
+    root = catalogue(
+        empty=True,
+        files={
+            "maps/flip.yaml": map_file(2, [(0, -2, 0), (1, 3, 1)]),
+            "cycles/flip/w.yaml": f'map: flip\nword: "00"\n{PROVENANCE}',
+        },
+    )
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert run.lines[0] == (
+        f"{root}/cycles/flip/w.yaml:2:7: error: word: expected an aperiodic word (a cycle's word is its least "
+        "period), got 00, which is 0 repeated 2 times; write 0"
+    )
+
+
+def test_huge_modulus_is_reported_without_enumerating_its_residues(cli, catalogue):
+    # A modulus of 5,001 digits with two branches: the message abbreviates it and lists the
+    # first missing residues (the check must not walk all 10^5000 of them).
+    modulus = "1" + "0" * 5000
+    root = catalogue(empty=True, files={"maps/big.yaml": map_file(modulus, [(0, 1, 0), (1, 3, 1)])})
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert run.lines[0] == (
+        f"{root}/maps/big.yaml:5:3: error: branches: expected one branch for each residue "
+        "0..99999999999999999999...9999999999 (5000 digits), got none for 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, ..."
+    )
+    assert sys.get_int_max_str_digits() in (0, 4300)  # untouched by Periplus (CPython's default is 4300)
+
+
+def test_huge_ill_defined_increment_is_abbreviated(cli, catalogue):
+    # 3 * 1 + b must be even; b = 10^5000 (even) breaks that. Common practice, no source.
+    b = "1" + "0" * 5000
+    root = catalogue(empty=True, files={"maps/bad.yaml": map_file(2, [(0, 1, 0), (1, 3, b)])})
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert "Traceback" not in run.out + run.err
+    assert run.lines[0].startswith(f"{root}/maps/bad.yaml:6:5: error: branches[1]: residue 1: expected multiplier")
+    assert "(5001 digits)" in run.lines[0]
+
+
+def test_entries_citing_a_faulty_reference_are_not_blamed_for_it(cli, catalogue):
+    # The reference exists but has a bad year; only references.yaml is reported.
+    root = catalogue(
+        files={
+            "references.yaml": (
+                "lagarias-1985:\n  authors: [J. C. Lagarias]\n  title: t\n  venue: v\n  year: '1985'\n"
+                "lagarias-1990:\n  authors: [J. C. Lagarias]\n  title: t\n  venue: v\n  year: 1990\n"
+            )
+        }
+    )
+    run = cli("verify", str(root))
+    assert run.code == 1
+    problems = run.lines[:-1]
+    assert problems == [
+        f"{root}/references.yaml:5:9: error: lagarias-1985.year: expected an integer, got the quoted text "
+        "'1985'; write it without quotes"
+    ]
