@@ -149,7 +149,23 @@ def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
             )
         )
         return None, problems
-    parser = _Loader(text)
+    try:
+        return _parse_events(text, path, _Loader, problems)
+    except _DepthLimit:
+        # Newer libyaml builds stop at their own nesting limit while scanning
+        # ahead, before this loader sees the level it refuses at.  PyYAML's
+        # pure-Python parser has no such limit (and no recursion), so the
+        # file is parsed again with it to give the same message and position
+        # whatever libyaml is installed.  Only deeply nested files pay for it.
+        return _parse_events(text, path, yaml.SafeLoader, [])
+
+
+class _DepthLimit(Exception):
+    """libyaml refused the nesting depth before the loader's own limit was reached."""
+
+
+def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) -> tuple[Node | None, list[Problem]]:
+    parser = loader(text)
     get_event = parser.get_event
     root: Node | None = None
     # The open container, whether it is a mapping, the key awaiting its value
@@ -263,6 +279,8 @@ def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
         reason = exc.problem or exc.context or "invalid YAML"
         if exc.context and exc.problem:
             reason = f"{exc.context}: {exc.problem}"
+        if "nesting depth" in reason and loader is not yaml.SafeLoader:
+            raise _DepthLimit from exc
         line, column = (mark.line + 1, mark.column + 1) if mark else (0, 0)
         rows = text.split("\n")
         row = rows[line - 1] if 0 < line <= len(rows) else ""
