@@ -8,8 +8,10 @@ from collections.abc import Sequence
 from pathlib import Path
 
 from . import __version__
-from .errors import PeriplusError
+from .build import build_site
+from .errors import PeriplusError, UsageError
 from .model import Report
+from .preview import serve
 from .verify import DEFAULT_MAX_STEPS, Limits, verify_catalogue
 
 __all__ = ["main"]
@@ -47,6 +49,34 @@ def _parser() -> argparse.ArgumentParser:
         help="catalogue directory (default: catalogue)",
     )
     _add_limits(verify)
+    build = commands.add_parser(
+        "build",
+        help="verify the catalogue, then write the website",
+        description="Verify CATALOGUE exactly; if every claim holds, write the static site to DIR in one step "
+        "(built beside it, then swapped in). If anything fails, nothing is written and the problems are printed. "
+        "Exit 0 on success, 1 when an entry fails, 2 for usage errors.",
+    )
+    build.add_argument(
+        "catalogue",
+        nargs="?",
+        default="catalogue",
+        type=Path,
+        metavar="CATALOGUE",
+        help="catalogue directory (default: catalogue)",
+    )
+    build.add_argument("--out", default="site", type=Path, metavar="DIR", help="where the site goes (default: site)")
+    build.add_argument(
+        "--base-url",
+        default=None,
+        metavar="URL",
+        help="address the site will be published at (absolute links in the feed, and sitemap.xml)",
+    )
+    _add_limits(build)
+    preview = commands.add_parser("preview", help="serve a built site on localhost for reading")
+    preview.add_argument(
+        "site", nargs="?", default="site", type=Path, metavar="DIR", help="the built site (default: site)"
+    )
+    preview.add_argument("--port", type=int, default=8000, help="port to listen on (default 8000; 0 picks a free one)")
     return parser
 
 
@@ -94,12 +124,31 @@ def _verify(args: argparse.Namespace) -> int:
     return 0 if report.ok else 1
 
 
+def _build(args: argparse.Namespace) -> int:
+    if args.base_url is not None and not args.base_url.startswith(("http://", "https://")):
+        raise UsageError(f"--base-url: expected an http or https address, got '{args.base_url}'")
+    result = build_site(args.catalogue, args.out, Limits(args.max_steps, args.max_bits), args.base_url)
+    for problem in result.report.problems:
+        print(problem)
+    print(summary(result.report))
+    if not result.report.ok:
+        print(f"nothing was written; {args.out} is as it was")
+        return 1
+    print(f"wrote {result.pages} pages to {args.out}")
+    return 0
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit status."""
     args = _parser().parse_args(argv)
     try:
         if args.command == "verify":
             return _verify(args)
+        if args.command == "build":
+            return _build(args)
+        if args.command == "preview":
+            serve(args.site, args.port)
+            return 0
         raise AssertionError(f"unhandled command {args.command}")
     except PeriplusError as exc:
         print(f"periplus: error: {exc}", file=sys.stderr)
