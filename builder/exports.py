@@ -1,0 +1,95 @@
+"""Machine-readable exports of the verified record: JSON, CSV, the search index, Atom, sitemap.
+
+Every text is produced deterministically (sorted keys, fixed formatting, no
+build time): the same catalogue always gives the same bytes.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import uuid
+from typing import Any
+from xml.sax.saxutils import escape, quoteattr
+
+from .views import RECORD_TITLE, SiteViews
+
+__all__ = ["CSV_COLUMNS", "atom_feed", "cycles_csv", "json_text", "search_index_js", "sitemap_xml"]
+
+CSV_COLUMNS = (
+    "map", "id", "canonical", "length", "word", "residue_counts", "min", "max", "A", "B", "target",
+    "standard_length", "found_by", "found_on", "url",
+)  # fmt: skip
+_FEED_NAMESPACE = uuid.UUID("6f1e3a52-8d1b-4c55-9a53-5c2f0e9b7d11")  # fixed, so entry ids never change
+
+
+def json_text(data: Any) -> str:
+    return json.dumps(data, ensure_ascii=False, indent=1, sort_keys=True) + "\n"
+
+
+def cycles_csv(views: SiteViews) -> str:
+    out = io.StringIO()
+    out.write(f"# {RECORD_TITLE}: every verified cycle, one per row; members are in data/catalogue.json\n")
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow(CSV_COLUMNS)
+    for r in views.cycle_records:
+        writer.writerow(
+            [
+                r["map"], r["id"], r["canonical"], r["length"], r["word"],
+                " ".join(map(str, r["residue_counts"])), r["min"], r["max"], r["A"], r["B"], r["target"],
+                "" if r["standard_length"] is None else r["standard_length"],
+                r["provenance"]["found_by"], r["provenance"]["found_on"], r["url"],
+            ]
+        )  # fmt: skip
+    return out.getvalue()
+
+
+def search_index_js(views: SiteViews) -> str:
+    """The search index as a script (pages opened from disk cannot fetch JSON)."""
+    data = json.dumps(views.search_index, ensure_ascii=True, sort_keys=True, separators=(",", ":"))
+    # No data may close the script element or open a comment inside it.
+    data = data.replace("<", "\\u003c").replace(">", "\\u003e").replace("&", "\\u0026")
+    return f"window.PERIPLUS_SEARCH = {data};\n"
+
+
+def _entry_id(*parts: str) -> str:
+    return f"urn:uuid:{uuid.uuid5(_FEED_NAMESPACE, '/'.join(parts))}"
+
+
+def atom_feed(views: SiteViews, base_url: str | None) -> str:
+    """An Atom feed (RFC 4287) of the cycles by found_on, newest first."""
+    entries = views.feed_entries
+    updated = f"{entries[0]['found_on']}T00:00:00Z" if entries else "1970-01-01T00:00:00Z"
+    base = f" xml:base={quoteattr(base_url)}" if base_url else ""
+    lines = [
+        '<?xml version="1.0" encoding="utf-8"?>',
+        f'<feed xmlns="http://www.w3.org/2005/Atom"{base}>',
+        f"  <title>{escape(RECORD_TITLE)}</title>",
+        f"  <id>{_entry_id('feed')}</id>",
+        f"  <updated>{updated}</updated>",
+        '  <link rel="alternate" type="text/html" href="index.html"/>',
+        '  <link rel="self" type="application/atom+xml" href="feed.xml"/>',
+        "  <author><name>The maintainers of the record</name></author>",
+        '  <generator uri="https://pypi.org/project/periplus/">Periplus</generator>',
+    ]
+    for e in entries:
+        lines += [
+            "  <entry>",
+            f"    <title>{escape(e['title'])}</title>",
+            f"    <id>{_entry_id('cycle', e['map'], e['cycle'])}</id>",
+            f"    <updated>{e['found_on']}T00:00:00Z</updated>",
+            f'    <link rel="alternate" type="text/html" href={quoteattr(e["url"])}/>',
+            f"    <author><name>{escape(e['found_by'])}</name></author>",
+            f"    <summary>{escape(e['summary'])}</summary>",
+            "  </entry>",
+        ]
+    lines.append("</feed>")
+    return "\n".join(lines) + "\n"
+
+
+def sitemap_xml(paths: list[str], base_url: str) -> str:
+    """A sitemaps.org sitemap; it needs absolute addresses, hence a base URL."""
+    base = base_url if base_url.endswith("/") else base_url + "/"
+    rows = "".join(f"  <url><loc>{escape(base + p)}</loc></url>\n" for p in sorted(paths))
+    return f'<?xml version="1.0" encoding="utf-8"?>\n<urlset xmlns="http://www.sitemaps.org/schemas/sitemap/0.9">\n{rows}</urlset>\n'

@@ -1,0 +1,105 @@
+"""Inline SVG pictures: the orbit of a cycle on a log scale, and its word as a strip.
+
+Coordinates are plotting only (floats never decide anything about a
+cycle); every number is formatted with a fixed precision so the output is
+byte-identical from build to build.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from html import escape
+
+__all__ = ["orbit_plot", "word_strip"]
+
+WIDTH, HEIGHT = 640, 240
+LEFT, RIGHT, TOP, BOTTOM = 56, 12, 12, 32
+MAX_POINTS = 1500  # longer orbits are drawn as the range of each run of steps
+STRIP_CELLS = 256
+# Residue colours: distinct in hue and lightness, each dark enough for 3:1 against white.
+PALETTE = ("#4a5d7e", "#c0692b", "#2e7d5b", "#8e3b72", "#7a6a1f", "#356f8a", "#a23b3b", "#5b5196", "#60753a", "#8a5a2e")
+
+
+def _log_size(n: int) -> float:
+    """log2 |n| (0 for n = 0 or +-1): the height of a member in the plot."""
+    return math.log2(abs(n)) if n not in (0, 1, -1) else 0.0
+
+
+def _fmt(v: float) -> str:
+    return f"{v:.1f}"
+
+
+def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> str:
+    """The size of each member, step by step, back to the start: a polyline on a log2 scale."""
+    values = [_log_size(n) for n in members] + [_log_size(members[0])]
+    steps = len(values) - 1
+    if len(values) > MAX_POINTS:
+        # Keep each bucket's extremes, so spikes survive the reduction.
+        size = math.ceil(len(values) / (MAX_POINTS // 2))
+        points = []
+        for lo in range(0, len(values), size):
+            chunk = values[lo : lo + size]
+            points.append((lo, min(chunk)))
+            points.append((lo + len(chunk) - 1, max(chunk)))
+    else:
+        points = list(enumerate(values))
+    top = max(values)
+    # Gridlines at whole powers of two, at most five of them.
+    tick = max(1, math.ceil(top / 4))
+    span = float(tick * max(1, math.ceil(top / tick)))
+    plot_w = WIDTH - LEFT - RIGHT
+    plot_h = HEIGHT - TOP - BOTTOM
+
+    def x(i: float) -> float:
+        return LEFT + plot_w * (i / steps if steps else 0.5)
+
+    def y(v: float) -> float:
+        return TOP + plot_h * (1 - v / span)
+
+    path = " ".join(f"{_fmt(x(i))},{_fmt(y(v))}" for i, v in points)
+    ticks = []
+    for j in range(int(span) // tick + 1):
+        v = float(j * tick)
+        ticks.append(
+            f'<line x1="{LEFT}" x2="{WIDTH - RIGHT}" y1="{_fmt(y(v))}" y2="{_fmt(y(v))}" stroke="#999" '
+            f'stroke-width="0.5" stroke-dasharray="2 3"/>'
+            f'<text x="{LEFT - 6}" y="{_fmt(y(v) + 4)}" text-anchor="end" font-size="11" fill="currentColor">'
+            f"2^{v:.0f}</text>"
+        )
+    sign = "negative " if members[0] < 0 else ""
+    desc = f"Size of the {sign}members on a log2 scale over the {steps} steps of the cycle, from 2^0 to 2^{top:.1f}."
+    marker = ""
+    if len(points) <= 200:
+        marker = "".join(f'<circle cx="{_fmt(x(i))}" cy="{_fmt(y(v))}" r="2.2" fill="#c0692b"/>' for i, v in points)
+    return (
+        f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {WIDTH} {HEIGHT}" width="{WIDTH}" height="{HEIGHT}" '
+        f'role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
+        f'<title id="{svg_id}-t">{escape(title)}</title><desc id="{svg_id}-d">{escape(desc)}</desc>'
+        f"{''.join(ticks)}"
+        f'<line x1="{LEFT}" x2="{WIDTH - RIGHT}" y1="{HEIGHT - BOTTOM}" y2="{HEIGHT - BOTTOM}" stroke="currentColor"/>'
+        f'<text x="{LEFT}" y="{HEIGHT - 8}" font-size="11" fill="currentColor">step 0</text>'
+        f'<text x="{WIDTH - RIGHT}" y="{HEIGHT - 8}" font-size="11" text-anchor="end" fill="currentColor">'
+        f"step {steps}</text>"
+        f'<polyline points="{path}" fill="none" stroke="#4a5d7e" stroke-width="1.6"/>{marker}</svg>'
+    )
+
+
+def word_strip(word: Sequence[int], modulus: int, title: str, svg_id: str) -> str:
+    """The word as a row of coloured cells, one per step (the first STRIP_CELLS steps)."""
+    shown = word[:STRIP_CELLS]
+    cell = max(2.0, min(24.0, 640 / max(len(shown), 1)))
+    width = cell * len(shown)
+    height = 28
+    rects = "".join(
+        f'<rect x="{_fmt(i * cell)}" y="0" width="{_fmt(cell)}" height="{height}" '
+        f'fill="{PALETTE[r % len(PALETTE)]}"><title>step {i}: residue {r}</title></rect>'
+        for i, r in enumerate(shown)
+    )
+    more = f" (the first {len(shown)} of {len(word)} steps)" if len(word) > len(shown) else ""
+    desc = f"One cell per step, coloured by the residue mod {modulus} of the member{more}."
+    return (
+        f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {_fmt(width)} {height}" width="{_fmt(width)}" '
+        f'height="{height}" role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
+        f'<title id="{svg_id}-t">{escape(title)}</title><desc id="{svg_id}-d">{escape(desc)}</desc>{rects}</svg>'
+    )

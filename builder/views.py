@@ -1,0 +1,606 @@
+"""Stage 3: the verified model as plain view objects, built once, for pages and exports.
+
+Every number is turned into text here (any size, through builder.integers),
+every relation is resolved to a link, and every piece of entry text that may
+hold Markdown is sanitised here; templates only place what they are given.
+The same records feed the pages and the machine-readable exports, so the
+two can never disagree.
+"""
+
+from __future__ import annotations
+
+import posixpath
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from typing import Any
+
+from markupsafe import Markup
+
+from .integers import to_decimal
+from .markup import render_notes
+from .mathml import cycle_equation_mathml, map_definition_mathml
+from .model import Catalogue, Cycle, MapEntry, Reference, word_text
+from .relations import Relations, find_relations, qx_plus_d
+from .svg import orbit_plot, word_strip
+
+__all__ = ["RECORD_TITLE", "Page", "SiteViews", "build_views", "cycle_url", "map_url"]
+
+RECORD_TITLE = "Cycles of Collatz-type maps"
+#: Cycles up to this length show every member on their page.
+MEMBERS_ON_PAGE = 1000
+HEAD_MEMBERS, TAIL_MEMBERS = 500, 100
+WORD_ON_PAGE = 4000
+RECENT = 12
+SAME_WORD_SHOWN = 12
+#: The search index lists up to this many members of each cycle.
+SEARCH_MEMBERS = 1000
+
+
+def map_url(map_id: str) -> str:
+    return f"maps/{map_id}/index.html"
+
+
+def cycle_url(map_id: str, cycle_id: str) -> str:
+    return f"maps/{map_id}/{cycle_id}/index.html"
+
+
+def length_url(k: int) -> str:
+    return f"lengths/{k}/index.html"
+
+
+@dataclass(frozen=True, slots=True)
+class Link:
+    label: str
+    url: str  # relative to the site root
+    note: str = ""
+
+
+@dataclass(slots=True)
+class Page:
+    """One HTML page: where it goes, which template draws it, and what it shows."""
+
+    path: str  # relative to the site root, e.g. maps/3x-plus-1/index.html
+    template: str
+    title: str
+    section: str  # which part of the navigation it belongs to
+    context: dict[str, Any] = field(default_factory=dict)
+    crumbs: tuple[Link, ...] = ()
+
+    @property
+    def root(self) -> str:
+        """The relative path from this page back to the site root ('' or '../..' style, with a slash)."""
+        depth = self.path.count("/")
+        return "../" * depth
+
+
+@dataclass(slots=True)
+class SiteViews:
+    pages: list[Page]
+    records: dict[str, Any]  # the whole verified record, JSON-ready (data/catalogue.json)
+    cycle_records: list[dict[str, Any]]  # one per cycle, in catalogue order
+    map_records: dict[str, dict[str, Any]]  # map id -> its record with its cycles (data/maps/<id>.json)
+    search_index: dict[str, Any]
+    feed_entries: list[dict[str, Any]]
+
+
+def _surname(author: str) -> str:
+    """The name without initials or a role: "T. Oliveira e Silva" -> "Oliveira e Silva"."""
+    words = [w for w in author.split() if not (w.endswith(".") and len(w) <= 3) and not w.startswith("(")]
+    return " ".join(words) or author
+
+
+def _reference_label(ref: Reference) -> str:
+    names = [_surname(a) for a in ref.authors]
+    who = names[0] if len(names) == 1 else (" and ".join(names) if len(names) == 2 else f"{names[0]} et al.")
+    return f"{who} ({ref.year})"
+
+
+def _reference_record(ref: Reference) -> dict[str, Any]:
+    return {
+        "key": ref.key,
+        "authors": list(ref.authors),
+        "title": ref.title,
+        "venue": ref.venue,
+        "year": ref.year,
+        "doi": ref.doi,
+        "url": ref.url,
+        "status": ref.status,
+        "note": ref.note,
+    }
+
+
+def _counts_text(entry: MapEntry, cycle: Cycle) -> str:
+    counts = cycle.residue_counts
+    if entry.modulus == 2:
+        return f"{counts[1]} odd, {counts[0]} even"
+    return ", ".join(f"{r}: {c}" for r, c in enumerate(counts) if c)
+
+
+def _factors(entry: MapEntry, cycle: Cycle) -> list[tuple[int, int]]:
+    """A = product of a_r^count_r, with equal multipliers merged, in order of residue."""
+    merged: dict[int, int] = {}
+    for (a, _), count in zip(entry.branches, cycle.residue_counts, strict=True):
+        if count:
+            merged[a] = merged.get(a, 0) + count
+    return list(merged.items())
+
+
+def _cycle_record(entry: MapEntry, cycle: Cycle, rel: Relations) -> dict[str, Any]:
+    key = (entry.id, cycle.id)
+    eq = cycle.equation
+    prov = cycle.provenance
+    return {
+        "map": entry.id,
+        "id": cycle.id,
+        "url": cycle_url(entry.id, cycle.id),
+        "canonical": to_decimal(cycle.canonical),
+        "length": cycle.length,
+        "word": word_text(cycle.canonical_word, entry.modulus),
+        "members": [to_decimal(n) for n in cycle.canonical_members],
+        "residue_counts": list(cycle.residue_counts),
+        "min": to_decimal(cycle.minimum),
+        "max": to_decimal(cycle.maximum),
+        "A": to_decimal(eq.multiplier),
+        "B": to_decimal(eq.offset),
+        "target": to_decimal(eq.target),
+        "standard_length": cycle.standard_length,
+        "shared_factor_with_increment": rel.shared_factor.get(key),
+        "start_in_entry": to_decimal(cycle.start),
+        "provenance": {
+            "found_by": prov.found_by,
+            "found_on": prov.found_on.isoformat(),
+            "method": prov.method,
+            "references": list(prov.references),
+            "notes": prov.notes,
+        },
+    }
+
+
+def _map_record(entry: MapEntry, cycles: list[dict[str, Any]], rel: Relations) -> dict[str, Any]:
+    return {
+        "id": entry.id,
+        "name": entry.name,
+        "url": map_url(entry.id),
+        "modulus": entry.modulus,
+        "branches": [
+            {"residue": i, "multiplier": to_decimal(a), "increment": to_decimal(b)}
+            for i, (a, b) in enumerate(entry.branches)
+        ],
+        "summary": entry.summary,
+        "notes": entry.notes,
+        "references": list(entry.references),
+        "mirror_map": rel.mirror_map.get(entry.id),
+        "cycles": cycles,
+    }
+
+
+def build_views(catalogue: Catalogue) -> SiteViews:
+    """Build every page's view and every export record from a verified catalogue."""
+    rel = find_relations(catalogue)
+    maps = catalogue.maps
+    records_by_key: dict[tuple[str, str], dict[str, Any]] = {}
+    cycle_records: list[dict[str, Any]] = []
+    for map_id, cycles in catalogue.cycles.items():
+        for cycle in cycles:
+            record = _cycle_record(maps[map_id], cycle, rel)
+            records_by_key[(map_id, cycle.id)] = record
+            cycle_records.append(record)
+    map_records = {
+        map_id: _map_record(entry, [records_by_key[(map_id, c.id)] for c in catalogue.cycles.get(map_id, ())], rel)
+        for map_id, entry in maps.items()
+    }
+    references = {key: _reference_record(ref) for key, ref in catalogue.references.items()}
+    builder = _PageBuilder(catalogue, rel, records_by_key, map_records)
+    pages = builder.all_pages()
+    whole = {
+        "format": "periplus-record",
+        "format_version": 1,
+        "title": RECORD_TITLE,
+        "note": "Every integer that belongs to a cycle is a decimal string; JSON numbers lose precision.",
+        "maps": [{k: v for k, v in record.items() if k != "cycles"} for record in map_records.values()],
+        "cycles": cycle_records,
+        "references": references,
+    }
+    search = {
+        "cycles": [
+            {
+                "map": r["map"],
+                "map_name": maps[r["map"]].name,
+                "cycle": r["id"],
+                "url": r["url"],
+                "length": r["length"],
+                "canonical": r["canonical"],
+                "word": r["word"],
+                "modulus": maps[r["map"]].modulus,
+                "members": r["members"][:SEARCH_MEMBERS],
+                "members_truncated": len(r["members"]) > SEARCH_MEMBERS,
+            }
+            for r in cycle_records
+        ]
+    }
+    feed = sorted(
+        (
+            {
+                "map": r["map"],
+                "cycle": r["id"],
+                "title": f"{maps[r['map']].name}: cycle through {r['canonical']}",
+                "url": r["url"],
+                "found_on": r["provenance"]["found_on"],
+                "found_by": r["provenance"]["found_by"],
+                "summary": f"A cycle of length {r['length']} of {maps[r['map']].name}, least |member| "
+                f"{r['canonical']}; found by {r['provenance']['found_by']}.",
+            }
+            for r in cycle_records
+        ),
+        key=lambda e: (e["found_on"], e["map"], e["cycle"]),
+        reverse=True,
+    )
+    return SiteViews(pages, whole, cycle_records, map_records, search, feed)
+
+
+class _PageBuilder:
+    def __init__(
+        self,
+        catalogue: Catalogue,
+        rel: Relations,
+        records: dict[tuple[str, str], dict[str, Any]],
+        map_records: dict[str, dict[str, Any]],
+    ) -> None:
+        self.cat = catalogue
+        self.rel = rel
+        self.records = records
+        self.map_records = map_records
+        self.cycles = {(map_id, c.id): c for map_id, cycles in catalogue.cycles.items() for c in cycles}
+        self.map_order = sorted(catalogue.maps, key=lambda map_id: _display_order(catalogue.maps[map_id]))
+
+    # -- links ---------------------------------------------------------------
+
+    def cycle_link(self, key: tuple[str, str], note: str = "") -> Link:
+        record = self.records[key]
+        name = self.cat.maps[key[0]].name
+        return Link(f"{name}: cycle through {record['canonical']}", record["url"], note)
+
+    def reference_links(self, keys: Iterable[str]) -> list[dict[str, Any]]:
+        out = []
+        for key in keys:
+            ref = self.cat.references[key]
+            out.append(
+                {
+                    "label": _reference_label(ref),
+                    "url": f"references/index.html#{key}",
+                    "title": ref.title,
+                    "doi": ref.doi,
+                    "href": f"https://doi.org/{ref.doi}" if ref.doi else ref.url,
+                    "status": ref.status,
+                }
+            )
+        return out
+
+    def marks(self, key: tuple[str, str]) -> list[str]:
+        out = []
+        scaling = self.rel.scaled_from.get(key)
+        if scaling is not None:
+            out.append(f"{scaling.factor} × a cycle of {self.cat.maps[scaling.base[0]].name}")
+        elif self.rel.shared_factor.get(key, 1) > 1:
+            out.append(f"members share the factor {self.rel.shared_factor[key]} with d")
+        return out
+
+    def cycle_rows(self, keys: Iterable[tuple[str, str]], with_map: bool = False) -> list[dict[str, Any]]:
+        rows = []
+        for key in keys:
+            r = self.records[key]
+            entry = self.cat.maps[key[0]]
+            rows.append(
+                {
+                    "url": r["url"],
+                    "map_name": entry.name,
+                    "map_url": map_url(entry.id),
+                    "canonical": r["canonical"],
+                    "length": r["length"],
+                    "counts": _counts_text(entry, self.cycles[key]),
+                    "counts_key": r["residue_counts"][1] if entry.modulus == 2 else r["length"],
+                    "min": r["min"],
+                    "max": r["max"],
+                    "marks": self.marks(key),
+                    "with_map": with_map,
+                }
+            )
+        return rows
+
+    def map_summary_rows(self) -> list[dict[str, Any]]:
+        rows = []
+        for map_id in self.map_order:
+            entry = self.cat.maps[map_id]
+            cycles = self.cat.cycles.get(map_id, ())
+            coprime = None
+            form = qx_plus_d(entry)
+            if form is not None and abs(form[1]) > 1:
+                coprime = sum(1 for c in cycles if self.rel.shared_factor.get((map_id, c.id)) == 1)
+            rows.append(
+                {
+                    "url": map_url(map_id),
+                    "name": entry.name,
+                    "summary": entry.summary,
+                    "modulus": entry.modulus,
+                    "cycles": len(cycles),
+                    "coprime": coprime,
+                }
+            )
+        return rows
+
+    # -- pages ---------------------------------------------------------------
+
+    def all_pages(self) -> list[Page]:
+        pages = [self.home(), self.maps_index()]
+        for map_id in self.cat.maps:
+            pages.append(self.map_page(map_id))
+            for cycle in self.cat.cycles.get(map_id, ()):
+                pages.append(self.cycle_page(self.cat.maps[map_id], cycle))
+        pages.extend(self.length_pages())
+        pages.append(self.references_page())
+        pages.append(Page("search/index.html", "search.html", "Search the record", "search"))
+        pages.append(self.data_page())
+        pages.append(Page("404.html", "404.html", "Page not found", ""))
+        pages.append(self.site_map(pages))
+        return pages
+
+    def home(self) -> Page:
+        recent = sorted(
+            self.records.items(),
+            key=lambda kv: (kv[1]["provenance"]["found_on"], kv[0]),
+            reverse=True,
+        )[:RECENT]
+        total = sum(len(c) for c in self.cat.cycles.values())
+        return Page(
+            "index.html",
+            "index.html",
+            RECORD_TITLE,
+            "home",
+            {
+                "maps": self.map_summary_rows(),
+                "total_cycles": total,
+                "total_maps": len(self.cat.maps),
+                "total_references": len(self.cat.references),
+                "recent": [
+                    {"link": self.cycle_link(key), "found_on": r["provenance"]["found_on"], "length": r["length"]}
+                    for key, r in recent
+                ],
+            },
+        )
+
+    def maps_index(self) -> Page:
+        return Page(
+            "maps/index.html",
+            "maps.html",
+            "Maps",
+            "maps",
+            {"maps": self.map_summary_rows()},
+            (Link("Record", "index.html"),),
+        )
+
+    def map_page(self, map_id: str) -> Page:
+        entry = self.cat.maps[map_id]
+        keys = [(map_id, c.id) for c in self.cat.cycles.get(map_id, ())]
+        rows = self.cycle_rows(keys)
+        form = qx_plus_d(entry)
+        coprime = None
+        if form is not None and abs(form[1]) > 1:
+            coprime = sum(1 for k in keys if self.rel.shared_factor.get(k) == 1)
+        mirror = self.rel.mirror_map.get(map_id)
+        return Page(
+            map_url(map_id),
+            "map.html",
+            entry.name,
+            "maps",
+            {
+                "map": entry,
+                "definition": Markup(map_definition_mathml(entry.modulus, entry.branches, entry.name)),  # noqa: S704
+                "branches": [
+                    {"residue": i, "multiplier": to_decimal(a), "increment": to_decimal(b)}
+                    for i, (a, b) in enumerate(entry.branches)
+                ],
+                "modulus": entry.modulus,
+                "notes": render_notes(entry.notes),
+                "references": self.reference_links(entry.references),
+                "rows": rows,
+                "count": len(keys),
+                "coprime": coprime,
+                "d": to_decimal(form[1]) if form else None,
+                "mirror": Link(self.cat.maps[mirror].name, map_url(mirror)) if mirror and mirror != map_id else None,
+                "self_mirror": mirror == map_id,
+                "export": f"data/maps/{map_id}.json",
+                "counts_label": "Odd, even steps" if entry.modulus == 2 else "Residue counts",
+            },
+            (Link("Record", "index.html"), Link("Maps", "maps/index.html")),
+        )
+
+    def cycle_page(self, entry: MapEntry, cycle: Cycle) -> Page:
+        key = (entry.id, cycle.id)
+        r = self.records[key]
+        members = r["members"]
+        if len(members) <= MEMBERS_ON_PAGE:
+            head, tail, hidden = members, [], 0
+        else:
+            head, tail = members[:HEAD_MEMBERS], members[-TAIL_MEMBERS:]
+            hidden = len(members) - HEAD_MEMBERS - TAIL_MEMBERS
+        word = r["word"]
+        word_shown = word if len(word) <= WORD_ON_PAGE else word[:WORD_ON_PAGE]
+        title = f"{entry.name}: cycle through {r['canonical']}"
+        related: list[dict[str, Any]] = []
+        mirror = self.rel.mirror.get(key)
+        if mirror is not None:
+            related.append(
+                {"kind": "Mirror", "links": [self.cycle_link(mirror, "the negated cycle of the mirror map")]}
+            )
+        scaled = self.rel.scaled_from.get(key)
+        if scaled is not None:
+            related.append(
+                {"kind": "Scaled copy of", "links": [self.cycle_link(scaled.base, f"times {scaled.factor}")]}
+            )
+        copies = self.rel.scaled_to.get(key, ())
+        if copies:
+            related.append(
+                {"kind": "Scaled copies", "links": [self.cycle_link(s.copy, f"times {s.factor}") for s in copies]}
+            )
+        listed = {mirror, scaled.base if scaled else None, *(s.copy for s in copies)}
+        same = [k for k in self.rel.same_word.get(key, ()) if k not in listed]
+        if same:
+            links = [self.cycle_link(k) for k in same[:SAME_WORD_SHOWN]]
+            if len(same) > SAME_WORD_SHOWN:
+                more = len(same) - SAME_WORD_SHOWN
+                links.append(Link(f"{more} more cycles of length {cycle.length}", length_url(cycle.length)))
+            related.append({"kind": "Same word in other maps", "links": links})
+        prov = cycle.provenance
+        counts = [{"residue": i, "count": c} for i, c in enumerate(cycle.residue_counts)]
+        svg_id = f"c-{entry.id}-{cycle.id}"
+        permalink = posixpath.dirname(r["url"]) + "/"  # the pretty address; links use index.html
+        cite = (
+            f"{title} (length {cycle.length}). {RECORD_TITLE}, entry {entry.id}/{cycle.id}, "
+            f"{permalink}. Found by {prov.found_by}, {prov.found_on.isoformat()}."
+        )
+        bibtex = (
+            f"@misc{{periplus:{entry.id}/{cycle.id},\n"
+            f"  title        = {{{_bibtex(title)}}},\n"
+            f"  howpublished = {{{_bibtex(RECORD_TITLE)}, entry {_bibtex(entry.id + '/' + cycle.id)}}},\n"
+            f"  note         = {{Cycle of length {cycle.length}; found by {_bibtex(prov.found_by)}, "
+            f"{prov.found_on.isoformat()}}},\n"
+            f"  year         = {{{prov.found_on.year}}}\n}}"
+        )
+        return Page(
+            cycle_url(entry.id, cycle.id),
+            "cycle.html",
+            title,
+            "maps",
+            {
+                "map": entry,
+                "map_url": map_url(entry.id),
+                "record": r,
+                "head": head,
+                "tail": tail,
+                "hidden": hidden,
+                "tail_start": len(members) - len(tail) + 1,
+                "export": f"data/maps/{entry.id}.json",
+                "word": word_shown,
+                "word_cut": len(word) - len(word_shown),
+                "word_svg": Markup(word_strip(cycle.canonical_word, entry.modulus, f"Word of {title}", svg_id + "-w")),  # noqa: S704
+                "plot_svg": Markup(orbit_plot(cycle.canonical_members, f"Orbit of {title}", svg_id + "-p")),  # noqa: S704
+                "equation": Markup(  # noqa: S704
+                    cycle_equation_mathml(
+                        entry.modulus,
+                        cycle.length,
+                        _factors(entry, cycle),
+                        cycle.equation.offset,
+                        cycle.equation.target,
+                        cycle.canonical,
+                    )
+                ),
+                "counts": counts,
+                "counts_text": _counts_text(entry, cycle),
+                "length_url": length_url(cycle.length),
+                "notes": render_notes(prov.notes),
+                "references": self.reference_links(prov.references),
+                "related": related,
+                "marks": self.marks(key),
+                "cite": cite,
+                "bibtex": bibtex,
+                "permalink": permalink,
+            },
+            (Link("Record", "index.html"), Link("Maps", "maps/index.html"), Link(entry.name, map_url(entry.id))),
+        )
+
+    def length_pages(self) -> list[Page]:
+        by_length: dict[int, list[tuple[str, str]]] = {}
+        for key, r in self.records.items():
+            by_length.setdefault(r["length"], []).append(key)
+        rows = []
+        pages = []
+        for k in sorted(by_length):
+            keys = sorted(by_length[k], key=lambda kk: (kk[0], abs(self.cycles[kk].canonical)))
+            map_names = sorted({self.cat.maps[m].name for m, _ in keys})
+            rows.append({"length": k, "url": length_url(k), "count": len(keys), "maps": len(map_names)})
+            pages.append(
+                Page(
+                    length_url(k),
+                    "length.html",
+                    f"Cycles of length {k}",
+                    "lengths",
+                    {"length": k, "rows": self.cycle_rows(keys, with_map=True)},
+                    (Link("Record", "index.html"), Link("Lengths", "lengths/index.html")),
+                )
+            )
+        index = Page(
+            "lengths/index.html", "lengths.html", "Cycles by length", "lengths", {"rows": rows},
+            (Link("Record", "index.html"),),
+        )  # fmt: skip
+        return [index, *pages]
+
+    def references_page(self) -> Page:
+        cited_by: dict[str, list[Link]] = {key: [] for key in self.cat.references}
+        for map_id, entry in self.cat.maps.items():
+            for key in entry.references:
+                cited_by[key].append(Link(entry.name, map_url(map_id), "map"))
+        for map_id, cycles in self.cat.cycles.items():
+            for cycle in cycles:
+                for key in cycle.provenance.references:
+                    cited_by[key].append(self.cycle_link((map_id, cycle.id)))
+        entries = []
+        for key, ref in self.cat.references.items():
+            entries.append(
+                {
+                    "key": key,
+                    "ref": ref,
+                    "label": _reference_label(ref),
+                    "authors": ", ".join(ref.authors),
+                    "href": f"https://doi.org/{ref.doi}" if ref.doi else ref.url,
+                    "note": ref.note,
+                    "cited_by": cited_by[key],
+                }
+            )
+        return Page(
+            "references/index.html", "references.html", "References", "references", {"entries": entries},
+            (Link("Record", "index.html"),),
+        )  # fmt: skip
+
+    def data_page(self) -> Page:
+        return Page(
+            "data/index.html",
+            "data.html",
+            "Data exports",
+            "data",
+            {"maps": [Link(self.cat.maps[m].name, f"data/maps/{m}.json") for m in self.map_order]},
+            (Link("Record", "index.html"),),
+        )
+
+    def site_map(self, pages: list[Page]) -> Page:
+        links = [Link(p.title, p.path) for p in pages if p.path != "404.html"]
+        links.append(Link("Site map", "sitemap/index.html"))
+        return Page(
+            "sitemap/index.html", "sitemap.html", "Site map", "", {"links": sorted(links, key=lambda link: link.url)},
+            (Link("Record", "index.html"),),
+        )  # fmt: skip
+
+
+def _display_order(entry: MapEntry) -> tuple[int, int, int, bool, str]:
+    """qx+d maps by q, then |d| (d before -d); every other map after them, by name."""
+    form = qx_plus_d(entry)
+    if form is None:
+        return (1, 0, 0, False, entry.name)
+    q, d = form
+    return (0, q, abs(d), d < 0, entry.name)
+
+
+def _bibtex(text: str) -> str:
+    """Escape the characters BibTeX and LaTeX treat specially."""
+    out = []
+    for ch in text:
+        if ch in "{}":
+            out.append("\\" + ch)
+        elif ch in "\\":
+            out.append("\\textbackslash{}")
+        elif ch in "%&#$_":
+            out.append("\\" + ch)
+        elif ch in "^~":
+            out.append("\\" + ch + "{}")
+        else:
+            out.append(ch)
+    return "".join(out)
