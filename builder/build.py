@@ -80,7 +80,7 @@ def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_ur
     report = verify_catalogue(catalogue, limits or Limits())
     if not report.ok:
         return BuildResult(report, 0)
-    views = build_views(report.catalogue)
+    views = build_views(report.catalogue, base_url)
     out = out.absolute()
     parent = out.parent
     parent.mkdir(parents=True, exist_ok=True)

@@ -9,6 +9,8 @@ through nh3).
 
 from __future__ import annotations
 
+import re
+
 import markdown
 import nh3
 from markupsafe import Markup
@@ -17,10 +19,12 @@ __all__ = ["render_notes"]
 
 _TAGS = {
     "a", "abbr", "b", "blockquote", "br", "code", "em", "i", "li", "ol", "p", "pre", "strong", "sub", "sup",
-    "ul", "h3", "h4", "table", "thead", "tbody", "tr", "th", "td", "hr",
+    "ul", "h3", "h4", "h5", "h6", "table", "thead", "tbody", "tr", "th", "td", "hr",
 }  # fmt: skip
 _ATTRIBUTES = {"a": {"href", "title"}, "abbr": {"title"}, "th": {"scope"}}
 _SCHEMES = {"http", "https", "mailto"}
+_HEADING = re.compile(r"<h([1-6])\b")
+_HEADING_TAG = re.compile(r"<(/?)h([1-6])\b")
 
 
 def render_notes(text: str | None) -> Markup:
@@ -28,11 +32,12 @@ def render_notes(text: str | None) -> Markup:
     if not text:
         return Markup("")
     html = markdown.markdown(text, extensions=["tables"], output_format="html")
-    # Entry headings sit below the page's h1 and section h2s.
-    for level in (6, 5, 4, 3, 2, 1):
-        html = html.replace(f"<h{level}>", f"<h{min(level + 2, 4)}>").replace(
-            f"</h{level}>", f"</h{min(level + 2, 4)}>"
-        )
+    # Entry headings sit below the page's h1 and section h2s: the highest level
+    # used becomes h3 and the others keep their distance from it (up to h6).
+    levels = sorted({int(m) for m in _HEADING.findall(html)})
+    if levels:
+        shift = 3 - levels[0]
+        html = _HEADING_TAG.sub(lambda m: f"<{m[1]}h{min(int(m[2]) + shift, 6)}", html)
     clean = nh3.clean(
         html,
         tags=_TAGS,

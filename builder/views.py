@@ -174,8 +174,11 @@ def _map_record(entry: MapEntry, cycles: list[dict[str, Any]], rel: Relations) -
     }
 
 
-def build_views(catalogue: Catalogue) -> SiteViews:
-    """Build every page's view and every export record from a verified catalogue."""
+def build_views(catalogue: Catalogue, base_url: str | None = None) -> SiteViews:
+    """Build every page's view and every export record from a verified catalogue.
+
+    ``base_url``, when given, makes permalinks and citations absolute.
+    """
     rel = find_relations(catalogue)
     maps = catalogue.maps
     records_by_key: dict[tuple[str, str], dict[str, Any]] = {}
@@ -190,7 +193,7 @@ def build_views(catalogue: Catalogue) -> SiteViews:
         for map_id, entry in maps.items()
     }
     references = {key: _reference_record(ref) for key, ref in catalogue.references.items()}
-    builder = _PageBuilder(catalogue, rel, records_by_key, map_records)
+    builder = _PageBuilder(catalogue, rel, records_by_key, map_records, base_url)
     pages = builder.all_pages()
     whole = {
         "format": "periplus-record",
@@ -245,7 +248,9 @@ class _PageBuilder:
         rel: Relations,
         records: dict[tuple[str, str], dict[str, Any]],
         map_records: dict[str, dict[str, Any]],
+        base_url: str | None,
     ) -> None:
+        self.base_url = (base_url.rstrip("/") + "/") if base_url else ""
         self.cat = catalogue
         self.rel = rel
         self.records = records
@@ -453,7 +458,8 @@ class _PageBuilder:
         prov = cycle.provenance
         counts = [{"residue": i, "count": c} for i, c in enumerate(cycle.residue_counts)]
         svg_id = f"c-{entry.id}-{cycle.id}"
-        permalink = posixpath.dirname(r["url"]) + "/"  # the pretty address; links use index.html
+        # The pretty address (absolute with a base URL); links on the page use index.html.
+        permalink = self.base_url + posixpath.dirname(r["url"]) + "/"
         cite = (
             f"{title} (length {cycle.length}). {RECORD_TITLE}, entry {entry.id}/{cycle.id}, "
             f"{permalink}. Found by {prov.found_by}, {prov.found_on.isoformat()}."
