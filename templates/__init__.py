@@ -1,0 +1,1 @@
+"""Jinja templates and static assets of the Periplus site (installed as builder.templates)."""
