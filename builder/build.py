@@ -69,8 +69,10 @@ def _exchange(a: Path, b: Path) -> bool:
 
 
 def _clean_leftovers(parent: Path, name: str) -> None:
-    for prefix in (_STAGING.format(name), _RETIRED.format(name)):
-        for path in parent.glob(prefix + "*"):
+    # Compared as plain prefixes, not glob patterns: a name such as site[1] is a name, not a pattern.
+    prefixes = (_STAGING.format(name), _RETIRED.format(name))
+    for path in parent.iterdir():
+        if path.name.startswith(prefixes) and path.is_dir() and not path.is_symlink():
             shutil.rmtree(path, ignore_errors=True)
 
 
@@ -97,7 +99,11 @@ def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_ur
             retired = Path(tempfile.mkdtemp(prefix=_RETIRED.format(out.name), dir=parent))
             retired.rmdir()
             out.rename(retired)
-            staging.rename(out)
+            try:
+                staging.rename(out)
+            except BaseException:
+                retired.rename(out)  # put the previous site back before giving up
+                raise
             shutil.rmtree(retired)
     except BaseException:
         shutil.rmtree(staging, ignore_errors=True)

@@ -12,7 +12,7 @@ from .build import build_site
 from .errors import PeriplusError, UsageError
 from .model import Report
 from .preview import serve
-from .verify import DEFAULT_MAX_STEPS, Limits, verify_catalogue
+from .verify import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, Limits, verify_catalogue
 
 __all__ = ["main"]
 
@@ -25,6 +25,20 @@ def _positive(text: str) -> int:
     if value < 1:
         raise argparse.ArgumentTypeError(f"expected a positive integer, got {value}")
     return value
+
+
+def _natural(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got '{text}'") from None
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {value}")
+    return value
+
+
+def _limits(args: argparse.Namespace) -> Limits:
+    return Limits(args.max_steps, args.max_bits, args.recheck_up_to)
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -96,6 +110,14 @@ def _add_limits(parser: argparse.ArgumentParser) -> None:
         help="give up on an orbit once a member exceeds B bits "
         "(default: 65,536 plus 8 times the size of the entry's numbers)",
     )
+    parser.add_argument(
+        "--recheck-up-to",
+        type=_natural,
+        default=DEFAULT_RECHECK_UP_TO,
+        metavar="N",
+        help="re-run every coverage claim whose bound is at most N; larger ones are shown as attested "
+        f"(default {DEFAULT_RECHECK_UP_TO:,})",
+    )
 
 
 def _count(n: int, noun: str) -> str:
@@ -117,7 +139,7 @@ def summary(report: Report) -> str:
 
 
 def _verify(args: argparse.Namespace) -> int:
-    report = verify_catalogue(args.catalogue, Limits(args.max_steps, args.max_bits))
+    report = verify_catalogue(args.catalogue, _limits(args))
     for problem in report.problems:
         print(problem)
     print(summary(report))
@@ -127,7 +149,7 @@ def _verify(args: argparse.Namespace) -> int:
 def _build(args: argparse.Namespace) -> int:
     if args.base_url is not None and not args.base_url.startswith(("http://", "https://")):
         raise UsageError(f"--base-url: expected an http or https address, got '{args.base_url}'")
-    result = build_site(args.catalogue, args.out, Limits(args.max_steps, args.max_bits), args.base_url)
+    result = build_site(args.catalogue, args.out, _limits(args), args.base_url)
     for problem in result.report.problems:
         print(problem)
     print(summary(result.report))

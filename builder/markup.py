@@ -19,12 +19,37 @@ __all__ = ["render_notes"]
 
 _TAGS = {
     "a", "abbr", "b", "blockquote", "br", "code", "em", "i", "li", "ol", "p", "pre", "strong", "sub", "sup",
-    "ul", "h3", "h4", "h5", "h6", "table", "thead", "tbody", "tr", "th", "td", "hr",
+    "ul", "h1", "h2", "h3", "h4", "h5", "h6", "table", "thead", "tbody", "tr", "th", "td", "hr",
 }  # fmt: skip
 _ATTRIBUTES = {"a": {"href", "title"}, "abbr": {"title"}, "th": {"scope"}}
 _SCHEMES = {"http", "https", "mailto"}
-_HEADING = re.compile(r"<h([1-6])\b")
-_HEADING_TAG = re.compile(r"<(/?)h([1-6])\b")
+_HEADING_TAG = re.compile(r"<(/?)h([1-6])>")  # after nh3: headings carry no attributes
+#: Entry headings sit below the page's h1 and section h2s.
+_TOP, _DEEPEST = 3, 6
+
+
+def _outline(html: str) -> str:
+    """Renumber the headings of sanitised HTML so they start at h3 and never skip a level.
+
+    Each heading becomes one level below the nearest earlier heading of a higher level in the
+    input (h3 if there is none), so an outline such as h2, h4 or h3, h1, h3 keeps its shape
+    without leaving a gap (WCAG 2, 1.3.1 "Info and Relationships").
+    """
+    stack: list[tuple[int, int]] = []  # (level in the input, level written)
+    current = [_TOP]
+
+    def renumber(m: re.Match[str]) -> str:
+        if m[1]:
+            return f"</h{current[0]}>"
+        level = int(m[2])
+        while stack and stack[-1][0] >= level:
+            stack.pop()
+        written = min(stack[-1][1] + 1, _DEEPEST) if stack else _TOP
+        stack.append((level, written))
+        current[0] = written
+        return f"<h{written}>"
+
+    return _HEADING_TAG.sub(renumber, html)
 
 
 def render_notes(text: str | None) -> Markup:
@@ -32,12 +57,6 @@ def render_notes(text: str | None) -> Markup:
     if not text:
         return Markup("")
     html = markdown.markdown(text, extensions=["tables"], output_format="html")
-    # Entry headings sit below the page's h1 and section h2s: the highest level
-    # used becomes h3 and the others keep their distance from it (up to h6).
-    levels = sorted({int(m) for m in _HEADING.findall(html)})
-    if levels:
-        shift = 3 - levels[0]
-        html = _HEADING_TAG.sub(lambda m: f"<{m[1]}h{min(int(m[2]) + shift, 6)}", html)
     clean = nh3.clean(
         html,
         tags=_TAGS,
@@ -47,4 +66,4 @@ def render_notes(text: str | None) -> Markup:
         link_rel="nofollow noopener noreferrer",
         strip_comments=True,
     )
-    return Markup(clean)  # noqa: S704 - sanitised just above
+    return Markup(_outline(clean))  # noqa: S704 - sanitised just above

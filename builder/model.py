@@ -16,7 +16,7 @@ from .dynamics import AffineMap, Equation
 from .errors import Problem
 from .words import rotate
 
-__all__ = ["Catalogue", "Cycle", "MapEntry", "Provenance", "Reference", "Report", "word_text"]
+__all__ = ["Catalogue", "Coverage", "Cycle", "MapEntry", "Provenance", "Reference", "Report", "word_text"]
 
 
 def word_text(word: tuple[int, ...], modulus: int) -> str:
@@ -40,6 +40,26 @@ class Reference:
 
 
 @dataclass(frozen=True, slots=True)
+class Coverage:
+    """A completeness claim: every start with |n| <= bound was iterated under the stated limits.
+
+    It says: every cycle whose least |member| is at most ``bound`` is catalogued,
+    and the starts in ``unresolved`` are exactly those whose orbits could not be
+    resolved within ``max_steps`` steps and ``max_bits`` bits.  ``rechecked`` is
+    True when this verification re-ran the search (the bound was within budget).
+    """
+
+    kind: str  # "all-starts"
+    bound: int
+    found_on: date
+    method: str
+    max_steps: int
+    max_bits: int
+    unresolved: tuple[int, ...]
+    rechecked: bool = False
+
+
+@dataclass(frozen=True, slots=True)
 class MapEntry:
     id: str
     name: str
@@ -48,6 +68,7 @@ class MapEntry:
     references: tuple[str, ...]
     dynamics: AffineMap
     path: Path
+    coverage: tuple[Coverage, ...] = ()
 
     @property
     def modulus(self) -> int:

@@ -13,7 +13,7 @@ import datetime as _dt
 import difflib
 import re
 from collections.abc import Callable, Collection
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from types import MappingProxyType
 from typing import TypeVar
@@ -22,14 +22,29 @@ import yaml.resolver
 
 from .dynamics import AffineMap, CycleFound, EntersCycle, Unresolved, branch_defects, cycle_equation, trace
 from .errors import KeyPath, Position, Problem, format_key_path
+from .hunt import hunt
 from .integers import DECIMAL_INTEGER, parse_decimal, show
-from .load import ID_PATTERN, Mapping, Node, RawCatalogue, RawFile, Scalar, Sequence, read_file, scan_catalogue
-from .model import Catalogue, Cycle, MapEntry, Provenance, Reference, Report, word_text
+from .load import (
+    ID_PATTERN,
+    Mapping,
+    Node,
+    RawCatalogue,
+    RawFile,
+    Scalar,
+    Sequence,
+    parse_yaml,
+    read_file,
+    scan_catalogue,
+)
+from .model import Catalogue, Coverage, Cycle, MapEntry, Provenance, Reference, Report, word_text
 from .words import is_rotation, least_period
 
 __all__ = ["DEFAULT_MAX_STEPS", "Limits", "verify_catalogue", "verify_raw"]
 
 DEFAULT_MAX_STEPS = 1_000_000
+#: Coverage claims with a bound up to this are re-run by every verification.
+DEFAULT_RECHECK_UP_TO = 100_000
+COVERAGE_KINDS = ("all-starts",)
 T = TypeVar("T")
 
 _RESOLVER = yaml.resolver.Resolver()
@@ -49,6 +64,7 @@ class Limits:
 
     max_steps: int = DEFAULT_MAX_STEPS
     max_bits: int | None = None
+    recheck_up_to: int = DEFAULT_RECHECK_UP_TO
 
 
 def short(text: str, keep: int = 48) -> str:
@@ -210,6 +226,39 @@ class _Doc:
                 )
         return None if self.failed else keys
 
+    def coverage(self, node: Node, key_path: KeyPath) -> Coverage | None:
+        """A coverage record: kind, bound, found_on, method, max_steps, max_bits, optional unresolved."""
+        f = self.fields(
+            node, key_path, "a coverage record", ("kind", "bound", "found_on", "method", "max_steps", "max_bits"),
+            ("unresolved",),
+        )  # fmt: skip
+        if f is None or len(f) < 6:
+            return None
+        before = len(self.problems)
+        kind = self.text(f["kind"], key_path + ("kind",))
+        if kind is not None and kind not in COVERAGE_KINDS:
+            self.error(
+                f["kind"], key_path + ("kind",), f"expected one of {', '.join(COVERAGE_KINDS)}, got '{short(kind)}'"
+            )
+        numbers = {}
+        for name in ("bound", "max_steps", "max_bits"):
+            value = self.integer(f[name], key_path + (name,))
+            if value is not None and value < (0 if name == "bound" else 1):
+                self.error(f[name], key_path + (name,), f"expected a positive integer, got {show(value)}")
+            numbers[name] = value
+        found_on = self.date(f["found_on"], key_path + ("found_on",))
+        method = self.text(f["method"], key_path + ("method",))
+        unresolved = (
+            self.listing(f["unresolved"], key_path + ("unresolved",), self.integer) if "unresolved" in f else []
+        )
+        if len(self.problems) > before:
+            return None
+        assert kind is not None and found_on is not None and method is not None and unresolved is not None
+        return Coverage(
+            kind, numbers["bound"] or 0, found_on, method, numbers["max_steps"] or 1, numbers["max_bits"] or 1,
+            tuple(unresolved),
+        )  # fmt: skip
+
     def word(self, node: Node, key_path: KeyPath, modulus: int) -> tuple[int, ...] | None:
         """A word: quoted digits when the modulus is at most 10, or a list of residues."""
         if isinstance(node, Sequence):
@@ -333,7 +382,9 @@ def _check_map(raw: RawFile, known: Collection[str] | None, problems: list[Probl
     doc = _Doc(raw.path, problems)
     if raw.root is None:
         return None
-    f = doc.fields(raw.root, (), "a map entry", ("name", "modulus", "branches", "summary"), ("notes", "references"))
+    f = doc.fields(
+        raw.root, (), "a map entry", ("name", "modulus", "branches", "summary"), ("notes", "references", "coverage")
+    )
     if f is None:
         return None
     name = doc.text(f["name"], ("name",), one_line=True) if "name" in f else None
@@ -345,10 +396,11 @@ def _check_map(raw: RawFile, known: Collection[str] | None, problems: list[Probl
         doc.error(f["modulus"], ("modulus",), f"expected a modulus of at least 2, got {show(modulus)}")
         modulus = None
     branches = _check_branches(doc, f["branches"], modulus) if "branches" in f and modulus is not None else None
-    if doc.failed or branches is None:
+    coverage = doc.listing(f["coverage"], ("coverage",), doc.coverage) if "coverage" in f else []
+    if doc.failed or branches is None or coverage is None:
         return None
     assert name is not None and summary is not None and refs is not None and modulus is not None
-    return MapEntry(raw.id, name, summary, notes, tuple(refs), AffineMap(modulus, branches), raw.path)
+    return MapEntry(raw.id, name, summary, notes, tuple(refs), AffineMap(modulus, branches), raw.path, tuple(coverage))
 
 
 def _check_branches(doc: _Doc, node: Node, modulus: int) -> tuple[tuple[int, int], ...] | None:
@@ -738,6 +790,9 @@ def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
         map_id: tuple(sorted(found.values(), key=lambda c: (abs(c.canonical), c.canonical < 0)))
         for map_id, found in sorted(by_map.items())
     }
+    for map_id, entry in list(maps.items()):
+        if entry.coverage:
+            maps[map_id] = _recheck_coverage(entry, by_map.get(map_id, {}), limits, problems)
     catalogue = Catalogue(
         root=raw.root,
         maps=MappingProxyType(dict(sorted(maps.items()))),
@@ -748,6 +803,58 @@ def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
     # so that "N errors in X of Y files" never has X > Y.
     files = {f.path for f in raw.files} | {p.position.file for p in problems}
     return Report(catalogue, tuple(sorted(problems)), len(files))
+
+
+def _recheck_coverage(entry: MapEntry, cycles: dict[int, Cycle], limits: Limits, problems: list[Problem]) -> MapEntry:
+    """Re-run each coverage claim within budget; report what the catalogue or the claim lacks."""
+    checked = []
+    for i, claim in enumerate(entry.coverage):
+        if claim.bound > limits.recheck_up_to:
+            checked.append(claim)
+            continue
+        result = hunt(entry.dynamics, claim.bound, claim.max_steps, claim.max_bits)
+        where = Position(entry.path, *_coverage_position(entry, i), ("coverage", i))
+        label = _label(("coverage", i))
+        for canonical, found in result.cycles.items():
+            if abs(canonical) <= claim.bound and canonical not in cycles:
+                problems.append(Problem(
+                    where,
+                    f"{label}expected every cycle with least |member| up to {show(claim.bound)} to be listed, "
+                    f"got none for the cycle through {show(canonical)} (length {len(found.members)}), "
+                    f"which the search finds; add cycles/{entry.id}/<id>.yaml with start {show(canonical)}",
+                    "coverage-missing-cycle",
+                ))  # fmt: skip
+        listed = set(claim.unresolved)
+        for start in result.unresolved:
+            if start not in listed:
+                problems.append(Problem(
+                    where,
+                    f"{label}expected the unresolved starts to be listed, got no mention of {show(start)}, "
+                    f"whose orbit is not resolved within {claim.max_steps} steps and {claim.max_bits} bits",
+                    "coverage-unlisted-start",
+                ))  # fmt: skip
+        for start in sorted(listed - set(result.unresolved), key=lambda v: (abs(v), v < 0)):
+            problems.append(Problem(
+                where,
+                f"{label}unresolved lists {show(start)}, but its orbit is resolved within the claim's limits",
+                "coverage-resolved-start",
+                "warning",
+            ))  # fmt: skip
+        checked.append(replace(claim, rechecked=True))
+    return replace(entry, coverage=tuple(checked))
+
+
+def _coverage_position(entry: MapEntry, index: int) -> tuple[int, int]:
+    """Line and column of a coverage record, read again from the map file (only on this rare path)."""
+    try:
+        root, _ = parse_yaml(entry.path.read_text(encoding="utf-8-sig"), entry.path)
+    except OSError:
+        return 0, 0
+    if isinstance(root, Mapping) and "coverage" in root.entries:
+        node = root.entries["coverage"][1]
+        if isinstance(node, Sequence) and index < len(node.items):
+            return node.items[index].line, node.items[index].column
+    return 0, 0
 
 
 def verify_catalogue(root: Path, limits: Limits = Limits()) -> Report:

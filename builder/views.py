@@ -16,10 +16,10 @@ from typing import Any
 
 from markupsafe import Markup
 
-from .integers import to_decimal
+from .integers import show, to_decimal
 from .markup import render_notes
 from .mathml import cycle_equation_mathml, map_definition_mathml
-from .model import Catalogue, Cycle, MapEntry, Reference, word_text
+from .model import Catalogue, Coverage, Cycle, MapEntry, Reference, word_text
 from .relations import Relations, find_relations, qx_plus_d
 from .svg import orbit_plot, word_strip
 
@@ -32,6 +32,7 @@ HEAD_MEMBERS, TAIL_MEMBERS = 500, 100
 WORD_ON_PAGE = 4000
 RECENT = 12
 SAME_WORD_SHOWN = 12
+UNRESOLVED_SHOWN = 60
 #: The search index lists up to this many members of each cycle.
 SEARCH_MEMBERS = 1000
 
@@ -125,6 +126,21 @@ def _factors(entry: MapEntry, cycle: Cycle) -> list[tuple[int, int]]:
     return list(merged.items())
 
 
+def _equation_text(entry: MapEntry, cycle: Cycle) -> str:
+    """The cycle equation in plain text, for print and for readers without MathML."""
+    eq = cycle.equation
+    powers = [
+        f"({show(a)})^{c}" if a < 0 else (f"{show(a)}^{c}" if c > 1 else show(a))
+        for a, c in _factors(entry, cycle)
+        if a != 1
+    ]
+    product = " · ".join(powers) or "1"
+    head = f"n = B / ({entry.modulus}^{cycle.length} − {product})"
+    if eq.target == 0:
+        return f"{head}: here {entry.modulus}^k = A and B = 0, so every start following the word is periodic"
+    return f"{head} = {show(eq.offset)} / {show(eq.target)} = {show(cycle.canonical)}"
+
+
 def _cycle_record(entry: MapEntry, cycle: Cycle, rel: Relations) -> dict[str, Any]:
     key = (entry.id, cycle.id)
     eq = cycle.equation
@@ -170,7 +186,21 @@ def _map_record(entry: MapEntry, cycles: list[dict[str, Any]], rel: Relations) -
         "notes": entry.notes,
         "references": list(entry.references),
         "mirror_map": rel.mirror_map.get(entry.id),
+        "coverage": [_coverage_record(c) for c in entry.coverage],
         "cycles": cycles,
+    }
+
+
+def _coverage_record(claim: Coverage) -> dict[str, Any]:
+    return {
+        "kind": claim.kind,
+        "bound": to_decimal(claim.bound),
+        "found_on": claim.found_on.isoformat(),
+        "method": claim.method,
+        "max_steps": claim.max_steps,
+        "max_bits": claim.max_bits,
+        "unresolved": [to_decimal(n) for n in claim.unresolved],
+        "rechecked_by_this_build": claim.rechecked,
     }
 
 
@@ -414,6 +444,10 @@ class _PageBuilder:
                 "mirror": Link(self.cat.maps[mirror].name, map_url(mirror)) if mirror and mirror != map_id else None,
                 "self_mirror": mirror == map_id,
                 "export": f"data/maps/{map_id}.json",
+                "coverage": [
+                    {**_coverage_record(c), "shown": [to_decimal(n) for n in c.unresolved[:UNRESOLVED_SHOWN]]}
+                    for c in entry.coverage
+                ],
                 "counts_label": "Odd, even steps" if entry.modulus == 2 else "Residue counts",
             },
             (Link("Record", "index.html"), Link("Maps", "maps/index.html")),
@@ -500,6 +534,7 @@ class _PageBuilder:
                         cycle.canonical,
                     )
                 ),
+                "equation_text": _equation_text(entry, cycle),
                 "counts": counts,
                 "counts_text": _counts_text(entry, cycle),
                 "length_url": length_url(cycle.length),

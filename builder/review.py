@@ -1,0 +1,916 @@
+"""``periplus review BASE HEAD``: what a pull request changes in the catalogue, and whether it holds.
+
+Both sides are verified in full; :func:`compare` then sets them side by side,
+entry by entry (maps by id, cycles by map and id, references by key), and
+says for each entry whether it was added, changed, renamed or removed, which
+fields changed, whether a changed cycle is still the same cycle, and how the
+head's verification judged it.  ``compare`` is a pure function of two
+verification reports and the files under their roots, so a release changelog
+can call it on two tagged versions (extract them with
+:func:`revision_catalogue`).
+
+Exit status of the command:
+
+- 1 when an added, changed or renamed entry of the head does not hold, when
+  an entry the pull request did not touch held in the base and fails in the
+  head (this is how a removal that breaks a dependency shows: a cycle whose
+  map was removed, or an entry citing a removed reference, no longer
+  verifies), or when the head has a new problem that belongs to no entry
+  (a badly named file, say);
+- 0 otherwise, warnings included: a warning (a removed cycle that a coverage
+  claim of the base covered, a removed entry that others still use) asks the
+  reviewer to look, it does not fail the review by itself;
+- 2 for usage errors: a missing directory, an unknown revision, a revision
+  without the catalogue path.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import re
+import subprocess
+import sys
+import tempfile
+from collections.abc import Iterator, Mapping
+from contextlib import contextmanager
+from dataclasses import dataclass, field, replace
+from pathlib import Path, PurePosixPath
+from typing import Any
+
+from .errors import PeriplusError, Position, Problem, UsageError
+from .integers import DECIMAL_INTEGER, parse_decimal
+from .load import Mapping as MappingNode
+from .load import Node, Scalar, read_file, scan_catalogue
+from .load import Sequence as SequenceNode
+from .model import Cycle, Report
+from .verify import DEFAULT_MAX_STEPS, Limits, short, verify_catalogue
+
+__all__ = [
+    "Change",
+    "Comparison",
+    "FieldChange",
+    "Outcome",
+    "ReviewWarning",
+    "add_review_command",
+    "compare",
+    "coverage_bounds",
+    "github_commands",
+    "render_markdown",
+    "revision_catalogue",
+    "run_review",
+    "workflow_command",
+]
+
+#: The kinds of entry, in the order the report lists them.
+KINDS = ("map", "cycle", "reference")
+_PLURAL = {"map": "maps", "cycle": "cycles", "reference": "references"}
+#: The kinds of change, in the order the counts table lists them.
+CHANGES = ("added", "changed", "renamed", "removed")
+_REFERENCES_FILE = "references.yaml"
+
+
+# --- what the comparison returns ---------------------------------------------
+
+
+@dataclass(frozen=True, slots=True)
+class FieldChange:
+    """One field that differs: its dotted name and, where it is a single value, the text on each side.
+
+    ``before`` is None when the base does not give the field, ``after`` when the head does not;
+    a list or mapping is described (``a list of 3``) rather than written out.
+    """
+
+    name: str
+    before: str | None
+    after: str | None
+
+
+@dataclass(frozen=True, slots=True)
+class Outcome:
+    """How the head's verification judged an entry: whether it reached the verified record, and its problems.
+
+    Problem paths are relative to the catalogue root.
+    """
+
+    verified: bool
+    problems: tuple[Problem, ...] = ()
+    reason: str | None = None  # why an entry with no problem of its own is not verified
+
+    @property
+    def errors(self) -> tuple[Problem, ...]:
+        return tuple(p for p in self.problems if p.severity == "error")
+
+    @property
+    def holds(self) -> bool:
+        return self.verified and not self.errors
+
+
+@dataclass(frozen=True, slots=True)
+class Change:
+    """One entry that differs between the sides (or that the head now fails, although it is unchanged).
+
+    ``change`` is "added", "changed", "renamed", "removed" or "unchanged" (only for an entry whose
+    verification got worse).  ``path`` is the head's file, or the base's for a removal; ``base_path``
+    the base's file of a renamed cycle.  ``identity`` says, for a changed map or cycle, whether it is
+    mathematically the same ("same cycle", "different cycle", "same map", "different map"), None when
+    one side does not verify and it cannot be told.  ``outcome`` is None for a removal.
+    """
+
+    kind: str
+    key: str
+    change: str
+    path: str
+    base_path: str | None = None
+    base_key: str | None = None
+    fields: tuple[FieldChange, ...] = ()
+    layout_only: bool = False  # the file differs, but only in comments, order or layout
+    identity: str | None = None
+    outcome: Outcome | None = None
+
+    @property
+    def fails(self) -> bool:
+        return self.outcome is not None and not self.outcome.holds
+
+
+@dataclass(frozen=True, slots=True)
+class ReviewWarning:
+    """Something a reviewer should look at that does not by itself fail the review."""
+
+    code: str  # "map-still-used", "reference-still-cited" or "covered-cycle-removed"
+    message: str
+    path: str | None = None  # a head file the warning is best shown on, if any
+
+
+@dataclass(frozen=True, slots=True)
+class Comparison:
+    changes: tuple[Change, ...]
+    unchanged: Mapping[str, int]  # entries of each kind that are the same on both sides
+    warnings: tuple[ReviewWarning, ...]
+    other_problems: tuple[Problem, ...]  # new problems of the head that belong to no entry
+    head_files: int = 0
+
+    def of_kind(self, kind: str) -> tuple[Change, ...]:
+        return tuple(c for c in self.changes if c.kind == kind)
+
+    def count(self, kind: str, change: str) -> int:
+        if change == "unchanged":
+            return self.unchanged.get(kind, 0)
+        return sum(1 for c in self.changes if c.kind == kind and c.change == change)
+
+    @property
+    def failures(self) -> tuple[Change, ...]:
+        return tuple(c for c in self.changes if c.fails)
+
+    @property
+    def ok(self) -> bool:
+        return not self.failures and not any(p.severity == "error" for p in self.other_problems)
+
+
+# --- reading each side ---------------------------------------------------------------
+
+
+@dataclass(slots=True)
+class _Entry:
+    kind: str
+    key: str
+    path: str
+    fields: dict[str, Any] | None  # flattened comparable values; None when the file cannot be read
+    data: Any  # the entry as plain Python data (integers parsed), for dependency checks
+    text: bytes | None  # the file's bytes (maps and cycles), to tell layout-only edits
+
+
+@dataclass(slots=True)
+class _Side:
+    report: Report
+    root: Path
+    entries: dict[tuple[str, str], _Entry]
+    problems: dict[str, list[Problem]]  # by relative path
+    references_readable: bool
+    cycles: dict[tuple[str, str], Cycle] = field(default_factory=dict)
+
+
+def _relative(path: Path, root: Path) -> str:
+    try:
+        return path.relative_to(root).as_posix()
+    except ValueError:
+        return path.as_posix()
+
+
+def _comparable(node: Node) -> Any:
+    """A node as hashable data that compares as the text was written (so ``5`` and ``"5"`` differ)."""
+    if isinstance(node, Scalar):
+        return ("scalar", node.value, node.plain)
+    if isinstance(node, SequenceNode):
+        return ("list", tuple(_comparable(n) for n in node.items))
+    if isinstance(node, MappingNode):
+        return ("mapping", tuple(sorted((k, _comparable(v)) for k, (_, v) in node.entries.items())))
+    return ("other",)
+
+
+def _flatten(node: Node, prefix: str = "") -> dict[str, Any]:
+    """Fields by dotted name, descending into mappings (``provenance.found_by``); lists are one field."""
+    if not isinstance(node, MappingNode):
+        return {prefix: _comparable(node)}
+    out: dict[str, Any] = {}
+    if not node.entries and prefix:
+        out[prefix] = _comparable(node)
+    for key, (_, value) in node.entries.items():
+        name = f"{prefix}.{key}" if prefix else key
+        out.update(_flatten(value, name) if isinstance(value, MappingNode) else {name: _comparable(value)})
+    return out
+
+
+def _plain(node: Node | None) -> Any:
+    """A node as plain Python data: mappings, lists, integers (of any size) and strings."""
+    if isinstance(node, MappingNode):
+        return {k: _plain(v) for k, (_, v) in node.entries.items()}
+    if isinstance(node, SequenceNode):
+        return [_plain(n) for n in node.items]
+    if isinstance(node, Scalar):
+        if node.plain and DECIMAL_INTEGER.fullmatch(node.value):
+            return parse_decimal(node.value)
+        return node.value
+    return None
+
+
+def _read_side(report: Report) -> _Side:
+    root = report.catalogue.root
+    raw = scan_catalogue(root)
+    entries: dict[tuple[str, str], _Entry] = {}
+    readable = True
+    for file in raw.files:
+        rel = _relative(file.path, root)
+        node, _ = read_file(file)
+        if file.kind == "references":
+            if isinstance(node, MappingNode):
+                for key, (_, value) in node.entries.items():
+                    entries["reference", key] = _Entry(
+                        "reference", key, rel, _flatten(value), _plain(value), None
+                    )
+            else:
+                readable = False
+            continue
+        key = file.id if file.kind == "map" else f"{file.folder}/{file.id}"
+        try:
+            text: bytes | None = file.path.read_bytes()
+        except OSError:
+            text = None
+        fields = _flatten(node) if isinstance(node, MappingNode) else None
+        entries[file.kind, key] = _Entry(file.kind, key, rel, fields, _plain(node), text)
+    problems: dict[str, list[Problem]] = {}
+    for p in report.problems:
+        rel = _relative(p.position.file, root)
+        problems.setdefault(rel, []).append(replace(p, position=replace(p.position, file=Path(rel))))
+    side = _Side(report, root, entries, problems, readable)
+    for map_id, cycles in report.catalogue.cycles.items():
+        for cycle in cycles:
+            side.cycles[map_id, cycle.id] = cycle
+    return side
+
+
+def _own_problems(side: _Side, entry: _Entry) -> list[Problem]:
+    found = side.problems.get(entry.path, [])
+    if entry.kind != "reference":
+        return list(found)
+    if not side.references_readable:
+        return list(found)
+    return [p for p in found if p.position.key_path and p.position.key_path[0] == entry.key]
+
+
+def _outcome(side: _Side, entry: _Entry) -> Outcome:
+    problems = tuple(_own_problems(side, entry))
+    catalogue = side.report.catalogue
+    if entry.kind == "map":
+        verified = entry.key in catalogue.maps
+    elif entry.kind == "cycle":
+        map_id, _, cycle_id = entry.key.partition("/")
+        verified = (map_id, cycle_id) in side.cycles
+    else:
+        verified = entry.key in catalogue.references
+    reason = None
+    if not verified and not any(p.severity == "error" for p in problems):
+        if entry.kind == "cycle" and entry.key.partition("/")[0] not in catalogue.maps:
+            reason = "its map does not verify"
+        elif entry.kind == "reference":
+            reason = f"{_REFERENCES_FILE} does not verify"
+        else:
+            reason = "an entry it depends on does not verify"
+    return Outcome(verified, problems, reason)
+
+
+def _signature(problems: tuple[Problem, ...]) -> set[tuple[int, int, str]]:
+    return {(p.position.line, p.position.column, p.message) for p in problems}
+
+
+# --- comparing ---------------------------------------------------------------------------
+
+
+def _describe(value: Any) -> str | None:
+    if value is None:
+        return None
+    kind = value[0]
+    if kind == "scalar":
+        return str(value[1])
+    if kind == "list":
+        n = len(value[1])
+        return f"a list of {n}" if n != 1 else "a list of 1"
+    if kind == "mapping":
+        return "a mapping"
+    return "a value"
+
+
+def _field_changes(base: dict[str, Any] | None, head: dict[str, Any] | None) -> tuple[FieldChange, ...]:
+    if base is None or head is None:
+        return (FieldChange("(the whole file: it cannot be read as an entry)", None, None),)
+    names = sorted(set(base) | set(head), key=lambda n: (n.split(".")[0] not in _FIELD_ORDER, _order(n), n))
+    return tuple(
+        FieldChange(n, _describe(base.get(n)), _describe(head.get(n))) for n in names if base.get(n) != head.get(n)
+    )
+
+
+# Fields in the order the catalogue format lists them (catalogue/README.md); others sort after, by name.
+_FIELD_ORDER = (
+    "map",
+    "start",
+    "word",
+    "length",
+    "members",
+    "provenance",
+    "name",
+    "modulus",
+    "branches",
+    "summary",
+    "notes",
+    "references",
+    "coverage",
+    "authors",
+    "title",
+    "venue",
+    "year",
+    "doi",
+    "url",
+    "status",
+    "note",
+)
+_PROVENANCE_ORDER = ("found_by", "found_on", "method", "references", "notes")
+
+
+def _order(name: str) -> tuple[int, int]:
+    head, _, rest = name.partition(".")
+    first = _FIELD_ORDER.index(head) if head in _FIELD_ORDER else len(_FIELD_ORDER)
+    second = _PROVENANCE_ORDER.index(rest) if rest in _PROVENANCE_ORDER else len(_PROVENANCE_ORDER)
+    return first, second
+
+
+def _identity(kind: str, base: _Side, head: _Side, base_key: str, head_key: str) -> str | None:
+    if kind == "cycle":
+        b = base.cycles.get(tuple(base_key.split("/", 1)))  # type: ignore[arg-type]
+        h = head.cycles.get(tuple(head_key.split("/", 1)))  # type: ignore[arg-type]
+        if b is None or h is None:
+            return None
+        return "same cycle" if (b.map_id, b.canonical) == (h.map_id, h.canonical) else "different cycle"
+    if kind == "map":
+        bm = base.report.catalogue.maps.get(base_key)
+        hm = head.report.catalogue.maps.get(head_key)
+        if bm is None or hm is None:
+            return None
+        return "same map" if bm.dynamics == hm.dynamics else "different map"
+    return None
+
+
+def coverage_bounds(map_yaml: Mapping[str, Any]) -> list[int]:
+    """The bounds of a map entry's coverage claims, read from its YAML as plain data.
+
+    A claim ``{kind, bound, found_on, method, max_steps, max_bits, unresolved}`` says that every
+    cycle of the map whose canonical member has ``|member| <= bound`` is listed.  Records without a
+    whole-number bound are left out (verification reports them).
+    """
+    records = map_yaml.get("coverage") if isinstance(map_yaml, Mapping) else None
+    if not isinstance(records, list):
+        return []
+    bounds = []
+    for record in records:
+        bound = record.get("bound") if isinstance(record, Mapping) else None
+        if isinstance(bound, int) and not isinstance(bound, bool) and bound >= 0:
+            bounds.append(bound)
+    return bounds
+
+
+def compare(base: Report, head: Report) -> Comparison:
+    """Set two verified catalogues side by side, entry by entry.
+
+    Reads the entries' files under each report's catalogue root (which must still exist) to compare
+    fields as written; everything mathematical comes from the reports.
+    """
+    b_side, h_side = _read_side(base), _read_side(head)
+    changes: list[Change] = []
+    unchanged = dict.fromkeys(KINDS, 0)
+    removed: list[_Entry] = []
+    added: list[_Entry] = []
+    for ident in sorted(set(b_side.entries) | set(h_side.entries), key=lambda k: (KINDS.index(k[0]), k[1])):
+        b, h = b_side.entries.get(ident), h_side.entries.get(ident)
+        if h is None:
+            assert b is not None
+            removed.append(b)
+            continue
+        if b is None:
+            added.append(h)
+            continue
+        outcome = _outcome(h_side, h)
+        fields = () if b.fields is not None and b.fields == h.fields else _field_changes(b.fields, h.fields)
+        layout_only = not fields and b.text != h.text
+        if fields or layout_only:
+            identity = _identity(h.kind, b_side, h_side, b.key, h.key)
+            changes.append(Change(h.kind, h.key, "changed", h.path, None, None, fields, layout_only, identity, outcome))
+            continue
+        unchanged[h.kind] += 1
+        before = _outcome(b_side, b)
+        worse = bool(_signature(outcome.errors) - _signature(before.errors)) or (before.holds and not outcome.holds)
+        if worse:
+            changes.append(Change(h.kind, h.key, "unchanged", h.path, outcome=outcome))
+    # A removed and an added cycle of the same map with the same canonical member: a new file name.
+    renamed: list[Change] = []
+    arrivals: dict[tuple[str, int], _Entry] = {}
+    for h in added:
+        cycle = h_side.cycles.get(tuple(h.key.split("/", 1)))  # type: ignore[arg-type]
+        if h.kind == "cycle" and cycle is not None:
+            arrivals.setdefault((cycle.map_id, cycle.canonical), h)
+    for b in list(removed):
+        cycle = b_side.cycles.get(tuple(b.key.split("/", 1)))  # type: ignore[arg-type]
+        if b.kind != "cycle" or cycle is None:
+            continue
+        h_match = arrivals.pop((cycle.map_id, cycle.canonical), None)
+        if h_match is None:
+            continue
+        removed.remove(b)
+        added.remove(h_match)
+        renamed.append(
+            Change(
+                "cycle",
+                h_match.key,
+                "renamed",
+                h_match.path,
+                b.path,
+                b.key,
+                _field_changes(b.fields, h_match.fields),
+                False,
+                "same cycle",
+                _outcome(h_side, h_match),
+            )
+        )
+    changes += [Change(h.kind, h.key, "added", h.path, outcome=_outcome(h_side, h)) for h in added]
+    changes += [Change(b.kind, b.key, "removed", b.path) for b in removed]
+    changes += renamed
+    order = {c: i for i, c in enumerate(("added", "changed", "renamed", "removed", "unchanged"))}
+    changes.sort(key=lambda c: (KINDS.index(c.kind), order[c.change], c.key))
+    warnings = _warnings(b_side, h_side, changes)
+    attributed = {e.path for e in h_side.entries.values()}
+    base_other = {
+        (rel, p.position.line, p.position.column, p.message)
+        for rel, found in b_side.problems.items()
+        for p in found
+    }
+    other = []
+    for rel, found in sorted(h_side.problems.items()):
+        for p in found:
+            belongs = rel in attributed and (
+                rel != _REFERENCES_FILE or not h_side.references_readable or bool(p.position.key_path)
+            )
+            if belongs or (rel, p.position.line, p.position.column, p.message) in base_other:
+                continue
+            other.append(p)
+    return Comparison(tuple(changes), unchanged, tuple(warnings), tuple(other), head.files)
+
+
+def _list_paths(paths: list[str], keep: int = 5) -> str:
+    shown = ", ".join(paths[:keep])
+    return shown + (f" and {len(paths) - keep} more" if len(paths) > keep else "")
+
+
+def _cited(entry: _Entry) -> list[str]:
+    data = entry.data if isinstance(entry.data, dict) else {}
+    keys: Any = data.get("references") if entry.kind == "map" else None
+    if entry.kind == "cycle":
+        provenance = data.get("provenance")
+        keys = provenance.get("references") if isinstance(provenance, dict) else None
+    return [k for k in keys if isinstance(k, str)] if isinstance(keys, list) else []
+
+
+def _warnings(base: _Side, head: _Side, changes: list[Change]) -> list[ReviewWarning]:
+    out: list[ReviewWarning] = []
+    head_cycles = [e for e in head.entries.values() if e.kind == "cycle"]
+    for c in changes:
+        if c.change != "removed":
+            continue
+        if c.kind == "map":
+            users = sorted(
+                e.path
+                for e in head_cycles
+                if e.key.partition("/")[0] == c.key
+                or (isinstance(e.data, dict) and e.data.get("map") == c.key)
+            )
+            if users:
+                out.append(
+                    ReviewWarning(
+                        "map-still-used",
+                        f"{c.path} is removed, but {len(users)} cycle "
+                        f"{'file' if len(users) == 1 else 'files'} of the head still use the map "
+                        f"{c.key}: {_list_paths(users)}",
+                    )
+                )
+        elif c.kind == "reference":
+            citing = sorted(e.path for e in head.entries.values() if c.key in _cited(e))
+            if citing:
+                out.append(
+                    ReviewWarning(
+                        "reference-still-cited",
+                        f"the reference {c.key} is removed from {_REFERENCES_FILE}, but "
+                        f"{len(citing)} {'entry' if len(citing) == 1 else 'entries'} of the head still "
+                        f"cite it: {_list_paths(citing)}",
+                    )
+                )
+    # Cycles that leave the record: removed (not renamed), or changed into another cycle.
+    leaving = [
+        c for c in changes if c.kind == "cycle" and (c.change == "removed" or c.identity == "different cycle")
+    ]
+    for c in leaving:
+        map_id, _, cycle_id = c.key.partition("/")
+        cycle = base.cycles.get((map_id, cycle_id))
+        map_entry = base.entries.get(("map", map_id))
+        if cycle is None or map_entry is None or ("map", map_id) not in head.entries:
+            continue
+        data = map_entry.data if isinstance(map_entry.data, dict) else {}
+        covering = [b for b in coverage_bounds(data) if abs(cycle.canonical) <= b]
+        if not covering:
+            continue
+        how = "is removed" if c.change == "removed" else "now starts on a different cycle"
+        out.append(
+            ReviewWarning(
+                "covered-cycle-removed",
+                f"{c.path} {how}: the base lists it as the cycle through {short(str(cycle.canonical))}, and "
+                f"a coverage claim of {map_entry.path} in the base (bound {max(covering)}) says every cycle "
+                f"with least |member| up to its bound is listed",
+                head.entries["map", map_id].path,
+            )
+        )
+    return out
+
+
+# --- Markdown --------------------------------------------------------------------------
+
+_MD_SPECIAL = re.compile(r"([\\`*_\[\]<>|&~#])")
+
+
+def _md(text: str) -> str:
+    """Text for a Markdown table cell: one line, with Markdown's punctuation escaped."""
+    return _MD_SPECIAL.sub(r"\\\1", " ".join(text.split()))
+
+
+def _code(text: str) -> str:
+    """A code span for a name or path; falls back to escaped text when a backtick or pipe would break it."""
+    if "`" in text or "|" in text or "\n" in text:
+        return _md(text)
+    return f"`{text}`"
+
+
+def _where(p: Problem) -> str:
+    return _code(str(p.position))
+
+
+def _problem_text(p: Problem) -> str:
+    label = "" if p.severity == "error" else f"{p.severity}: "
+    return f"{_where(p)} {label}{_md(p.message)}"
+
+
+def _verification(c: Change) -> str:
+    o = c.outcome
+    if o is None:
+        return "—"
+    if o.holds:
+        if not o.problems:
+            return "holds"
+        return "holds; " + "<br>".join(_problem_text(p) for p in o.problems)
+    if o.problems:
+        return "fails: " + "<br>".join(_problem_text(p) for p in o.problems)
+    return f"not verified: {_md(o.reason or 'unknown')}"
+
+
+def _fields_cell(c: Change) -> str:
+    if c.layout_only:
+        return "comments or layout only"
+    if c.change in ("added", "removed", "unchanged") or not c.fields:
+        return "—" if c.change != "renamed" else "none"
+    parts = []
+    for f in c.fields:
+        name = _code(f.name)
+        if f.before is None and f.after is not None:
+            parts.append(f"{name} (added)")
+        elif f.after is None and f.before is not None:
+            parts.append(f"{name} (removed)")
+        elif f.before is not None and f.after is not None and len(f.before) <= 24 and len(f.after) <= 24:
+            parts.append(f"{name}: {_md(f.before)} → {_md(f.after)}")
+        else:
+            parts.append(name)
+    return ", ".join(parts)
+
+
+def _entry_cell(c: Change) -> str:
+    if c.change == "renamed" and c.base_key is not None:
+        return f"{_code(c.key)} (was {_code(c.base_key)})"
+    return _code(c.key)
+
+
+def _change_cell(c: Change) -> str:
+    return "unchanged, now fails" if c.change == "unchanged" else c.change
+
+
+def _plural(n: int, one: str, many: str | None = None) -> str:
+    return f"{n} {one}" if n == 1 else f"{n} {many or one + 's'}"
+
+
+def render_markdown(comparison: Comparison, base_label: str, head_label: str) -> str:
+    """The review as Markdown: title, counts, a table per kind, warnings, other problems, verdict."""
+    lines = [f"# Catalogue review: {_code(base_label)} → {_code(head_label)}", ""]
+    lines.append("| entries | " + " | ".join(CHANGES) + " | unchanged |")
+    lines.append("| --- |" + " ---: |" * (len(CHANGES) + 1))
+    for kind in KINDS:
+        counts = [comparison.count(kind, ch) for ch in (*CHANGES, "unchanged")]
+        lines.append(f"| {_PLURAL[kind]} | " + " | ".join(map(str, counts)) + " |")
+    for kind in KINDS:
+        rows = comparison.of_kind(kind)
+        if not rows:
+            continue
+        lines += ["", f"## {_PLURAL[kind].capitalize()}", ""]
+        if kind == "reference":
+            lines += ["| entry | change | fields changed | verification |", "| --- | --- | --- | --- |"]
+        else:
+            lines += [
+                f"| entry | change | fields changed | same {kind}? | verification |",
+                "| --- | --- | --- | --- | --- |",
+            ]
+        for c in rows:
+            cells = [_entry_cell(c), _change_cell(c), _fields_cell(c)]
+            if kind != "reference":
+                cells.append(c.identity if c.identity is not None else "—")
+            cells.append(_verification(c))
+            lines.append("| " + " | ".join(cells) + " |")
+    if comparison.warnings:
+        lines += ["", "## Warnings", ""]
+        lines += [f"- {_md(w.message)}" for w in comparison.warnings]
+    if comparison.other_problems:
+        lines += ["", "## Other problems in the head", ""]
+        lines += [f"- {_problem_text(p)}" for p in comparison.other_problems]
+    lines += ["", _verdict(comparison)]
+    return "\n".join(lines) + "\n"
+
+
+def _verdict(comparison: Comparison) -> str:
+    failures = comparison.failures
+    others = sum(1 for p in comparison.other_problems if p.severity == "error")
+    if failures or others:
+        parts = []
+        if failures:
+            parts.append(f"{_plural(len(failures), 'entry', 'entries')} {'fails' if len(failures) == 1 else 'fail'}")
+        if others:
+            parts.append(f"{_plural(others, 'other problem')} in the head")
+        return "**Verdict: does not hold** — " + " and ".join(parts) + "."
+    touched = sum(1 for c in comparison.changes if c.change != "unchanged")
+    if not touched:
+        text = "**Verdict: holds** — no entry changed"
+    else:
+        text = "**Verdict: holds** — every added, changed and renamed entry verifies"
+    if comparison.warnings:
+        text += f"; read the {_plural(len(comparison.warnings), 'warning')} above"
+    return text + "."
+
+
+# --- GitHub workflow commands -----------------------------------------------------------
+
+
+def _escape_data(text: str) -> str:
+    return text.replace("%", "%25").replace("\r", "%0D").replace("\n", "%0A")
+
+
+def _escape_property(text: str) -> str:
+    return _escape_data(text).replace(":", "%3A").replace(",", "%2C")
+
+
+def workflow_command(
+    command: str, message: str, file: str | None = None, line: int = 0, col: int = 0
+) -> str:
+    """One GitHub Actions workflow command: ``::error file=F,line=L,col=C::message``.
+
+    Line and column are left out when 0 (a problem with the file as a whole).
+    """
+    props = []
+    if file is not None:
+        props.append(f"file={_escape_property(file)}")
+        if line:
+            props.append(f"line={line}")
+            if col:
+                props.append(f"col={col}")
+    head = f"::{command} {','.join(props)}" if props else f"::{command}"
+    return f"{head}::{_escape_data(message)}"
+
+
+def github_commands(comparison: Comparison, prefix: str) -> list[str]:
+    """A command per problem of an added, changed, renamed or newly failing entry, and per new other problem.
+
+    ``prefix`` is the catalogue's path from the repository root (``catalogue``), put before each file.
+    """
+    out: list[str] = []
+    seen: set[str] = set()
+
+    def emit(p: Problem) -> None:
+        command = "error" if p.severity == "error" else "warning"
+        rel = p.position.file.as_posix()
+        file = rel if prefix in ("", ".") else f"{prefix.rstrip('/')}/{rel}"
+        text = workflow_command(command, p.message, file, p.position.line, p.position.column)
+        if text not in seen:
+            seen.add(text)
+            out.append(text)
+
+    for c in comparison.changes:
+        if c.outcome is not None:
+            for p in c.outcome.problems:
+                emit(p)
+    for p in comparison.other_problems:
+        emit(p)
+    for w in comparison.warnings:
+        file = None
+        if w.path is not None:
+            file = w.path if prefix in ("", ".") else f"{prefix.rstrip('/')}/{w.path}"
+        out.append(workflow_command("warning", w.message, file))
+    return out
+
+
+# --- git revisions --------------------------------------------------------------------
+
+
+def _git(repo: Path, *args: str, data: bytes | None = None) -> bytes:
+    try:
+        done = subprocess.run(["git", "-C", str(repo), *args], input=data, capture_output=True, check=False)
+    except FileNotFoundError:
+        raise UsageError("--git needs the git program, which was not found") from None
+    if done.returncode:
+        reason = done.stderr.decode("utf-8", "replace").strip().splitlines()
+        raise UsageError(f"git {args[0]} failed: {reason[-1] if reason else 'exit status ' + str(done.returncode)}")
+    return done.stdout
+
+
+def _catalogue_path(path: str) -> PurePosixPath:
+    pure = PurePosixPath(path)
+    if pure.is_absolute() or ".." in pure.parts:
+        raise UsageError(f"--path: expected a path inside the repository, got '{path}'")
+    return pure
+
+
+def revision_catalogue(repo: Path, revision: str, path: str, dest: Path) -> Path:
+    """Write the files under ``path`` at ``revision`` of the git repository ``repo`` into ``dest``.
+
+    Nothing is checked out: the tree is listed (git ls-tree) and the blobs read (git cat-file), so the
+    working tree, the index and export attributes play no part.  A symbolic link in the revision becomes
+    a link to nowhere (verification reports links without following them).  Returns the catalogue root
+    inside ``dest``.  Raises UsageError for an unknown revision or a revision without ``path``.
+    """
+    if revision.startswith("-"):
+        raise UsageError(f"expected a git revision, got '{revision}'")
+    pure = _catalogue_path(path)
+    try:
+        oid = _git(repo, "rev-parse", "--verify", "--quiet", f"{revision}^{{commit}}").decode().strip()
+    except UsageError:
+        raise UsageError(f"'{revision}' is not a commit of the repository at {repo}") from None
+    listing = _git(repo, "ls-tree", "-r", "-z", oid, "--", str(pure))
+    items = []
+    for record in listing.split(b"\0"):
+        if not record:
+            continue
+        meta, _, name = record.partition(b"\t")
+        mode, kind, obj = meta.split(b" ")
+        items.append((mode, kind, obj, PurePosixPath(os.fsdecode(name))))
+    if not items:
+        raise UsageError(f"revision '{revision}' has no files under '{pure}'")
+    blobs = [obj for mode, kind, obj, _ in items if kind == b"blob" and mode != b"120000"]
+    contents = _cat_blobs(repo, blobs)
+    root = dest / pure
+    root.mkdir(parents=True, exist_ok=True)
+    for mode, kind, obj, name in items:
+        if any(part in ("", ".", "..") for part in name.parts) or name.is_absolute():
+            raise PeriplusError(f"revision '{revision}' holds a path that cannot be written safely: '{name}'")
+        target = dest.joinpath(*name.parts)
+        target.parent.mkdir(parents=True, exist_ok=True)
+        if kind == b"commit":  # a submodule: a folder, as a checkout would leave it
+            target.mkdir(exist_ok=True)
+        elif mode == b"120000":
+            os.symlink("symbolic-link-in-the-revision", target)
+        else:
+            target.write_bytes(contents[obj])
+    return root
+
+
+def _cat_blobs(repo: Path, objects: list[bytes]) -> dict[bytes, bytes]:
+    if not objects:
+        return {}
+    out = _git(repo, "cat-file", "--batch", data=b"".join(o + b"\n" for o in objects))
+    contents: dict[bytes, bytes] = {}
+    pos = 0
+    while pos < len(out):
+        end = out.index(b"\n", pos)
+        oid, _, size = out[pos:end].split(b" ")
+        start = end + 1
+        contents[oid] = out[start : start + int(size)]
+        pos = start + int(size) + 1
+    return contents
+
+
+# --- the command --------------------------------------------------------------------
+
+
+def _positive(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a positive integer, got '{text}'") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"expected a positive integer, got {value}")
+    return value
+
+
+def add_review_command(subparsers: Any) -> argparse.ArgumentParser:
+    """Add ``review`` to the subcommands of the ``periplus`` parser."""
+    review = subparsers.add_parser(
+        "review",
+        help="report what a pull request changes in the catalogue and whether it holds",
+        description="Verify the catalogues BASE and HEAD and report, entry by entry, what HEAD adds, changes, "
+        "renames and removes, with the verification result of every added or changed entry. BASE and HEAD are "
+        "catalogue directories, or with --git revisions of a git repository. Exit 1 when an added or changed "
+        "entry fails, or an untouched entry fails in HEAD although it held in BASE (a removal that breaks a "
+        "dependency); warnings alone exit 0; 2 for usage errors.",
+    )
+    review.add_argument("base", metavar="BASE", help="the catalogue before the change (a directory or a revision)")
+    review.add_argument("head", metavar="HEAD", help="the catalogue after the change (a directory or a revision)")
+    review.add_argument("--git", action="store_true", help="read BASE and HEAD as git revisions, without checkout")
+    review.add_argument(
+        "--repo", type=Path, default=None, metavar="DIR", help="the git repository (default: the current directory)"
+    )
+    review.add_argument(
+        "--path",
+        default=None,
+        metavar="PATH",
+        help="with --git, the catalogue's path inside each revision (default: catalogue)",
+    )
+    review.add_argument(
+        "--format",
+        choices=("markdown", "github"),
+        default="markdown",
+        help="github: print a GitHub Actions ::error command per problem before the Markdown",
+    )
+    review.add_argument(
+        "--max-steps",
+        type=_positive,
+        default=DEFAULT_MAX_STEPS,
+        metavar="N",
+        help=f"give up on an orbit after N steps (default {DEFAULT_MAX_STEPS:,})",
+    )
+    review.add_argument(
+        "--max-bits", type=_positive, default=None, metavar="B", help="give up once a member exceeds B bits"
+    )
+    review.set_defaults(run=run_review)
+    return review
+
+
+@contextmanager
+def _catalogues(args: argparse.Namespace) -> Iterator[tuple[Path, Path, str, str, str]]:
+    """Yield the base and head catalogue roots, the head's path prefix for annotations, and two labels."""
+    if not args.git:
+        if args.repo is not None or args.path is not None:
+            raise UsageError("--repo and --path apply only with --git")
+        head = Path(args.head)
+        yield Path(args.base), head, head.as_posix(), args.base, args.head
+        return
+    repo = args.repo if args.repo is not None else Path.cwd()
+    path = args.path if args.path is not None else "catalogue"
+    top = Path(_git(repo, "rev-parse", "--show-toplevel").decode().strip())
+    with tempfile.TemporaryDirectory(prefix="periplus-review-") as tmp:
+        base = revision_catalogue(top, args.base, path, Path(tmp) / "base")
+        head = revision_catalogue(top, args.head, path, Path(tmp) / "head")
+        yield base, head, _catalogue_path(path).as_posix(), args.base, args.head
+
+
+def run_review(args: argparse.Namespace) -> int:
+    """Run ``periplus review``; return the exit status."""
+    try:
+        limits = Limits(max_steps=args.max_steps, max_bits=args.max_bits)
+        with _catalogues(args) as (base_root, head_root, prefix, base_label, head_label):
+            base = verify_catalogue(base_root, limits)
+            head = verify_catalogue(head_root, limits)
+            comparison = compare(base, head)
+    except PeriplusError as exc:
+        print(f"periplus: error: {exc}", file=sys.stderr)
+        return exc.exit_code
+    if args.format == "github":
+        for line in github_commands(comparison, prefix):
+            print(line)
+    sys.stdout.write(render_markdown(comparison, base_label, head_label))
+    return 0 if comparison.ok else 1
