@@ -3,15 +3,21 @@
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from collections.abc import Sequence
 from pathlib import Path
 
 from . import __version__
 from .build import build_site
+from .draft import draft_cycle
 from .errors import PeriplusError, UsageError
+from .huntcli import add_hunt_command
+from .integers import show
 from .model import Report
+from .odds import length_odds, odds_table
 from .preview import serve
+from .review import add_review_command
 from .verify import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, Limits, verify_catalogue
 
 __all__ = ["main"]
@@ -86,6 +92,45 @@ def _parser() -> argparse.ArgumentParser:
         help="address the site will be published at (absolute links in the feed, and sitemap.xml)",
     )
     _add_limits(build)
+    draft = commands.add_parser(
+        "draft",
+        help="derive a cycle from a start or a word and print its catalogue entry",
+        description="Derive the cycle of MAP through --start N (or following --word W) exactly and print a complete "
+        "entry with every claim filled in and the provenance left for you. Exit 0 with an entry, 1 when there is "
+        "none (not a cycle, already catalogued), 2 for usage errors.",
+    )
+    draft.add_argument("map", metavar="MAP", help="a map id of the catalogue")
+    source = draft.add_mutually_exclusive_group(required=True)
+    source.add_argument("--start", metavar="N", help="any member of the cycle")
+    source.add_argument("--word", metavar="W", help="the residues along the cycle: digits, or comma-separated")
+    draft.add_argument("--write", action="store_true", help="also write the entry where it belongs in the catalogue")
+    draft.add_argument(
+        "--catalogue",
+        default="catalogue",
+        type=Path,
+        metavar="CATALOGUE",
+        help="catalogue directory (default: catalogue)",
+    )
+    _add_limits(draft)
+    odds = commands.add_parser(
+        "odds",
+        help="the heuristic chance of an integer cycle at each length, beside the catalogue's count",
+        description="For each length k and count x of letters 1 (odd steps), the number L(k, x) of aperiodic "
+        "necklaces, the target m^k - A and the heuristic chance 1 - (1 - g/|target|)^L that one of the L words "
+        "gives an integer cycle; beside it, how many catalogued cycles have that length and x. A model, not a "
+        "theorem: see DEVELOPERS.md.",
+    )
+    odds.add_argument("map", metavar="MAP", help="a map id of the catalogue (2 branches)")
+    odds.add_argument("--lengths", required=True, metavar="K1..K2", help="the lengths to show, e.g. 1..20 or 11")
+    odds.add_argument(
+        "--catalogue",
+        default="catalogue",
+        type=Path,
+        metavar="CATALOGUE",
+        help="catalogue directory (default: catalogue)",
+    )
+    add_hunt_command(commands)
+    add_review_command(commands)
     preview = commands.add_parser("preview", help="serve a built site on localhost for reading")
     preview.add_argument(
         "site", nargs="?", default="site", type=Path, metavar="DIR", help="the built site (default: site)"
@@ -160,6 +205,72 @@ def _build(args: argparse.Namespace) -> int:
     return 0
 
 
+def _verified(args: argparse.Namespace) -> Report:
+    """Verify the catalogue a command works on; print its problems if it does not hold."""
+    report = verify_catalogue(args.catalogue, _limits(args) if hasattr(args, "max_steps") else Limits())
+    if not report.ok:
+        for problem in report.problems:
+            print(problem, file=sys.stderr)
+        print(summary(report), file=sys.stderr)
+    return report
+
+
+def _draft(args: argparse.Namespace) -> int:
+    report = _verified(args)
+    if not report.ok and args.map not in report.catalogue.maps:
+        return 1
+    result = draft_cycle(report.catalogue, args.catalogue, args.map, args.start, args.word, _limits(args))
+    if not result.ok or result.text is None or result.path is None:
+        print(f"periplus: {result.message}", file=sys.stderr)
+        return 1
+    sys.stdout.write(result.text)
+    if args.write:
+        if result.path.exists():
+            raise UsageError(f"{result.path} exists already; not overwritten")
+        result.path.parent.mkdir(parents=True, exist_ok=True)
+        result.path.write_text(result.text, encoding="utf-8")
+        print(f"wrote {result.path}; fill in found_by and method before proposing it", file=sys.stderr)
+    return 0
+
+
+def _lengths(text: str) -> range:
+    lo, sep, hi = text.partition("..")
+    try:
+        first, last = int(lo), int(hi) if sep else int(lo)
+    except ValueError:
+        raise UsageError(f"--lengths: expected K or K1..K2, got '{text}'") from None
+    if not 1 <= first <= last <= 10_000:
+        raise UsageError(f"--lengths: expected 1 <= K1 <= K2 <= 10000, got '{text}'")
+    return range(first, last + 1)
+
+
+def _odds(args: argparse.Namespace) -> int:
+    lengths = _lengths(args.lengths)
+    report = _verified(args)
+    entry = report.catalogue.maps.get(args.map)
+    if entry is None:
+        raise UsageError(f"expected a map id of the catalogue, got '{args.map}'")
+    if entry.modulus != 2:
+        raise UsageError(f"odds: expected a map with 2 branches, got {args.map} with modulus {entry.modulus}")
+    counts: dict[tuple[int, int], int] = {}
+    for cycle in report.catalogue.cycles.get(args.map, ()):
+        key = (cycle.length, cycle.residue_counts[1])
+        counts[key] = counts.get(key, 0) + 1
+    print(f"{'k':>5} {'x':>5} {'L(k,x)':>14} {'target 2^k - A':>24} {'chance':>9} {'catalogued':>10}")
+    for k in lengths:
+        rows = odds_table(entry.dynamics, k)
+        for row in rows:
+            if row.necklaces == 0:
+                continue
+            print(
+                f"{k:>5} {row.x:>5} {show(row.necklaces):>14} {show(row.target):>24} "
+                f"{100 * row.chance:>8.2f}% {counts.get((k, row.x), 0):>10}"
+            )
+        total = sum(counts.get((k, x), 0) for x in range(k + 1))
+        print(f"{k:>5} {'all':>5} {'':>14} {'':>24} {100 * length_odds(entry.dynamics, k):>8.2f}% {total:>10}")
+    return 0
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit status."""
     args = _parser().parse_args(argv)
@@ -168,6 +279,12 @@ def main(argv: Sequence[str] | None = None) -> int:
             return _verify(args)
         if args.command == "build":
             return _build(args)
+        if args.command == "draft":
+            return _draft(args)
+        if args.command == "odds":
+            return _odds(args)
+        if hasattr(args, "run"):  # commands that define their own runner (hunt, review)
+            return int(args.run(args))
         if args.command == "preview":
             serve(args.site, args.port)
             return 0
@@ -178,3 +295,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("periplus: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:
+        # The reader of our output went away (periplus odds ... | head): not an error of ours.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 141

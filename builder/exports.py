@@ -28,6 +28,12 @@ def json_text(data: Any) -> str:
     return json.dumps(data, ensure_ascii=False, indent=1, sort_keys=True) + "\n"
 
 
+def _cell(text: str) -> str:
+    """Free text for a CSV cell: a leading = + - @ would be read as a formula by spreadsheets
+    (OWASP, "CSV Injection"), so such text gets a leading apostrophe."""
+    return "'" + text if text[:1] in ("=", "+", "-", "@", "\t", "\r") else text
+
+
 def cycles_csv(views: SiteViews) -> str:
     out = io.StringIO()
     out.write(f"# {RECORD_TITLE}: every verified cycle, one per row; members are in data/catalogue.json\n")
@@ -39,7 +45,7 @@ def cycles_csv(views: SiteViews) -> str:
                 r["map"], r["id"], r["canonical"], r["length"], r["word"],
                 " ".join(map(str, r["residue_counts"])), r["min"], r["max"], r["A"], r["B"], r["target"],
                 "" if r["standard_length"] is None else r["standard_length"],
-                r["provenance"]["found_by"], r["provenance"]["found_on"], r["url"],
+                _cell(r["provenance"]["found_by"]), r["provenance"]["found_on"], r["url"],
             ]
         )  # fmt: skip
     return out.getvalue()

@@ -70,6 +70,7 @@ __all__ = [
     "merge_results",
     "order_key",
     "settle",
+    "starts_of",
 ]
 
 DEFAULT_MAX_STEPS = 100_000
@@ -244,30 +245,25 @@ def merge_results(parts: Iterable[HuntResult]) -> list[HuntResult]:
     the result of hunting it in one piece.  Raises ValueError when two
     ranges overlap or two parts disagree about a cycle.
     """
-    ordered = sorted(parts, key=lambda p: (p.low, p.bound))
+    ordered = [p for p in sorted(parts, key=lambda p: (p.low, p.bound)) if p.low <= p.bound]
     pieces: list[HuntResult] = []
+    if not ordered:
+        return pieces
+    low, high = ordered[0].low, ordered[0].low - 1
     cycles: dict[int, CycleFound] = {}
     reasons: dict[int, str] = {}
-    low = high = -1
     for part in ordered:
-        if part.low > part.bound:
-            continue  # an empty range
-        if pieces or high >= 0:
-            if part.low <= high:
-                raise ValueError(f"magnitude ranges {low}..{high} and {part.low}..{part.bound} overlap")
-            if part.low > high + 1:
-                pieces.append(_finish(low, high, cycles, reasons))
-                cycles, reasons = {}, {}
-                low = part.low
-        else:
+        if part.low <= high:
+            raise ValueError(f"magnitude ranges {low}..{high} and {part.low}..{part.bound} overlap")
+        if part.low > high + 1:
+            pieces.append(_finish(low, high, cycles, reasons))
+            cycles, reasons = {}, {}
             low = part.low
         high = part.bound
         for c, cycle in part.cycles.items():
             if cycles.setdefault(c, cycle) != cycle:
                 raise ValueError(f"two parts disagree about the cycle through {c}")
-        reasons.update(part.reasons)
         for s in part.unresolved:
-            reasons.setdefault(s, "steps")
-    if high >= 0:
-        pieces.append(_finish(low, high, cycles, reasons))
+            reasons[s] = part.reasons.get(s, "steps")
+    pieces.append(_finish(low, high, cycles, reasons))
     return pieces

@@ -16,6 +16,20 @@ class _Handler(http.server.SimpleHTTPRequestHandler):
     def log_message(self, format: str, *args: object) -> None:  # noqa: A002 - the base class's name
         pass  # quiet: the address printed at start is what a reader needs
 
+    def send_error(self, code: int, message: str | None = None, explain: str | None = None) -> None:
+        """Answer a missing page with the site's own 404 page, as a static host would."""
+        page = Path(self.directory) / "404.html"
+        if code != 404 or not page.is_file():
+            super().send_error(code, message, explain)
+            return
+        body = page.read_bytes()
+        self.send_response(404, message)
+        self.send_header("Content-Type", "text/html; charset=utf-8")
+        self.send_header("Content-Length", str(len(body)))
+        self.end_headers()
+        if self.command != "HEAD":
+            self.wfile.write(body)
+
 
 def serve(site: Path, port: int = 8000, host: str = "127.0.0.1") -> None:
     """Serve ``site`` until interrupted; print the address first."""

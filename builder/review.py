@@ -38,7 +38,7 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path, PurePosixPath
 from typing import Any
 
-from .errors import PeriplusError, Position, Problem, UsageError
+from .errors import PeriplusError, Problem, UsageError
 from .integers import DECIMAL_INTEGER, parse_decimal
 from .load import Mapping as MappingNode
 from .load import Node, Scalar, read_file, scan_catalogue
@@ -84,6 +84,7 @@ class FieldChange:
     name: str
     before: str | None
     after: str | None
+    values: bool = True  # both sides give a single value (so before -> after can be shown)
 
 
 @dataclass(frozen=True, slots=True)
@@ -245,9 +246,7 @@ def _read_side(report: Report) -> _Side:
         if file.kind == "references":
             if isinstance(node, MappingNode):
                 for key, (_, value) in node.entries.items():
-                    entries["reference", key] = _Entry(
-                        "reference", key, rel, _flatten(value), _plain(value), None
-                    )
+                    entries["reference", key] = _Entry("reference", key, rel, _flatten(value), _plain(value), None)
             else:
                 readable = False
             continue
@@ -284,8 +283,7 @@ def _outcome(side: _Side, entry: _Entry) -> Outcome:
     if entry.kind == "map":
         verified = entry.key in catalogue.maps
     elif entry.kind == "cycle":
-        map_id, _, cycle_id = entry.key.partition("/")
-        verified = (map_id, cycle_id) in side.cycles
+        verified = _cycle_key(entry.key) in side.cycles
     else:
         verified = entry.key in catalogue.references
     reason = None
@@ -313,8 +311,7 @@ def _describe(value: Any) -> str | None:
     if kind == "scalar":
         return str(value[1])
     if kind == "list":
-        n = len(value[1])
-        return f"a list of {n}" if n != 1 else "a list of 1"
+        return f"a list of {len(value[1])}"
     if kind == "mapping":
         return "a mapping"
     return "a value"
@@ -323,10 +320,21 @@ def _describe(value: Any) -> str | None:
 def _field_changes(base: dict[str, Any] | None, head: dict[str, Any] | None) -> tuple[FieldChange, ...]:
     if base is None or head is None:
         return (FieldChange("(the whole file: it cannot be read as an entry)", None, None),)
-    names = sorted(set(base) | set(head), key=lambda n: (n.split(".")[0] not in _FIELD_ORDER, _order(n), n))
+    names = sorted(set(base) | set(head), key=lambda n: (_order(n), n))
     return tuple(
-        FieldChange(n, _describe(base.get(n)), _describe(head.get(n))) for n in names if base.get(n) != head.get(n)
+        FieldChange(
+            n,
+            _describe(base.get(n)),
+            _describe(head.get(n)),
+            _is_scalar(base.get(n)) and _is_scalar(head.get(n)),
+        )
+        for n in names
+        if base.get(n) != head.get(n)
     )
+
+
+def _is_scalar(value: Any) -> bool:
+    return value is not None and value[0] == "scalar"
 
 
 # Fields in the order the catalogue format lists them (catalogue/README.md); others sort after, by name.
@@ -363,10 +371,16 @@ def _order(name: str) -> tuple[int, int]:
     return first, second
 
 
+def _cycle_key(key: str) -> tuple[str, str]:
+    """(map id, cycle id) of a cycle entry's key ``map-id/cycle-id``."""
+    map_id, _, cycle_id = key.partition("/")
+    return map_id, cycle_id
+
+
 def _identity(kind: str, base: _Side, head: _Side, base_key: str, head_key: str) -> str | None:
     if kind == "cycle":
-        b = base.cycles.get(tuple(base_key.split("/", 1)))  # type: ignore[arg-type]
-        h = head.cycles.get(tuple(head_key.split("/", 1)))  # type: ignore[arg-type]
+        b = base.cycles.get(_cycle_key(base_key))
+        h = head.cycles.get(_cycle_key(head_key))
         if b is None or h is None:
             return None
         return "same cycle" if (b.map_id, b.canonical) == (h.map_id, h.canonical) else "different cycle"
@@ -404,6 +418,13 @@ def compare(base: Report, head: Report) -> Comparison:
     fields as written; everything mathematical comes from the reports.
     """
     b_side, h_side = _read_side(base), _read_side(head)
+    # A references.yaml that cannot be read has no keys to compare: its entries are those of the other
+    # side, each with unknown fields (so "changed", and failing with the file's problems).
+    for this, that in ((b_side, h_side), (h_side, b_side)):
+        if not this.references_readable:
+            for (kind, key), e in list(that.entries.items()):
+                if kind == "reference" and that.references_readable:
+                    this.entries[kind, key] = _Entry(kind, key, e.path, None, None, None)
     changes: list[Change] = []
     unchanged = dict.fromkeys(KINDS, 0)
     removed: list[_Entry] = []
@@ -418,7 +439,12 @@ def compare(base: Report, head: Report) -> Comparison:
             added.append(h)
             continue
         outcome = _outcome(h_side, h)
-        fields = () if b.fields is not None and b.fields == h.fields else _field_changes(b.fields, h.fields)
+        if b.fields is None and h.fields is None and b.text == h.text:
+            fields: tuple[FieldChange, ...] = ()
+        elif b.fields is not None and b.fields == h.fields:
+            fields = ()
+        else:
+            fields = _field_changes(b.fields, h.fields)
         layout_only = not fields and b.text != h.text
         if fields or layout_only:
             identity = _identity(h.kind, b_side, h_side, b.key, h.key)
@@ -433,11 +459,11 @@ def compare(base: Report, head: Report) -> Comparison:
     renamed: list[Change] = []
     arrivals: dict[tuple[str, int], _Entry] = {}
     for h in added:
-        cycle = h_side.cycles.get(tuple(h.key.split("/", 1)))  # type: ignore[arg-type]
+        cycle = h_side.cycles.get(_cycle_key(h.key))
         if h.kind == "cycle" and cycle is not None:
             arrivals.setdefault((cycle.map_id, cycle.canonical), h)
     for b in list(removed):
-        cycle = b_side.cycles.get(tuple(b.key.split("/", 1)))  # type: ignore[arg-type]
+        cycle = b_side.cycles.get(_cycle_key(b.key))
         if b.kind != "cycle" or cycle is None:
             continue
         h_match = arrivals.pop((cycle.map_id, cycle.canonical), None)
@@ -467,9 +493,7 @@ def compare(base: Report, head: Report) -> Comparison:
     warnings = _warnings(b_side, h_side, changes)
     attributed = {e.path for e in h_side.entries.values()}
     base_other = {
-        (rel, p.position.line, p.position.column, p.message)
-        for rel, found in b_side.problems.items()
-        for p in found
+        (rel, p.position.line, p.position.column, p.message) for rel, found in b_side.problems.items() for p in found
     }
     other = []
     for rel, found in sorted(h_side.problems.items()):
@@ -507,8 +531,7 @@ def _warnings(base: _Side, head: _Side, changes: list[Change]) -> list[ReviewWar
             users = sorted(
                 e.path
                 for e in head_cycles
-                if e.key.partition("/")[0] == c.key
-                or (isinstance(e.data, dict) and e.data.get("map") == c.key)
+                if e.key.partition("/")[0] == c.key or (isinstance(e.data, dict) and e.data.get("map") == c.key)
             )
             if users:
                 out.append(
@@ -531,11 +554,9 @@ def _warnings(base: _Side, head: _Side, changes: list[Change]) -> list[ReviewWar
                     )
                 )
     # Cycles that leave the record: removed (not renamed), or changed into another cycle.
-    leaving = [
-        c for c in changes if c.kind == "cycle" and (c.change == "removed" or c.identity == "different cycle")
-    ]
+    leaving = [c for c in changes if c.kind == "cycle" and (c.change == "removed" or c.identity == "different cycle")]
     for c in leaving:
-        map_id, _, cycle_id = c.key.partition("/")
+        map_id, cycle_id = _cycle_key(c.key)
         cycle = base.cycles.get((map_id, cycle_id))
         map_entry = base.entries.get(("map", map_id))
         if cycle is None or map_entry is None or ("map", map_id) not in head.entries:
@@ -608,7 +629,7 @@ def _fields_cell(c: Change) -> str:
             parts.append(f"{name} (added)")
         elif f.after is None and f.before is not None:
             parts.append(f"{name} (removed)")
-        elif f.before is not None and f.after is not None and len(f.before) <= 24 and len(f.after) <= 24:
+        elif f.values and f.before is not None and f.after is not None and max(len(f.before), len(f.after)) <= 24:
             parts.append(f"{name}: {_md(f.before)} → {_md(f.after)}")
         else:
             parts.append(name)
@@ -671,7 +692,13 @@ def _verdict(comparison: Comparison) -> str:
     if failures or others:
         parts = []
         if failures:
-            parts.append(f"{_plural(len(failures), 'entry', 'entries')} {'fails' if len(failures) == 1 else 'fail'}")
+            text = f"{_plural(len(failures), 'entry', 'entries')} {'fails' if len(failures) == 1 else 'fail'}"
+            untouched = sum(1 for c in failures if c.change == "unchanged")
+            if untouched and len(failures) == 1:
+                text += ", untouched by the change (it held in the base)"
+            elif untouched:
+                text += f", {untouched} of them untouched by the change (they held in the base)"
+            parts.append(text)
         if others:
             parts.append(f"{_plural(others, 'other problem')} in the head")
         return "**Verdict: does not hold** — " + " and ".join(parts) + "."
@@ -696,9 +723,7 @@ def _escape_property(text: str) -> str:
     return _escape_data(text).replace(":", "%3A").replace(",", "%2C")
 
 
-def workflow_command(
-    command: str, message: str, file: str | None = None, line: int = 0, col: int = 0
-) -> str:
+def workflow_command(command: str, message: str, file: str | None = None, line: int = 0, col: int = 0) -> str:
     """One GitHub Actions workflow command: ``::error file=F,line=L,col=C::message``.
 
     Line and column are left out when 0 (a problem with the file as a whole).
@@ -786,9 +811,9 @@ def revision_catalogue(repo: Path, revision: str, path: str, dest: Path) -> Path
     for record in listing.split(b"\0"):
         if not record:
             continue
-        meta, _, name = record.partition(b"\t")
+        meta, _, raw_name = record.partition(b"\t")
         mode, kind, obj = meta.split(b" ")
-        items.append((mode, kind, obj, PurePosixPath(os.fsdecode(name))))
+        items.append((mode, kind, obj, PurePosixPath(os.fsdecode(raw_name))))
     if not items:
         raise UsageError(f"revision '{revision}' has no files under '{pure}'")
     blobs = [obj for mode, kind, obj, _ in items if kind == b"blob" and mode != b"120000"]
@@ -839,7 +864,7 @@ def _positive(text: str) -> int:
 
 def add_review_command(subparsers: Any) -> argparse.ArgumentParser:
     """Add ``review`` to the subcommands of the ``periplus`` parser."""
-    review = subparsers.add_parser(
+    review: argparse.ArgumentParser = subparsers.add_parser(
         "review",
         help="report what a pull request changes in the catalogue and whether it holds",
         description="Verify the catalogues BASE and HEAD and report, entry by entry, what HEAD adds, changes, "

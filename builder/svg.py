@@ -11,7 +11,7 @@ import math
 from collections.abc import Sequence
 from html import escape
 
-__all__ = ["orbit_plot", "word_strip"]
+__all__ = ["odds_chart", "orbit_plot", "word_strip"]
 
 WIDTH, HEIGHT = 640, 240
 LEFT, RIGHT, TOP, BOTTOM = 56, 12, 12, 32
@@ -102,4 +102,50 @@ def word_strip(word: Sequence[int], modulus: int, title: str, svg_id: str) -> st
         f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {_fmt(width)} {height}" width="{_fmt(width)}" '
         f'height="{height}" role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
         f'<title id="{svg_id}-t">{escape(title)}</title><desc id="{svg_id}-d">{escape(desc)}</desc>{rects}</svg>'
+    )
+
+
+def odds_chart(rows: Sequence[tuple[int, float, int]], title: str, svg_id: str) -> str:
+    """Bars: the heuristic chance of an integer cycle at each length k; dots: catalogued cycles of that length."""
+    plot_w = WIDTH - LEFT - RIGHT
+    plot_h = HEIGHT - TOP - BOTTOM
+    n = len(rows)
+    slot = plot_w / max(n, 1)
+    most = max((count for _, _, count in rows), default=0)
+    bars = []
+    dots = []
+    for i, (k, chance, count) in enumerate(rows):
+        h = plot_h * chance
+        x0 = LEFT + i * slot
+        bars.append(
+            f'<rect x="{_fmt(x0 + slot * 0.1)}" y="{_fmt(TOP + plot_h - h)}" width="{_fmt(slot * 0.8)}" '
+            f'height="{_fmt(h)}" fill="#4a5d7e"><title>length {k}: chance {100 * chance:.2f}%, '
+            f"{count} catalogued</title></rect>"
+        )
+        if count:
+            cy = TOP + plot_h * (1 - count / most) if most else TOP + plot_h
+            dots.append(f'<circle cx="{_fmt(x0 + slot / 2)}" cy="{_fmt(cy)}" r="3" fill="#c0692b"/>')
+    labels = []
+    step = max(1, math.ceil(n / 10))
+    for i in range(0, n, step):
+        labels.append(
+            f'<text x="{_fmt(LEFT + (i + 0.5) * slot)}" y="{HEIGHT - 14}" font-size="11" text-anchor="middle" '
+            f'fill="currentColor">{rows[i][0]}</text>'
+        )
+    desc = (
+        f"Bars: the heuristic chance, from 0 to 100%, that some word of each length from {rows[0][0]} to "
+        f"{rows[-1][0]} gives an integer cycle. Dots: how many catalogued cycles have that length "
+        f"(scaled so the most, {most}, is at the top)."
+        if rows
+        else "No lengths."
+    )
+    return (
+        f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {WIDTH} {HEIGHT}" width="{WIDTH}" height="{HEIGHT}" '
+        f'role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
+        f'<title id="{svg_id}-t">{escape(title)}</title><desc id="{svg_id}-d">{escape(desc)}</desc>'
+        f'<line x1="{LEFT}" x2="{WIDTH - RIGHT}" y1="{TOP + plot_h}" y2="{TOP + plot_h}" stroke="currentColor"/>'
+        f'<text x="{LEFT - 6}" y="{TOP + 4}" text-anchor="end" font-size="11" fill="currentColor">100%</text>'
+        f'<text x="{LEFT - 6}" y="{TOP + plot_h + 4}" text-anchor="end" font-size="11" fill="currentColor">0%</text>'
+        f'<text x="{WIDTH - RIGHT}" y="{HEIGHT - 1}" text-anchor="end" font-size="11" fill="currentColor">length k</text>'
+        f"{''.join(bars)}{''.join(dots)}{''.join(labels)}</svg>"
     )

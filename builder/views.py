@@ -20,8 +20,9 @@ from .integers import show, to_decimal
 from .markup import render_notes
 from .mathml import cycle_equation_mathml, map_definition_mathml
 from .model import Catalogue, Coverage, Cycle, MapEntry, Reference, word_text
+from .odds import length_odds
 from .relations import Relations, find_relations, qx_plus_d
-from .svg import orbit_plot, word_strip
+from .svg import odds_chart, orbit_plot, word_strip
 
 __all__ = ["RECORD_TITLE", "Page", "SiteViews", "build_views", "cycle_url", "map_url"]
 
@@ -33,6 +34,7 @@ WORD_ON_PAGE = 4000
 RECENT = 12
 SAME_WORD_SHOWN = 12
 UNRESOLVED_SHOWN = 60
+ODDS_MIN_LENGTH, ODDS_MAX_LENGTH = 40, 120
 #: The search index lists up to this many members of each cycle.
 SEARCH_MEMBERS = 1000
 
@@ -66,10 +68,13 @@ class Page:
     section: str  # which part of the navigation it belongs to
     context: dict[str, Any] = field(default_factory=dict)
     crumbs: tuple[Link, ...] = ()
+    fixed_root: str | None = None  # an absolute site address, for pages served from any path (404)
 
     @property
     def root(self) -> str:
-        """The relative path from this page back to the site root ('' or '../..' style, with a slash)."""
+        """The path from this page back to the site root ('' or '../..' style, with a slash)."""
+        if self.fixed_root is not None:
+            return self.fixed_root
         depth = self.path.count("/")
         return "../" * depth
 
@@ -302,7 +307,7 @@ class _PageBuilder:
             out.append(
                 {
                     "label": _reference_label(ref),
-                    "url": f"references/index.html#{key}",
+                    "url": f"references/index.html#ref-{key}",
                     "title": ref.title,
                     "doi": ref.doi,
                     "href": f"https://doi.org/{ref.doi}" if ref.doi else ref.url,
@@ -375,7 +380,9 @@ class _PageBuilder:
         pages.append(self.references_page())
         pages.append(Page("search/index.html", "search.html", "Search the record", "search"))
         pages.append(self.data_page())
-        pages.append(Page("404.html", "404.html", "Page not found", ""))
+        # A host serves 404.html for a missing address at any depth, so with a known
+        # base address its links are absolute; without one they assume the site root.
+        pages.append(Page("404.html", "404.html", "Page not found", "", fixed_root=self.base_url or None))
         pages.append(self.site_map(pages))
         return pages
 
@@ -449,9 +456,23 @@ class _PageBuilder:
                     for c in entry.coverage
                 ],
                 "counts_label": "Odd, even steps" if entry.modulus == 2 else "Residue counts",
+                "odds_svg": self.odds_svg(entry),
             },
             (Link("Record", "index.html"), Link("Maps", "maps/index.html")),
         )
+
+    def odds_svg(self, entry: MapEntry) -> Markup | None:
+        """The heuristic chance per length beside the catalogued counts (2-branch maps only)."""
+        if entry.modulus != 2:
+            return None
+        cycles = self.cat.cycles.get(entry.id, ())
+        top = min(ODDS_MAX_LENGTH, max([ODDS_MIN_LENGTH, *(c.length for c in cycles)]))
+        counts: dict[int, int] = {}
+        for c in cycles:
+            counts[c.length] = counts.get(c.length, 0) + 1
+        rows = [(k, length_odds(entry.dynamics, k), counts.get(k, 0)) for k in range(1, top + 1)]
+        title = f"Heuristic chance of a cycle of each length for {entry.name}, with the catalogued cycles"
+        return Markup(odds_chart(rows, title, f"odds-{entry.id}"))  # noqa: S704 - built from numbers
 
     def cycle_page(self, entry: MapEntry, cycle: Cycle) -> Page:
         key = (entry.id, cycle.id)

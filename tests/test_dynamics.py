@@ -190,8 +190,12 @@ def test_hunt_with_tiny_max_steps_reports_unresolved_instead_of_failing() -> Non
     # which fails when the cycle is longer than max_steps.
     result = hunt(SHORTCUT_3X1, 10, max_steps=1)
     assert list(result.cycles) == [0, -1]
-    assert 1 in result.unresolved and 2 in result.unresolved
-    assert -5 in result.unresolved
+    # Common practice, no source: one step halves an even n (|n/2| < |n|, so the start is
+    # resolved), and takes an odd n other than -1 to (3n+1)/2, of larger magnitude: those
+    # starts are unresolved.  A start is listed only for its own orbit (2 reaches the
+    # unresolved 1 but is not listed itself).
+    assert result.unresolved == [1, 3, -3, 5, -5, 7, -7, 9, -9]
+    assert set(result.reasons.values()) == {"steps"}
 
 
 def test_hunt_keeps_cycles_longer_than_its_quick_pass() -> None:
