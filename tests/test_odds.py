@@ -1,0 +1,66 @@
+"""The heuristic odds model against facts of the trade, and the odds command."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from builder.dynamics import AffineMap
+from builder.odds import length_odds, odds_table
+
+SHORTCUT_3X1 = AffineMap(2, ((1, 0), (3, 1)))
+SHORTCUT_3X_MINUS_1 = AffineMap(2, ((1, 0), (3, -1)))
+
+
+def test_3x_plus_1_at_length_11_with_6_odd_steps():
+    # Facts of the trade, no published source: L(11, 6) = 42, target 2^11 - 3^6 = 1319,
+    # chance 1 - (1 - 1/1319)^42, about 3%.
+    row = odds_table(SHORTCUT_3X1, 11)[6]
+    assert (row.necklaces, row.target) == (42, 1319)
+    assert row.chance == pytest.approx(1 - (1 - 1 / 1319) ** 42)
+    assert 0.03 < row.chance < 0.032
+
+
+def test_3x_minus_1_at_length_19_with_12_odd_steps():
+    # Facts of the trade, no published source: L(19, 12) = C(19, 12)/19 = 2652 (19 is prime),
+    # |target| = 3^12 - 2^19 = 7153 (the signed m^k - A is -7153), chance about 31%.
+    row = odds_table(SHORTCUT_3X_MINUS_1, 19)[12]
+    assert row.necklaces == math.comb(19, 12) // 19 == 2652
+    assert row.target == 2**19 - 3**12 == -7153
+    assert 0.30 < row.chance < 0.32
+
+
+def test_3x_minus_1_at_length_3_is_certain():
+    # Fact of the trade, no published source: 2^3 - 3^2 = -1, so every word with two odd
+    # steps gives an integer cycle (the cycle through 5 of 3x-1, Lagarias 1985 via literature.md).
+    row = odds_table(SHORTCUT_3X_MINUS_1, 3)[2]
+    assert abs(row.target) == 1
+    assert row.chance == 1.0
+    assert length_odds(SHORTCUT_3X_MINUS_1, 3) == 1.0
+
+
+def test_qx_plus_d_counts_the_common_factor():
+    # For 3x+5 every offset B is a multiple of 5 (common practice, no source): at k = 4, x = 2
+    # the target 2^4 - 3^2 = 7 is coprime to 5, at k = 2, x = 1 it is 1.
+    rows = odds_table(AffineMap(2, ((1, 0), (3, 5))), 4)
+    assert rows[2].target == 7 and rows[2].share == pytest.approx(1 / 7)
+    # A target divisible by d: 3x+5 at k=3, x=1 gives 8 - 3 = 5, so g = 5 and every word counts.
+    assert odds_table(AffineMap(2, ((1, 0), (3, 5))), 3)[1].share == 1
+
+
+def test_odds_command_prints_the_rows(cli):
+    run = cli("odds", "3x-plus-1", "--lengths", "11", "--catalogue", "catalogue")
+    assert run.code == 0, run.err
+    row = next(line.split() for line in run.lines if line.split()[:2] == ["11", "6"])
+    assert row[2:5] == ["42", "1319", "3.14%"]
+    # The catalogue has the cycle through -17 at k = 11, x = 7 (Lagarias 1985 via literature.md).
+    row7 = next(line.split() for line in run.lines if line.split()[:2] == ["11", "7"])
+    assert row7[-1] == "1"
+
+
+@pytest.mark.parametrize("bad", ["0", "5..2", "x", "1..20000"])
+def test_odds_command_refuses_bad_lengths(cli, bad):
+    run = cli("odds", "3x-plus-1", "--lengths", bad, "--catalogue", "catalogue")
+    assert run.code == 2
+    assert "--lengths" in run.err
