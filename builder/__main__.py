@@ -4,4 +4,6 @@ import sys
 
 from .cli import main
 
-sys.exit(main())
+# Guarded so that worker processes started by ``spawn`` (periplus hunt) do not run the command again.
+if __name__ == "__main__":
+    sys.exit(main())

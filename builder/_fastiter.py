@@ -74,7 +74,7 @@ def hunt_range(
     exact: list[int] = []
     bound = int64_bound(mapping)
     vector_top = min(high, bound, _VECTOR_STARTS)
-    if max_steps >= 1 and low <= vector_top:
+    if max_steps >= 1 and bound >= 1 and low <= vector_top:
         engine = _Engine(mapping, max_steps, max_bits, bound, lane_steps, tail)
         half = max(1, batch // 2)
         lo = low

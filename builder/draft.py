@@ -22,7 +22,7 @@ from .words import least_period
 __all__ = ["MEMBERS_IN_ENTRY", "PLACEHOLDER", "Draft", "cycle_file_id", "draft_cycle", "entry_text", "parse_word"]
 
 #: Entries list their members up to this length (longer cycles: word and length only).
-MEMBERS_IN_ENTRY = 1000
+MEMBERS_IN_ENTRY = 200
 PLACEHOLDER = "FILL IN"
 
 
@@ -39,7 +39,15 @@ def canonical_rotation(cycle: CycleFound) -> CycleFound:
     return CycleFound(cycle.members[i:] + cycle.members[:i], cycle.word[i:] + cycle.word[:i])
 
 
-def entry_text(map_id: str, cycle: CycleFound, modulus: int, found_by: str, found_on: str, method: str) -> str:
+def entry_text(
+    map_id: str,
+    cycle: CycleFound,
+    modulus: int,
+    found_by: str,
+    found_on: str,
+    method: str,
+    references: tuple[str, ...] = (),
+) -> str:
     """A cycle entry in the catalogue format, read from ``cycle.members[0]``."""
     word = f'"{word_text(cycle.word, modulus)}"' if modulus <= 10 else "[" + ", ".join(map(str, cycle.word)) + "]"
     lines = [
@@ -56,6 +64,8 @@ def entry_text(map_id: str, cycle: CycleFound, modulus: int, found_by: str, foun
         f"  found_on: {found_on}",
         f"  method: {_yaml_text(method)}",
     ]
+    if references:
+        lines.append(f"  references: [{', '.join(references)}]")
     return "\n".join(lines) + "\n"
 
 

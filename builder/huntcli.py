@@ -34,22 +34,22 @@ from pathlib import Path
 from typing import IO, Any
 
 from . import _fastiter
+from .draft import PLACEHOLDER, cycle_file_id, entry_text
 from .dynamics import AffineMap, CycleFound
 from .errors import PeriplusError, UsageError
 from .hunt import DEFAULT_MAX_BITS, DEFAULT_MAX_STEPS, HuntResult, canonical_member, cycle_at, merge_results, order_key
 from .integers import parse_decimal, show, to_decimal
-from .model import Cycle, word_text
-from .verify import verify_catalogue
+from .model import Cycle
+from .verify import Limits, verify_catalogue
 
-__all__ = ["add_hunt_command", "cycle_id", "draft_text", "run_hunt"]
+__all__ = ["add_hunt_command", "run_hunt"]
 
 FORMAT = "periplus-hunt/1"
-MEMBERS_IN_DRAFT = 64  # list members in a draft for cycles up to this length
-FOUND_BY_PLACEHOLDER = "FILL IN: who found it"
+FOUND_BY_PLACEHOLDER = f"{PLACEHOLDER}: who found it"
 UNRESOLVED_SHOWN = 50
 # Chunks: at most this many magnitudes each, and about this many per process.
-_CHUNK_MAX = 1 << 17
-_CHUNKS_PER_JOB = 4
+_CHUNK_MAX = 1 << 16
+_CHUNKS_PER_JOB = 16
 
 
 # --- arguments -----------------------------------------------------------------------------
@@ -252,7 +252,10 @@ def _compute(survey: Survey, low: int, high: int, jobs: int, err: IO[str]) -> tu
                 finished += _starts_in(*chunks[i])
                 progress.update(finished)
         else:
-            context = multiprocessing.get_context("spawn")
+            # fork where the platform has it: children start at once and need not re-import the
+            # entry script (spawn would re-run one that lacks an ``if __name__ == "__main__"`` guard).
+            method = "fork" if "fork" in multiprocessing.get_all_start_methods() else "spawn"
+            context = multiprocessing.get_context(method)
             with context.Pool(min(jobs, len(tasks)), initializer=_ignore_sigint) as pool:
                 try:
                     for i, result in pool.imap_unordered(_indexed, enumerate(tasks)):
@@ -505,8 +508,13 @@ def _report(survey: Survey, known: dict[int, Cycle], out: IO[str], save: Path | 
     print(file=out)
     new = sum(1 for c in survey.cycles if c not in known)
     gaps = survey.gaps()
+    covered = (
+        f"covered every start with |n| in {_ranges_text(survey.ranges)} ({_n(survey.starts())} starts)"
+        if survey.ranges
+        else "covered no starts"
+    )
     text = (
-        f"covered every start with |n| in {_ranges_text(survey.ranges)} ({_n(survey.starts())} starts) of bound {_n(bound)}: "
+        f"{covered} of bound {_n(bound)}: "
         f"{len(within)} cycles within the bound, {len(beyond)} beyond, {new} new, {_n(len(unresolved))} unresolved"
     )
     if gaps:
@@ -515,32 +523,6 @@ def _report(survey: Survey, known: dict[int, Cycle], out: IO[str], save: Path | 
 
 
 # --- drafts ----------------------------------------------------------------------------------
-
-
-def cycle_id(canonical: int) -> str:
-    """A cycle file's id: the canonical member's digits, "minus-" in front for a negative one."""
-    text = to_decimal(abs(canonical))
-    return f"minus-{text}" if canonical < 0 else text
-
-
-def draft_text(map_id: str, cycle: CycleFound, modulus: int, method: str, found_on: _dt.date) -> str:
-    """A catalogue entry for a cycle read from its canonical member, found_by left for the contributor."""
-    lines = [f"map: {map_id}", f"start: {to_decimal(cycle.members[0])}"]
-    if modulus <= 10:
-        lines.append(f'word: "{word_text(cycle.word, modulus)}"')
-    else:
-        lines.append(f"word: [{', '.join(map(str, cycle.word))}]")
-    lines.append(f"length: {len(cycle.members)}")
-    if len(cycle.members) <= MEMBERS_IN_DRAFT:
-        lines.append(f"members: [{', '.join(to_decimal(v) for v in cycle.members)}]")
-    lines += [
-        "provenance:",
-        f'  found_by: "{FOUND_BY_PLACEHOLDER}"',
-        f"  found_on: {found_on.isoformat()}",
-        "  method: >-",
-        f"    {method}",
-    ]
-    return "\n".join(lines) + "\n"
 
 
 def _method(survey: Survey, canonical: int) -> str:
@@ -561,14 +543,15 @@ def _write_drafts(survey: Survey, known: dict[int, Cycle], folder: Path, out: IO
     for c, cycle in survey.cycles.items():
         if c in known:
             continue
-        path = target / f"{cycle_id(c)}.yaml"
+        path = target / f"{cycle_file_id(c)}.yaml"
         if path.exists():
             print(f"draft {path} exists already; left as it was", file=out)
             continue
         target.mkdir(parents=True, exist_ok=True)
-        path.write_text(
-            draft_text(survey.map_id, cycle, survey.mapping.modulus, _method(survey, c), today), encoding="utf-8"
+        text = entry_text(
+            survey.map_id, cycle, survey.mapping.modulus, FOUND_BY_PLACEHOLDER, today.isoformat(), _method(survey, c)
         )
+        path.write_text(text, encoding="utf-8")
         print(f"wrote draft {path} (fill in provenance.found_by)", file=out)
 
 
@@ -592,7 +575,8 @@ def _run(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
         raise UsageError("hunt: give MAP and --bound N (or --merge FILE ...)")
     if args.merge is not None and (args.low is not None or args.high is not None):
         raise UsageError("hunt: --from and --to do not apply to --merge")
-    report = verify_catalogue(args.catalogue)
+    # Only the entries matter for marking cycles new or catalogued: coverage claims are not re-run here.
+    report = verify_catalogue(args.catalogue, Limits(recheck_up_to=0))
     if not report.ok:
         for problem in report.problems:
             print(problem, file=out)
@@ -630,7 +614,10 @@ def _run(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
     _report(survey, known, out, args.save)
     if interrupted:
         print(file=out)
-        print(f"interrupted: only magnitudes {_ranges_text(survey.ranges)} were fully covered", file=out)
+        if survey.ranges:
+            print(f"interrupted: only magnitudes {_ranges_text(survey.ranges)} were fully covered", file=out)
+        else:
+            print("interrupted before the first chunk of the range was finished: nothing was covered", file=out)
         if extra:
             listed = ", ".join(show(c) for c in extra)
             print(f"also met in chunks finished past that range (not part of the result): {listed}", file=out)

@@ -20,9 +20,9 @@ from typing import TypeVar
 
 import yaml.resolver
 
+from ._fastiter import hunt_range
 from .dynamics import AffineMap, CycleFound, EntersCycle, Unresolved, branch_defects, cycle_equation, trace
 from .errors import KeyPath, Position, Problem, format_key_path
-from .hunt import hunt
 from .integers import DECIMAL_INTEGER, parse_decimal, show
 from .load import (
     ID_PATTERN,
@@ -812,7 +812,7 @@ def _recheck_coverage(entry: MapEntry, cycles: dict[int, Cycle], limits: Limits,
         if claim.bound > limits.recheck_up_to:
             checked.append(claim)
             continue
-        result = hunt(entry.dynamics, claim.bound, claim.max_steps, claim.max_bits)
+        result = hunt_range(entry.dynamics, 0, claim.bound, claim.max_steps, claim.max_bits)
         where = Position(entry.path, *_coverage_position(entry, i), ("coverage", i))
         label = _label(("coverage", i))
         for canonical, found in result.cycles.items():
