@@ -178,8 +178,10 @@ def summary(report: Report) -> str:
         f"{_count(len(cat.maps), 'map')}, {_count(cycles, 'cycle')} and {_count(len(cat.references), 'reference')}"
     )
     errors = report.errors
+    warnings = len(report.problems) - len(errors)
     if not errors:
-        return f"verified {verified} in {_count(report.files, 'file')}: every claim holds"
+        tail = f" ({_count(warnings, 'warning')})" if warnings else ""
+        return f"verified {verified} in {_count(report.files, 'file')}: every claim holds{tail}"
     bad_files = len({p.position.file for p in errors})
     return f"{_count(len(errors), 'error')} in {bad_files} of {_count(report.files, 'file')}; {verified} verified"
 

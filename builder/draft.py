@@ -12,10 +12,10 @@ import datetime as _dt
 from dataclasses import dataclass
 from pathlib import Path
 
-from .dynamics import AffineMap, CycleFound, EntersCycle, Unresolved, cycle_equation, trace
+from .dynamics import AffineMap, CycleFound, EntersCycle, Unresolved, cycle_equation, from_canonical, trace
 from .errors import UsageError
 from .integers import DECIMAL_INTEGER, parse_decimal, show, to_decimal
-from .model import Catalogue, word_text
+from .model import PLACEHOLDER, Catalogue, word_text
 from .verify import Limits
 from .words import least_period
 
@@ -23,20 +23,12 @@ __all__ = ["MEMBERS_IN_ENTRY", "PLACEHOLDER", "Draft", "cycle_file_id", "draft_c
 
 #: Entries list their members up to this length (longer cycles: word and length only).
 MEMBERS_IN_ENTRY = 200
-PLACEHOLDER = "FILL IN"
 
 
 def cycle_file_id(canonical: int) -> str:
     """The file stem for a cycle: its canonical member, 'minus-' for negatives."""
     text = to_decimal(abs(canonical))
     return f"minus-{text}" if canonical < 0 else text
-
-
-def canonical_rotation(cycle: CycleFound) -> CycleFound:
-    """The same cycle read from its member of least |value| (the positive one on a tie)."""
-    least = min(map(abs, cycle.members))
-    i = cycle.members.index(least) if least in cycle.members else cycle.members.index(-least)
-    return CycleFound(cycle.members[i:] + cycle.members[:i], cycle.word[i:] + cycle.word[:i])
 
 
 def entry_text(
@@ -136,7 +128,7 @@ def draft_cycle(
         n = num
     outcome = trace(mapping, n, limits.max_steps, limits.max_bits)
     if isinstance(outcome, EntersCycle):
-        c = canonical_rotation(outcome.cycle)
+        c = from_canonical(outcome.cycle)
         return Draft(
             None, None,
             f"{show(n)} is not on a cycle: its orbit enters the cycle through {show(c.members[0])} "
@@ -155,7 +147,7 @@ def draft_cycle(
         return Draft(
             None, None, f"the cycle equation gives n = {show(n)}, but its orbit does not follow the word", False
         )
-    cycle = canonical_rotation(outcome)
+    cycle = from_canonical(outcome)
     canonical = cycle.members[0]
     for existing in catalogue.cycles.get(map_id, ()):
         if existing.canonical == canonical:

@@ -32,8 +32,10 @@ __all__ = [
     "Outcome",
     "Unresolved",
     "branch_defects",
+    "canonical_index",
     "cycle_equation",
     "default_max_bits",
+    "from_canonical",
     "trace",
 ]
 
@@ -128,6 +130,18 @@ class Unresolved:
 
 
 Outcome = CycleFound | EntersCycle | Unresolved
+
+
+def canonical_index(members: Sequence[int]) -> int:
+    """Index of the canonical member: least absolute value, the positive one on a tie."""
+    least = min(map(abs, members))
+    return members.index(least) if least in members else members.index(-least)
+
+
+def from_canonical(cycle: CycleFound) -> CycleFound:
+    """The same cycle read from its canonical member."""
+    i = canonical_index(cycle.members)
+    return CycleFound(cycle.members[i:] + cycle.members[:i], cycle.word[i:] + cycle.word[:i])
 
 
 def default_max_bits(mapping: AffineMap, start: int) -> int:

@@ -58,7 +58,7 @@ from dataclasses import dataclass, field
 
 import gmpy2
 
-from .dynamics import AffineMap, CycleFound, Unresolved
+from .dynamics import AffineMap, CycleFound, Unresolved, canonical_index
 
 __all__ = [
     "DEFAULT_MAX_BITS",
@@ -86,7 +86,8 @@ def order_key(v: int) -> tuple[int, bool]:
 
 def canonical_member(members: Iterable[int]) -> int:
     """The member of least absolute value, the positive one on a tie."""
-    return min(members, key=order_key)
+    seq = tuple(members)
+    return seq[canonical_index(seq)]
 
 
 def cycle_at(mapping: AffineMap, start: int, length: int) -> CycleFound:

@@ -16,7 +16,21 @@ from .dynamics import AffineMap, Equation
 from .errors import Problem
 from .words import rotate
 
-__all__ = ["Catalogue", "Coverage", "Cycle", "MapEntry", "Provenance", "Reference", "Report", "word_text"]
+__all__ = [
+    "PLACEHOLDER",
+    "Catalogue",
+    "Coverage",
+    "Cycle",
+    "MapEntry",
+    "Provenance",
+    "Reference",
+    "Report",
+    "word_text",
+]
+
+
+#: Drafts leave provenance fields for the contributor with text starting so; verify warns about it.
+PLACEHOLDER = "FILL IN"
 
 
 def word_text(word: tuple[int, ...], modulus: int) -> str:

@@ -19,7 +19,7 @@ from collections.abc import Iterator
 from dataclasses import dataclass, field
 from math import gcd
 
-from .dynamics import AffineMap
+from .dynamics import AffineMap, canonical_index
 from .model import Catalogue, Cycle, MapEntry
 from .words import least_rotation_index, rotate
 
@@ -102,8 +102,7 @@ def find_relations(catalogue: Catalogue) -> Relations:
         rel.mirror_map[map_id] = mirror_id
         for cycle in catalogue.cycles.get(map_id, ()):
             negated = tuple(-n for n in cycle.members)
-            least = min(map(abs, negated))
-            canonical = least if least in negated else -least
+            canonical = negated[canonical_index(negated)]
             twin = by_canonical.get((mirror_id, canonical))
             if twin is not None and (mirror_id, twin.id) != (map_id, cycle.id):
                 rel.mirror[(map_id, cycle.id)] = (mirror_id, twin.id)

@@ -21,7 +21,16 @@ from typing import TypeVar
 import yaml.resolver
 
 from ._fastiter import hunt_range
-from .dynamics import AffineMap, CycleFound, EntersCycle, Unresolved, branch_defects, cycle_equation, trace
+from .dynamics import (
+    AffineMap,
+    CycleFound,
+    EntersCycle,
+    Unresolved,
+    branch_defects,
+    canonical_index,
+    cycle_equation,
+    trace,
+)
 from .errors import KeyPath, Position, Problem, format_key_path
 from .integers import DECIMAL_INTEGER, parse_decimal, show
 from .load import (
@@ -36,7 +45,7 @@ from .load import (
     read_file,
     scan_catalogue,
 )
-from .model import Catalogue, Coverage, Cycle, MapEntry, Provenance, Reference, Report, word_text
+from .model import PLACEHOLDER, Catalogue, Coverage, Cycle, MapEntry, Provenance, Reference, Report, word_text
 from .words import is_rotation, least_period
 
 __all__ = ["DEFAULT_MAX_STEPS", "Limits", "verify_catalogue", "verify_raw"]
@@ -525,6 +534,16 @@ def _check_provenance(doc: _Doc, node: Node, known: Collection[str] | None) -> P
     method = doc.text(f["method"], path + ("method",)) if "method" in f else None
     refs = doc.reference_keys(f["references"], path + ("references",), known) if "references" in f else []
     notes = doc.text(f["notes"], path + ("notes",)) if "notes" in f else None
+    for key, value in (("found_by", found_by), ("method", method)):
+        if value is not None and value.startswith(PLACEHOLDER):
+            node = f[key]
+            doc.problems.append(Problem(
+                Position(doc.path, node.line, node.column, path + (key,)),
+                f"{_label(path + (key,))}still the draft's placeholder '{short(value)}'; say "
+                + ("who found the cycle" if key == "found_by" else "how it was found (range searched, limits)"),
+                "placeholder",
+                "warning",
+            ))  # fmt: skip
     if found_by is None or found_on is None or method is None or refs is None:
         return None
     return Provenance(found_by, found_on, method, tuple(refs), notes)
@@ -581,7 +600,7 @@ def _derive(
     key: KeyPath = ("start",) if "start" in f else ("word",)
     if isinstance(outcome, EntersCycle):
         found = outcome.cycle
-        canonical = found.members[_canonical_index(found.members)]
+        canonical = found.members[canonical_index(found.members)]
         if "start" in f:
             doc.error(
                 start_node,
@@ -661,7 +680,7 @@ def _derive(
             )
     if doc.failed:
         return None
-    index = _canonical_index(outcome.members)
+    index = canonical_index(outcome.members)
     canonical_word = derived_word[index:] + derived_word[:index]
     counts = [0] * m
     for r in derived_word:
@@ -692,12 +711,6 @@ def _periodic_word(doc: _Doc, node: Node, word: tuple[int, ...], modulus: int) -
         f"which is {short(unit)} repeated {len(word) // period} times; write {short(unit)}",
         "periodic-word",
     )
-
-
-def _canonical_index(members: tuple[int, ...]) -> int:
-    """Index of the member of least absolute value, the positive one on a tie."""
-    least = min(map(abs, members))
-    return members.index(least) if least in members else members.index(-least)
 
 
 def _standard_length(mapping: AffineMap, k: int, counts: list[int]) -> int | None:
