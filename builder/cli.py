@@ -10,6 +10,7 @@ from dataclasses import replace
 from pathlib import Path
 
 from . import __version__
+from ._args import add_catalogue, add_limits, limits_of
 from .build import build_site
 from .draft import draft_cycle
 from .errors import PeriplusError, UsageError
@@ -19,33 +20,9 @@ from .model import Report
 from .odds import length_odds, odds_table
 from .preview import serve
 from .review import add_review_command
-from .verify import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, Limits, verify_catalogue
+from .verify import Limits, verify_catalogue
 
 __all__ = ["main"]
-
-
-def _positive(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a positive integer, got '{text}'") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"expected a positive integer, got {value}")
-    return value
-
-
-def _natural(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a whole number, got '{text}'") from None
-    if value < 0:
-        raise argparse.ArgumentTypeError(f"expected a whole number, got {value}")
-    return value
-
-
-def _limits(args: argparse.Namespace) -> Limits:
-    return Limits(args.max_steps, args.max_bits, args.recheck_up_to)
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -61,15 +38,8 @@ def _parser() -> argparse.ArgumentParser:
         description="Re-derive every map and cycle of CATALOGUE with exact integer arithmetic. "
         "Exit 0 when every claim holds, 1 when any entry fails, 2 for usage errors or an unreadable catalogue.",
     )
-    verify.add_argument(
-        "catalogue",
-        nargs="?",
-        default="catalogue",
-        type=Path,
-        metavar="CATALOGUE",
-        help="catalogue directory (default: catalogue)",
-    )
-    _add_limits(verify)
+    add_catalogue(verify)
+    add_limits(verify)
     build = commands.add_parser(
         "build",
         help="verify the catalogue, then write the website",
@@ -77,14 +47,7 @@ def _parser() -> argparse.ArgumentParser:
         "(built beside it, then swapped in). If anything fails, nothing is written and the problems are printed. "
         "Exit 0 on success, 1 when an entry fails, 2 for usage errors.",
     )
-    build.add_argument(
-        "catalogue",
-        nargs="?",
-        default="catalogue",
-        type=Path,
-        metavar="CATALOGUE",
-        help="catalogue directory (default: catalogue)",
-    )
+    add_catalogue(build)
     build.add_argument("--out", default="site", type=Path, metavar="DIR", help="where the site goes (default: site)")
     build.add_argument(
         "--base-url",
@@ -92,7 +55,7 @@ def _parser() -> argparse.ArgumentParser:
         metavar="URL",
         help="address the site will be published at (absolute links in the feed, and sitemap.xml)",
     )
-    _add_limits(build)
+    add_limits(build)
     draft = commands.add_parser(
         "draft",
         help="derive a cycle from a start or a word and print its catalogue entry",
@@ -105,14 +68,8 @@ def _parser() -> argparse.ArgumentParser:
     source.add_argument("--start", metavar="N", help="any member of the cycle")
     source.add_argument("--word", metavar="W", help="the residues along the cycle: digits, or comma-separated")
     draft.add_argument("--write", action="store_true", help="also write the entry where it belongs in the catalogue")
-    draft.add_argument(
-        "--catalogue",
-        default="catalogue",
-        type=Path,
-        metavar="CATALOGUE",
-        help="catalogue directory (default: catalogue)",
-    )
-    _add_limits(draft)
+    add_catalogue(draft, positional=False)
+    add_limits(draft)
     odds = commands.add_parser(
         "odds",
         help="the heuristic chance of an integer cycle at each length, beside the catalogue's count",
@@ -123,13 +80,7 @@ def _parser() -> argparse.ArgumentParser:
     )
     odds.add_argument("map", metavar="MAP", help="a map id of the catalogue (2 branches)")
     odds.add_argument("--lengths", required=True, metavar="K1..K2", help="the lengths to show, e.g. 1..20 or 11")
-    odds.add_argument(
-        "--catalogue",
-        default="catalogue",
-        type=Path,
-        metavar="CATALOGUE",
-        help="catalogue directory (default: catalogue)",
-    )
+    add_catalogue(odds, positional=False)
     add_hunt_command(commands)
     add_review_command(commands)
     preview = commands.add_parser("preview", help="serve a built site on localhost for reading")
@@ -138,32 +89,6 @@ def _parser() -> argparse.ArgumentParser:
     )
     preview.add_argument("--port", type=int, default=8000, help="port to listen on (default 8000; 0 picks a free one)")
     return parser
-
-
-def _add_limits(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument(
-        "--max-steps",
-        type=_positive,
-        default=DEFAULT_MAX_STEPS,
-        metavar="N",
-        help=f"give up on an orbit after N steps (default {DEFAULT_MAX_STEPS:,})",
-    )
-    parser.add_argument(
-        "--max-bits",
-        type=_positive,
-        default=None,
-        metavar="B",
-        help="give up on an orbit once a member exceeds B bits "
-        "(default: 65,536 plus 8 times the size of the entry's numbers)",
-    )
-    parser.add_argument(
-        "--recheck-up-to",
-        type=_natural,
-        default=DEFAULT_RECHECK_UP_TO,
-        metavar="N",
-        help="re-run every coverage claim whose bound is at most N; larger ones are shown as attested "
-        f"(default {DEFAULT_RECHECK_UP_TO:,})",
-    )
 
 
 def _count(n: int, noun: str) -> str:
@@ -187,7 +112,7 @@ def summary(report: Report) -> str:
 
 
 def _verify(args: argparse.Namespace) -> int:
-    report = verify_catalogue(args.catalogue, _limits(args))
+    report = verify_catalogue(args.catalogue, limits_of(args))
     for problem in report.problems:
         print(problem)
     print(summary(report))
@@ -197,7 +122,7 @@ def _verify(args: argparse.Namespace) -> int:
 def _build(args: argparse.Namespace) -> int:
     if args.base_url is not None and not args.base_url.startswith(("http://", "https://")):
         raise UsageError(f"--base-url: expected an http or https address, got '{args.base_url}'")
-    result = build_site(args.catalogue, args.out, _limits(args), args.base_url)
+    result = build_site(args.catalogue, args.out, limits_of(args), args.base_url)
     for problem in result.report.problems:
         print(problem)
     print(summary(result.report))
@@ -226,7 +151,7 @@ def _draft(args: argparse.Namespace) -> int:
     report = _verified(args)
     if not report.ok and args.map not in report.catalogue.maps:
         return 1
-    result = draft_cycle(report.catalogue, args.catalogue, args.map, args.start, args.word, _limits(args))
+    result = draft_cycle(report.catalogue, args.catalogue, args.map, args.start, args.word, limits_of(args))
     if not result.ok or result.text is None or result.path is None:
         print(f"periplus: {result.message}", file=sys.stderr)
         return 1

@@ -34,6 +34,7 @@ from pathlib import Path
 from typing import IO, Any
 
 from . import _fastiter
+from ._args import natural, positive
 from .draft import PLACEHOLDER, cycle_file_id, entry_text
 from .dynamics import AffineMap, CycleFound
 from .errors import PeriplusError, UsageError
@@ -55,23 +56,6 @@ _CHUNKS_PER_JOB = 16
 # --- arguments -----------------------------------------------------------------------------
 
 
-def _natural(text: str) -> int:
-    try:
-        value = parse_decimal(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a non-negative integer, got '{text}'") from None
-    if value < 0:
-        raise argparse.ArgumentTypeError(f"expected a non-negative integer, got {value}")
-    return value
-
-
-def _positive(text: str) -> int:
-    value = _natural(text)
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"expected a positive integer, got {value}")
-    return value
-
-
 def add_hunt_command(subparsers: Any) -> argparse.ArgumentParser:
     """Add the ``hunt`` command to an argparse subparsers object; its ``run`` default is run_hunt."""
     hunt: argparse.ArgumentParser = subparsers.add_parser(
@@ -85,13 +69,13 @@ def add_hunt_command(subparsers: Any) -> argparse.ArgumentParser:
         "map", nargs="?", metavar="MAP", help="id of a map in the catalogue (from the saved files with --merge)"
     )
     hunt.add_argument(
-        "--bound", type=_natural, metavar="N", help="cover every start with |n| <= N (required unless --merge)"
+        "--bound", type=natural, metavar="N", help="cover every start with |n| <= N (required unless --merge)"
     )
-    hunt.add_argument("--from", dest="low", type=_natural, metavar="A", help="cover only magnitudes from A (default 0)")
-    hunt.add_argument("--to", dest="high", type=_natural, metavar="B", help="cover only magnitudes up to B (default N)")
+    hunt.add_argument("--from", dest="low", type=natural, metavar="A", help="cover only magnitudes from A (default 0)")
+    hunt.add_argument("--to", dest="high", type=natural, metavar="B", help="cover only magnitudes up to B (default N)")
     hunt.add_argument(
         "--jobs",
-        type=_positive,
+        type=positive,
         default=os.cpu_count() or 1,
         metavar="J",
         help="processes to share the range (default: the number of CPUs); the result does not depend on it",
@@ -105,14 +89,14 @@ def add_hunt_command(subparsers: Any) -> argparse.ArgumentParser:
     )
     hunt.add_argument(
         "--max-steps",
-        type=_positive,
+        type=positive,
         default=DEFAULT_MAX_STEPS,
         metavar="S",
         help=f"leave a start unresolved after S steps (default {DEFAULT_MAX_STEPS:,})",
     )
     hunt.add_argument(
         "--max-bits",
-        type=_positive,
+        type=positive,
         default=DEFAULT_MAX_BITS,
         metavar="B",
         help=f"leave a start unresolved once a member exceeds B bits (default {DEFAULT_MAX_BITS:,})",

@@ -38,13 +38,14 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path, PurePosixPath
 from typing import Any
 
+from ._args import add_limits, limits_of
 from .errors import PeriplusError, Problem, UsageError
 from .integers import DECIMAL_INTEGER, parse_decimal
 from .load import Mapping as MappingNode
 from .load import Node, Scalar, read_file, scan_catalogue
 from .load import Sequence as SequenceNode
 from .model import Cycle, Report
-from .verify import DEFAULT_MAX_STEPS, Limits, short, verify_catalogue
+from .verify import short, verify_catalogue
 
 __all__ = [
     "Change",
@@ -852,16 +853,6 @@ def _cat_blobs(repo: Path, objects: list[bytes]) -> dict[bytes, bytes]:
 # --- the command --------------------------------------------------------------------
 
 
-def _positive(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a positive integer, got '{text}'") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"expected a positive integer, got {value}")
-    return value
-
-
 def add_review_command(subparsers: Any) -> argparse.ArgumentParser:
     """Add ``review`` to the subcommands of the ``periplus`` parser."""
     review: argparse.ArgumentParser = subparsers.add_parser(
@@ -891,16 +882,7 @@ def add_review_command(subparsers: Any) -> argparse.ArgumentParser:
         default="markdown",
         help="github: print a GitHub Actions ::error command per problem before the Markdown",
     )
-    review.add_argument(
-        "--max-steps",
-        type=_positive,
-        default=DEFAULT_MAX_STEPS,
-        metavar="N",
-        help=f"give up on an orbit after N steps (default {DEFAULT_MAX_STEPS:,})",
-    )
-    review.add_argument(
-        "--max-bits", type=_positive, default=None, metavar="B", help="give up once a member exceeds B bits"
-    )
+    add_limits(review)
     review.set_defaults(run=run_review)
     return review
 
@@ -926,7 +908,7 @@ def _catalogues(args: argparse.Namespace) -> Iterator[tuple[Path, Path, str, str
 def run_review(args: argparse.Namespace) -> int:
     """Run ``periplus review``; return the exit status."""
     try:
-        limits = Limits(max_steps=args.max_steps, max_bits=args.max_bits)
+        limits = limits_of(args)
         with _catalogues(args) as (base_root, head_root, prefix, base_label, head_label):
             base = verify_catalogue(base_root, limits)
             head = verify_catalogue(head_root, limits)
