@@ -826,33 +826,33 @@ def _recheck_coverage(entry: MapEntry, cycles: dict[int, Cycle], limits: Limits,
             checked.append(claim)
             continue
         result = hunt_range(entry.dynamics, 0, claim.bound, claim.max_steps, claim.max_bits)
-        where = Position(entry.path, *_coverage_position(entry, i), ("coverage", i))
         label = _label(("coverage", i))
+        findings: list[tuple[str, str, str]] = []  # (message, code, severity)
         for canonical, found in result.cycles.items():
             if abs(canonical) <= claim.bound and canonical not in cycles:
-                problems.append(Problem(
-                    where,
+                findings.append((
                     f"{label}expected every cycle with least |member| up to {show(claim.bound)} to be listed, "
                     f"got none for the cycle through {show(canonical)} (length {len(found.members)}), "
                     f"which the search finds; add cycles/{entry.id}/<id>.yaml with start {show(canonical)}",
-                    "coverage-missing-cycle",
+                    "coverage-missing-cycle", "error",
                 ))  # fmt: skip
         listed = set(claim.unresolved)
         for start in result.unresolved:
             if start not in listed:
-                problems.append(Problem(
-                    where,
+                findings.append((
                     f"{label}expected the unresolved starts to be listed, got no mention of {show(start)}, "
                     f"whose orbit is not resolved within {claim.max_steps} steps and {claim.max_bits} bits",
-                    "coverage-unlisted-start",
+                    "coverage-unlisted-start", "error",
                 ))  # fmt: skip
         for start in sorted(listed - set(result.unresolved), key=lambda v: (abs(v), v < 0)):
-            problems.append(Problem(
-                where,
+            findings.append((
                 f"{label}unresolved lists {show(start)}, but its orbit is resolved within the claim's limits",
-                "coverage-resolved-start",
-                "warning",
+                "coverage-resolved-start", "warning",
             ))  # fmt: skip
+        if findings:
+            # The record's position is read again from the file only when there is something to report.
+            where = Position(entry.path, *_coverage_position(entry, i), ("coverage", i))
+            problems.extend(Problem(where, message, code, severity) for message, code, severity in findings)
         checked.append(replace(claim, rechecked=True))
     return replace(entry, coverage=tuple(checked))
 
