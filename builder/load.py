@@ -305,7 +305,7 @@ class RawFile:
     """
 
     path: Path
-    kind: str  # "map", "cycle" or "references"
+    kind: str  # "record", "references", "map" or "cycle"
     id: str
     folder: str | None  # for cycles, the map folder the file sits in
     root: Node | None = None
@@ -418,11 +418,12 @@ def scan_catalogue(root: Path) -> RawCatalogue:
         raise CatalogueUnreadable(root, "expected a catalogue directory with a maps/ folder, got none")
     raw = RawCatalogue(root)
     problems = raw.layout_problems
-    refs = root / "references.yaml"
-    if refs.is_symlink():
-        problems.append(_problem(refs, 0, 0, "expected a regular file, got a symbolic link", "layout"))
-    elif refs.is_file():
-        raw.files.append(RawFile(refs, "references", "references", None))
+    for kind in ("record", "references"):
+        path = root / f"{kind}.yaml"
+        if path.is_symlink():
+            problems.append(_problem(path, 0, 0, "expected a regular file, got a symbolic link", "layout"))
+        elif path.is_file():
+            raw.files.append(RawFile(path, kind, kind, None))
     for map_id, path in _entry_files(maps_dir, "map", problems):
         raw.files.append(RawFile(path, "map", map_id, None))
     cycles_dir = root / "cycles"

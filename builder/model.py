@@ -23,8 +23,10 @@ __all__ = [
     "Cycle",
     "MapEntry",
     "Provenance",
+    "Record",
     "Reference",
     "Report",
+    "licence_url",
     "word_text",
 ]
 
@@ -38,6 +40,34 @@ def word_text(word: tuple[int, ...], modulus: int) -> str:
     if modulus <= 10:
         return "".join(map(str, word))
     return ",".join(map(str, word))
+
+
+def licence_url(identifier: str) -> str:
+    """The SPDX licence list's page for a licence identifier."""
+    return f"https://spdx.org/licenses/{identifier}.html"
+
+
+@dataclass(frozen=True, slots=True)
+class Record:
+    """The record as a whole, from ``record.yaml``: what it is, who keeps it, and how it may be reused.
+
+    ``licence`` is an SPDX licence identifier, written as the SPDX list writes it.  ``base_url`` is an
+    http or https URL ending in ``/`` (the site's address, for absolute links).  ``version`` is the
+    release the catalogue is at or is heading for; a release is the git tag ``record-<version>``.
+    ``credit_committers``: whether entry history may name the people who committed a change.
+    """
+
+    title: str
+    description: str
+    maintainers: str
+    licence: str
+    base_url: str
+    version: str
+    credit_committers: bool = False
+
+    @property
+    def licence_url(self) -> str:
+        return licence_url(self.licence)
 
 
 @dataclass(frozen=True, slots=True)
@@ -117,6 +147,7 @@ class Cycle:
     residue_counts: tuple[int, ...]  # how often each residue 0..m-1 occurs in the word
     standard_length: int | None  # for 2-branch n/2 maps: the length counting n -> qn+d and n/2 apart
     provenance: Provenance
+    fingerprint: str  # from the map's definition and the canonical member (builder.fingerprint)
 
     @property
     def length(self) -> int:
@@ -150,6 +181,7 @@ class Catalogue:
     maps: Mapping[str, MapEntry]
     cycles: Mapping[str, tuple[Cycle, ...]]  # by map id, in order of canonical member
     references: Mapping[str, Reference]
+    record: Record | None = None  # None only when record.yaml is missing or does not verify
 
 
 @dataclass(frozen=True, slots=True)

@@ -64,8 +64,8 @@ __all__ = [
 ]
 
 #: The kinds of entry, in the order the report lists them.
-KINDS = ("map", "cycle", "reference")
-_PLURAL = {"map": "maps", "cycle": "cycles", "reference": "references"}
+KINDS = ("record", "map", "cycle", "reference")
+_PLURAL = {"record": "record details", "map": "maps", "cycle": "cycles", "reference": "references"}
 #: The kinds of change, in the order the counts table lists them.
 CHANGES = ("added", "changed", "renamed", "removed")
 _REFERENCES_FILE = "references.yaml"
@@ -129,6 +129,7 @@ class Change:
     layout_only: bool = False  # the file differs, but only in comments, order or layout
     identity: str | None = None
     outcome: Outcome | None = None
+    fingerprint: str | None = None  # a cycle's fingerprint: the head's, or the base's for a removal
 
     @property
     def fails(self) -> bool:
@@ -251,7 +252,7 @@ def _read_side(report: Report) -> _Side:
             else:
                 readable = False
             continue
-        key = file.id if file.kind == "map" else f"{file.folder}/{file.id}"
+        key = file.id if file.kind in ("record", "map") else f"{file.folder}/{file.id}"
         try:
             text: bytes | None = file.path.read_bytes()
         except OSError:
@@ -281,7 +282,9 @@ def _own_problems(side: _Side, entry: _Entry) -> list[Problem]:
 def _outcome(side: _Side, entry: _Entry) -> Outcome:
     problems = tuple(_own_problems(side, entry))
     catalogue = side.report.catalogue
-    if entry.kind == "map":
+    if entry.kind == "record":
+        verified = catalogue.record is not None
+    elif entry.kind == "map":
         verified = entry.key in catalogue.maps
     elif entry.kind == "cycle":
         verified = _cycle_key(entry.key) in side.cycles
@@ -340,6 +343,13 @@ def _is_scalar(value: Any) -> bool:
 
 # Fields in the order the catalogue format lists them (catalogue/README.md); others sort after, by name.
 _FIELD_ORDER = (
+    "title",
+    "description",
+    "maintainers",
+    "licence",
+    "base_url",
+    "version",
+    "credit_committers",
     "map",
     "start",
     "word",
@@ -354,7 +364,6 @@ _FIELD_ORDER = (
     "references",
     "coverage",
     "authors",
-    "title",
     "venue",
     "year",
     "doi",
@@ -384,7 +393,7 @@ def _identity(kind: str, base: _Side, head: _Side, base_key: str, head_key: str)
         h = head.cycles.get(_cycle_key(head_key))
         if b is None or h is None:
             return None
-        return "same cycle" if (b.map_id, b.canonical) == (h.map_id, h.canonical) else "different cycle"
+        return "same cycle" if b.fingerprint == h.fingerprint else "different cycle"
     if kind == "map":
         bm = base.report.catalogue.maps.get(base_key)
         hm = head.report.catalogue.maps.get(head_key)
@@ -456,18 +465,19 @@ def compare(base: Report, head: Report) -> Comparison:
         worse = bool(_signature(outcome.errors) - _signature(before.errors)) or (before.holds and not outcome.holds)
         if worse:
             changes.append(Change(h.kind, h.key, "unchanged", h.path, outcome=outcome))
-    # A removed and an added cycle of the same map with the same canonical member: a new file name.
+    # A removed and an added cycle with the same fingerprint (the same map definition and canonical
+    # member, whatever the files and the map are called): the same cycle under a new name.
     renamed: list[Change] = []
-    arrivals: dict[tuple[str, int], _Entry] = {}
+    arrivals: dict[str, _Entry] = {}
     for h in added:
         cycle = h_side.cycles.get(_cycle_key(h.key))
         if h.kind == "cycle" and cycle is not None:
-            arrivals.setdefault((cycle.map_id, cycle.canonical), h)
+            arrivals.setdefault(cycle.fingerprint, h)
     for b in list(removed):
         cycle = b_side.cycles.get(_cycle_key(b.key))
         if b.kind != "cycle" or cycle is None:
             continue
-        h_match = arrivals.pop((cycle.map_id, cycle.canonical), None)
+        h_match = arrivals.pop(cycle.fingerprint, None)
         if h_match is None:
             continue
         removed.remove(b)
@@ -482,13 +492,18 @@ def compare(base: Report, head: Report) -> Comparison:
                 b.key,
                 _field_changes(b.fields, h_match.fields),
                 False,
-                "same cycle",
+                "same cycle, renamed",
                 _outcome(h_side, h_match),
             )
         )
     changes += [Change(h.kind, h.key, "added", h.path, outcome=_outcome(h_side, h)) for h in added]
     changes += [Change(b.kind, b.key, "removed", b.path) for b in removed]
     changes += renamed
+    for i, c in enumerate(changes):
+        if c.kind == "cycle":
+            cycle = (b_side if c.change == "removed" else h_side).cycles.get(_cycle_key(c.key))
+            if cycle is not None:
+                changes[i] = replace(c, fingerprint=cycle.fingerprint)
     order = {c: i for i, c in enumerate(("added", "changed", "renamed", "removed", "unchanged"))}
     changes.sort(key=lambda c: (KINDS.index(c.kind), order[c.change], c.key))
     warnings = _warnings(b_side, h_side, changes)
@@ -643,6 +658,12 @@ def _entry_cell(c: Change) -> str:
     return _code(c.key)
 
 
+def _identity_cell(c: Change) -> str:
+    if c.fingerprint is None:
+        return c.identity if c.identity is not None else "—"
+    return f"{c.identity} ({_code(c.fingerprint)})" if c.identity is not None else _code(c.fingerprint)
+
+
 def _change_cell(c: Change) -> str:
     return "unchanged, now fails" if c.change == "unchanged" else c.change
 
@@ -664,17 +685,18 @@ def render_markdown(comparison: Comparison, base_label: str, head_label: str) ->
         if not rows:
             continue
         lines += ["", f"## {_PLURAL[kind].capitalize()}", ""]
-        if kind == "reference":
+        if kind in ("record", "reference"):
             lines += ["| entry | change | fields changed | verification |", "| --- | --- | --- | --- |"]
         else:
+            same = "same cycle? (fingerprint)" if kind == "cycle" else f"same {kind}?"
             lines += [
-                f"| entry | change | fields changed | same {kind}? | verification |",
+                f"| entry | change | fields changed | {same} | verification |",
                 "| --- | --- | --- | --- | --- |",
             ]
         for c in rows:
             cells = [_entry_cell(c), _change_cell(c), _fields_cell(c)]
-            if kind != "reference":
-                cells.append(c.identity if c.identity is not None else "—")
+            if kind not in ("record", "reference"):
+                cells.append(_identity_cell(c))
             cells.append(_verification(c))
             lines.append("| " + " | ".join(cells) + " |")
     if comparison.warnings:

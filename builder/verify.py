@@ -32,7 +32,9 @@ from .dynamics import (
     trace,
 )
 from .errors import KeyPath, Position, Problem, format_key_path
+from .fingerprint import cycle_fingerprint
 from .integers import DECIMAL_INTEGER, parse_decimal, show
+from .licences import check_licence
 from .load import (
     ID_PATTERN,
     Mapping,
@@ -45,10 +47,21 @@ from .load import (
     read_file,
     scan_catalogue,
 )
-from .model import PLACEHOLDER, Catalogue, Coverage, Cycle, MapEntry, Provenance, Reference, Report, word_text
+from .model import (
+    PLACEHOLDER,
+    Catalogue,
+    Coverage,
+    Cycle,
+    MapEntry,
+    Provenance,
+    Record,
+    Reference,
+    Report,
+    word_text,
+)
 from .words import is_rotation, least_period
 
-__all__ = ["DEFAULT_MAX_STEPS", "Limits", "verify_catalogue", "verify_raw"]
+__all__ = ["DEFAULT_MAX_STEPS", "RECORD_FILE", "Limits", "verify_catalogue", "verify_raw"]
 
 DEFAULT_MAX_STEPS = 1_000_000
 #: Coverage claims with a bound up to this are re-run by every verification.
@@ -61,6 +74,7 @@ _DOI = re.compile(r"10\.[0-9]{4,9}/\S+")
 _URL = re.compile(r"https?://[^\s/$.?#][^\s]*", re.IGNORECASE)
 _STATUSES = ("read", "secondary", "memory")
 _WHAT = {
+    "record": "the record's description (a mapping of fields)",
     "map": "a map entry (a mapping of fields)",
     "cycle": "a cycle entry (a mapping of fields)",
     "references": "a mapping from reference keys to references",
@@ -320,6 +334,117 @@ class _Doc:
 
 def _label(key_path: KeyPath) -> str:
     return f"{format_key_path(key_path)}: " if key_path else ""
+
+
+# --- the record ------------------------------------------------------------
+
+RECORD_FILE = "record.yaml"
+_RECORD_REQUIRED = ("title", "description", "maintainers", "licence", "base_url", "version")
+# A version names the tag record-<version> and the page changes/<version>/: letters, digits, . _ -
+_VERSION = re.compile(r"[0-9A-Za-z](?:[0-9A-Za-z._-]*[0-9A-Za-z])?")
+_BASE_URL = re.compile(r"https?://[A-Za-z0-9.-]+(?::[0-9]{1,5})?(?:/[A-Za-z0-9._~%!$&'()*+,;=:@/-]*)?")
+
+
+def _check_record(raw: RawFile, problems: list[Problem]) -> Record | None:
+    doc = _Doc(raw.path, problems)
+    if raw.root is None:
+        return None
+    f = doc.fields(raw.root, (), "the record's description", _RECORD_REQUIRED, ("credit_committers",))
+    if f is None:
+        return None
+    title = doc.text(f["title"], ("title",), one_line=True) if "title" in f else None
+    description = doc.text(f["description"], ("description",)) if "description" in f else None
+    maintainers = doc.text(f["maintainers"], ("maintainers",), one_line=True) if "maintainers" in f else None
+    licence = _record_licence(doc, f["licence"]) if "licence" in f else None
+    base_url = _record_base_url(doc, f["base_url"]) if "base_url" in f else None
+    version = _record_version(doc, f["version"]) if "version" in f else None
+    credit = False
+    if "credit_committers" in f:
+        node = f["credit_committers"]
+        if isinstance(node, Scalar) and node.plain and node.value in ("true", "false"):
+            credit = node.value == "true"
+        else:
+            doc.error(node, ("credit_committers",), f"expected true or false, got {describe(node)}")
+    if doc.failed:
+        return None
+    assert title and description and maintainers and licence and base_url and version
+    return Record(title.strip(), " ".join(description.split()), maintainers.strip(), licence, base_url, version, credit)
+
+
+def _record_licence(doc: _Doc, node: Node) -> str | None:
+    text = doc.text(node, ("licence",), one_line=True)
+    if text is None:
+        return None
+    text = text.strip()
+    found = check_licence(text)
+    if not found.known:
+        doc.error(
+            node,
+            ("licence",),
+            f"expected an SPDX licence identifier (https://spdx.org/licenses/), such as CC-BY-4.0 or CC0-1.0, "
+            f"got '{short(text)}'",
+            "unknown-licence",
+        )
+        return None
+    assert found.spelling is not None
+    if found.spelling != text:
+        doc.error(
+            node, ("licence",), f"expected the SPDX spelling '{found.spelling}', got '{short(text)}'", "licence-case"
+        )
+        return None
+    if found.deprecated:
+        doc.error(
+            node,
+            ("licence",),
+            f"expected a current SPDX licence identifier, got the deprecated '{text}' ({found.name}); "
+            f"use its replacement from https://spdx.org/licenses/",
+            "deprecated-licence",
+        )
+        return None
+    return found.spelling
+
+
+def _record_base_url(doc: _Doc, node: Node) -> str | None:
+    text = doc.text(node, ("base_url",), one_line=True)
+    if text is None:
+        return None
+    text = text.strip()
+    if _BASE_URL.fullmatch(text) is None:
+        doc.error(
+            node,
+            ("base_url",),
+            f"expected the http or https address the site is published at, such as https://example.org/cycles/, "
+            f"with no query or fragment, got '{short(text)}'",
+            "bad-base-url",
+        )
+        return None
+    return text if text.endswith("/") else text + "/"
+
+
+def _record_version(doc: _Doc, node: Node) -> str | None:
+    if isinstance(node, Scalar) and node.plain and _yaml_type(node) in ("int", "float"):
+        doc.error(
+            node,
+            ("version",),
+            f"expected a version as text, got the number {short(node.value)} (YAML would read 1.10 as 1.1); "
+            f'write it in quotes: version: "{short(node.value)}"',
+            "unquoted-version",
+        )
+        return None
+    text = doc.text(node, ("version",), one_line=True)
+    if text is None:
+        return None
+    text = text.strip()
+    if _VERSION.fullmatch(text) is None or ".." in text:
+        doc.error(
+            node,
+            ("version",),
+            f"expected a version of letters, digits, dots, hyphens and underscores such as 2026.1 "
+            f"(it names the git tag record-<version>), got '{short(text)}'",
+            "bad-version",
+        )
+        return None
+    return text
 
 
 # --- references ------------------------------------------------------------
@@ -697,6 +822,7 @@ def _derive(
         residue_counts=tuple(counts),
         standard_length=_standard_length(mapping, k, counts),
         provenance=provenance,
+        fingerprint=cycle_fingerprint(m, mapping.branches, outcome.members[index]),
     )
     return cycle, start_node, key
 
@@ -770,6 +896,22 @@ def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
             known = set(file.root.entries) if isinstance(file.root, Mapping) else None
         if faulted:
             references = {}
+    record: Record | None = None
+    records = list(raw.of_kind("record"))
+    for file in records:
+        file, faulted = parsed(file)
+        record = _check_record(file, problems)
+        if faulted:
+            record = None
+    if not records:
+        problems.append(
+            Problem(
+                Position(raw.root / RECORD_FILE),
+                f"expected {RECORD_FILE}, the record's title, description, maintainers, licence, base_url and "
+                f"version, got no such file",
+                "missing-record",
+            )
+        )
     maps: dict[str, MapEntry] = {}
     bad_maps: set[str] = set()
     for file in raw.of_kind("map"):
@@ -779,7 +921,21 @@ def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
             bad_maps.add(file.id)
         else:
             maps[entry.id] = entry
+    definitions: dict[AffineMap, MapEntry] = {}
+    for entry in maps.values():
+        first_map = definitions.setdefault(entry.dynamics, entry)
+        if first_map is not entry:
+            problems.append(
+                Problem(
+                    Position(entry.path, *_reread_position(entry.path, ("branches",)), ("branches",)),
+                    f"branches: expected a map not yet listed, got the definition of {first_map.path} again "
+                    f"(modulus {entry.modulus}, the same branches); a map is listed once, so its cycles are too",
+                    "duplicate-map",
+                    "warning",
+                )
+            )
     by_map: dict[str, dict[int, Cycle]] = {}
+    by_fingerprint: dict[str, Cycle] = {}
     for file in raw.of_kind("cycle"):
         file, faulted = parsed(file)
         result = _check_cycle(file, maps, bad_maps, known, limits, problems)
@@ -798,7 +954,21 @@ def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
                 )
             )
             continue
+        twin = by_fingerprint.get(cycle.fingerprint)
+        if twin is not None:
+            # Another map with the very same definition already lists this cycle.
+            problems.append(
+                Problem(
+                    Position(cycle.path, node.line, node.column, key),
+                    f"{_label(key)}expected a cycle not yet listed, got the cycle of {twin.path} again (both have "
+                    f"the fingerprint {cycle.fingerprint}: the maps {twin.map_id} and {cycle.map_id} have the same "
+                    f"definition, and both contain {show(cycle.canonical)})",
+                    "duplicate-cycle",
+                )
+            )
+            continue
         seen[cycle.canonical] = cycle
+        by_fingerprint[cycle.fingerprint] = cycle
     cycles = {
         map_id: tuple(sorted(found.values(), key=lambda c: (abs(c.canonical), c.canonical < 0)))
         for map_id, found in sorted(by_map.items())
@@ -811,6 +981,7 @@ def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
         maps=MappingProxyType(dict(sorted(maps.items()))),
         cycles=MappingProxyType(cycles),
         references=MappingProxyType(dict(sorted(references.items()))),
+        record=record,
     )
     # Count every path looked at, including those refused by name or kind,
     # so that "N errors in X of Y files" never has X > Y.
@@ -851,23 +1022,26 @@ def _recheck_coverage(entry: MapEntry, cycles: dict[int, Cycle], limits: Limits,
             ))  # fmt: skip
         if findings:
             # The record's position is read again from the file only when there is something to report.
-            where = Position(entry.path, *_coverage_position(entry, i), ("coverage", i))
+            where = Position(entry.path, *_reread_position(entry.path, ("coverage", i)), ("coverage", i))
             problems.extend(Problem(where, message, code, severity) for message, code, severity in findings)
         checked.append(replace(claim, rechecked=True))
     return replace(entry, coverage=tuple(checked))
 
 
-def _coverage_position(entry: MapEntry, index: int) -> tuple[int, int]:
-    """Line and column of a coverage record, read again from the map file (only on this rare path)."""
+def _reread_position(path: Path, key_path: KeyPath) -> tuple[int, int]:
+    """Line and column of the node at ``key_path``, read again from the file (only on rare paths)."""
     try:
-        root, _ = parse_yaml(entry.path.read_text(encoding="utf-8-sig"), entry.path)
-    except OSError:
+        node: Node | None = parse_yaml(path.read_text(encoding="utf-8-sig"), path)[0]
+    except (OSError, UnicodeDecodeError):
         return 0, 0
-    if isinstance(root, Mapping) and "coverage" in root.entries:
-        node = root.entries["coverage"][1]
-        if isinstance(node, Sequence) and index < len(node.items):
-            return node.items[index].line, node.items[index].column
-    return 0, 0
+    for part in key_path:
+        if isinstance(part, str) and isinstance(node, Mapping) and part in node.entries:
+            node = node.entries[part][1]
+        elif isinstance(part, int) and isinstance(node, Sequence) and part < len(node.items):
+            node = node.items[part]
+        else:
+            return 0, 0
+    return (node.line, node.column) if node is not None else (0, 0)
 
 
 def verify_catalogue(root: Path, limits: Limits = Limits()) -> Report:

@@ -29,7 +29,7 @@ REPO = Path(__file__).resolve().parent.parent
 SCHEMAS = REPO / "catalogue" / "schema"
 
 # The valid fixture's own contents (counted from the files in tests/fixtures/valid).
-VALID_SUMMARY = "verified 2 maps, 8 cycles and 2 references in 11 files: every claim holds"
+VALID_SUMMARY = "verified 2 maps, 8 cycles and 2 references in 12 files: every claim holds"
 
 # Common practice, no source: a provenance block for entries written by the tests themselves.
 PROVENANCE = "provenance:\n  found_by: Periplus test suite\n  found_on: 2024-05-01\n  method: constructed in the test\n"
@@ -87,8 +87,9 @@ def catalogue(tmp_path: Path) -> Callable[..., Path]:
 
     def make(case: str | None = None, files: Mapping[str, str | bytes] | None = None, empty: bool = False) -> Path:
         dest = tmp_path / f"catalogue-{next(counter)}"
-        if empty:
+        if empty:  # no entries, but the record's description, which every catalogue needs
             (dest / "maps").mkdir(parents=True)
+            shutil.copyfile(VALID / "record.yaml", dest / "record.yaml")
         elif case is None:
             copy_valid(dest)
         else:

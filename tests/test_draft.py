@@ -89,5 +89,5 @@ def test_unfilled_placeholders_are_warned_about_but_do_not_fail(cli, catalogue):
         "say who found the cycle",
         f"{path}:9:11: warning: provenance.method: still the draft's placeholder 'FILL IN: how it was found'; "
         "say how it was found (range searched, limits)",
-        "verified 2 maps, 8 cycles and 2 references in 11 files: every claim holds (2 warnings)",
+        "verified 2 maps, 8 cycles and 2 references in 12 files: every claim holds (2 warnings)",
     ]

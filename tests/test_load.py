@@ -223,9 +223,10 @@ def test_valid_fixture_loads_every_file():
     assert [k for k in kinds if k[0] != "cycle"] == [
         ("map", "", "3x-minus-1"),
         ("map", "", "3x-plus-1"),
+        ("record", "", "record"),
         ("references", "", "references"),
     ]
-    assert len(raw.files) == 11
+    assert len(raw.files) == 12
     assert all(f.root is not None for f in raw.files)
 
 

@@ -22,6 +22,7 @@ Formats checked against their published definitions:
 from __future__ import annotations
 
 import argparse
+import hashlib
 import os
 import shutil
 import subprocess
@@ -46,6 +47,16 @@ from builder.verify import verify_catalogue
 
 THREE_X_PLUS_5 = AffineMap(2, ((1, 0), (3, 5)))  # T(n) = n/2 (n even), (3n+5)/2 (n odd)
 THREE_X_PLUS_1 = AffineMap(2, ((1, 0), (3, 1)))
+
+
+def fingerprint(modulus: int, branches: tuple[tuple[int, int], ...], canonical: int) -> str:
+    """The recipe of catalogue/README.md ("Fingerprints"), hashed with hashlib's SHA-256 (FIPS 180-4)."""
+    text = f"collatz-type-cycle/1\n{modulus}\n" + "".join(f"{a} {b}\n" for a, b in branches) + f"{canonical}\n"
+    return hashlib.sha256(text.encode("ascii")).hexdigest()[:16]
+
+
+# The fixture's 3x+1 map: n/2 on residue 0, (3n+1)/2 on residue 1 (Lagarias 1985 via literature.md).
+FP_3X_PLUS_1 = ((1, 0), (3, 1))
 
 MAP_3X_PLUS_5 = (
     "name: 3x+5 (shortcut form)\n"
@@ -179,7 +190,9 @@ def test_adding_a_valid_cycle(repo: Repo, review: Callable[..., Run]) -> None:
     assert "| cycles | 1 | 0 | 0 | 0 | 8 |" in run.lines
     assert "| references | 0 | 0 | 0 | 0 | 2 |" in run.lines
     assert "| `3x-plus-5` | added | — | — | holds |" in run.lines
-    assert "| `3x-plus-5/through-19` | added | — | — | holds |" in run.lines
+    canonical = min(cycle_through_19(), key=lambda n: (abs(n), n < 0))
+    fp = fingerprint(2, ((1, 0), (3, 5)), canonical)
+    assert f"| `3x-plus-5/through-19` | added | — | `{fp}` | holds |" in run.lines
     assert run.lines[-1] == "**Verdict: holds** — every added, changed and renamed entry verifies."
     assert "::" not in run.out  # no workflow commands without --format github
 
@@ -198,7 +211,8 @@ def test_moving_the_start_along_the_cycle_is_the_same_cycle(repo: Repo, review: 
     assert run.code == 0, run.out
     assert "| cycles | 0 | 1 | 0 | 0 | 7 |" in run.lines
     assert (
-        "| `3x-plus-1/through-minus-17` | changed | `start`: -17 → -25, `members` | same cycle | holds |" in run.lines
+        "| `3x-plus-1/through-minus-17` | changed | `start`: -17 → -25, `members` | "
+        f"same cycle (`{fingerprint(2, FP_3X_PLUS_1, -17)}`) | holds |" in run.lines
     )
 
 
@@ -298,7 +312,8 @@ def test_removing_a_covered_cycle_warns(repo: Repo, review: Callable[..., Run]) 
     run = review("--git", "--repo", str(repo.root), covered, branch)
     assert run.code == 0, run.out
     assert "| cycles | 0 | 0 | 0 | 1 | 7 |" in run.lines
-    assert "| `3x-plus-1/through-minus-17` | removed | — | — | — |" in run.lines
+    fp = fingerprint(2, FP_3X_PLUS_1, -17)
+    assert f"| `3x-plus-1/through-minus-17` | removed | — | `{fp}` | — |" in run.lines
     # (whether the base's map verifies depends on verify's support for coverage records; the head's does)
     map_row = next(line for line in run.lines if line.startswith("| `3x-plus-1` |"))
     assert map_row.startswith("| `3x-plus-1` | changed | `coverage` (removed) | ")
@@ -329,7 +344,8 @@ def test_a_renamed_cycle_is_reported_as_renamed(repo: Repo, review: Callable[...
     assert run.code == 0, run.out + run.err
     assert "| cycles | 0 | 0 | 1 | 0 | 7 |" in run.lines
     assert (
-        "| `3x-plus-1/minus-5` (was `3x-plus-1/through-minus-5`) | renamed | none | same cycle | holds |" in run.lines
+        "| `3x-plus-1/minus-5` (was `3x-plus-1/through-minus-5`) | renamed | none | "
+        f"same cycle, renamed (`{fingerprint(2, FP_3X_PLUS_1, -5)}`) | holds |" in run.lines
     )
     rows = [line for line in run.lines if line.startswith("| `")]
     assert len(rows) == 1  # neither a removal nor an addition
@@ -389,7 +405,8 @@ def test_directory_mode_identical_catalogues(catalogue: Callable[..., Path], rev
     run = review(str(base), str(head))
     assert run.code == 0
     assert "| cycles | 0 | 1 | 0 | 0 | 7 |" in run.lines
-    assert "| `3x-plus-1/through-1` | changed | comments or layout only | same cycle | holds |" in run.lines
+    fp = fingerprint(2, FP_3X_PLUS_1, 1)
+    assert f"| `3x-plus-1/through-1` | changed | comments or layout only | same cycle (`{fp}`) | holds |" in run.lines
     same = review(str(base), str(base))
     assert same.code == 0
     assert same.lines[-1] == "**Verdict: holds** — no entry changed."
@@ -414,15 +431,17 @@ def test_exact_markdown_of_a_small_case(
         "\n"
         "| entries | added | changed | renamed | removed | unchanged |\n"
         "| --- | ---: | ---: | ---: | ---: | ---: |\n"
+        "| record details | 0 | 0 | 0 | 0 | 1 |\n"
         "| maps | 0 | 0 | 0 | 0 | 2 |\n"
         "| cycles | 0 | 1 | 0 | 0 | 7 |\n"
         "| references | 0 | 0 | 0 | 0 | 2 |\n"
         "\n"
         "## Cycles\n"
         "\n"
-        "| entry | change | fields changed | same cycle? | verification |\n"
+        "| entry | change | fields changed | same cycle? (fingerprint) | verification |\n"
         "| --- | --- | --- | --- | --- |\n"
-        "| `3x-plus-1/through-1` | changed | `provenance.method`: iteration by hand → iterated from 1 by hand | same cycle | holds |\n"
+        "| `3x-plus-1/through-1` | changed | `provenance.method`: iteration by hand → iterated from 1 by hand | "
+        f"same cycle (`{fingerprint(2, FP_3X_PLUS_1, 1)}`) | holds |\n"
         "\n"
         "**Verdict: holds** — every added, changed and renamed entry verifies.\n"
     )
@@ -514,7 +533,7 @@ def test_compare_is_a_function_of_the_two_reports(catalogue: Callable[..., Path]
         ("map", "3x-plus-5", "added"),
         ("cycle", "3x-plus-5/through-19", "added"),
     ]
-    assert dict(result.unchanged) == {"map": 2, "cycle": 8, "reference": 2}
+    assert dict(result.unchanged) == {"record": 1, "map": 2, "cycle": 8, "reference": 2}
     assert all(isinstance(c, Change) and c.outcome is not None and c.outcome.holds for c in result.changes)
     backwards = compare(verify_catalogue(head), verify_catalogue(base))
     assert [(c.key, c.change, c.outcome) for c in backwards.changes] == [

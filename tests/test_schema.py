@@ -51,15 +51,16 @@ def load(path: Path) -> object:
 
 def kind_of(root: Path, path: Path) -> str:
     rel = path.relative_to(root).parts
-    if rel == ("references.yaml",):
-        return "references"
+    if rel in (("references.yaml",), ("record.yaml",)):
+        return rel[0].removesuffix(".yaml")
     return {"maps": "map", "cycles": "cycle"}[rel[0]]
 
 
 def catalogue_files(root: Path) -> list[Path]:
     files = sorted((root / "maps").glob("*.yaml")) + sorted((root / "cycles").glob("*/*.yaml"))
-    if (root / "references.yaml").is_file():
-        files.append(root / "references.yaml")
+    for name in ("references.yaml", "record.yaml"):
+        if (root / name).is_file():
+            files.append(root / name)
     return files
 
 
@@ -67,7 +68,7 @@ def errors(kind: str, instance: object) -> list[str]:
     return [e.message for e in validator(kind).iter_errors(instance)]
 
 
-@pytest.mark.parametrize("kind", ["map", "cycle", "references"])
+@pytest.mark.parametrize("kind", ["map", "cycle", "references", "record"])
 def test_schemas_are_valid_draft_2020_12(kind):
     s = schema(kind)
     assert s["$schema"] == "https://json-schema.org/draft/2020-12/schema"
@@ -76,7 +77,7 @@ def test_schemas_are_valid_draft_2020_12(kind):
 
 def test_every_valid_fixture_file_validates():
     files = catalogue_files(VALID)
-    assert len(files) == 11
+    assert len(files) == 12
     for path in files:
         assert errors(kind_of(VALID, path), load(path)) == [], path
 
@@ -89,6 +90,8 @@ def _accepted_files(root: Path) -> list[Path]:
     refs = root / "references.yaml"
     if cat.references and not any(p.position.file == refs for p in report.problems):
         accepted.append(refs)
+    if cat.record is not None:
+        accepted.append(root / "record.yaml")
     return accepted
 
 
@@ -134,6 +137,8 @@ REJECTED = [
     ("not-a-mapping", "cycles/3x-plus-1/through-minus-5.yaml"),
     ("not-a-mapping", "maps/plain.yaml"),
     ("not-a-mapping", "references.yaml"),
+    ("record-fields", "record.yaml"),
+    ("record-licence-spelling", "record.yaml"),
 ]
 
 

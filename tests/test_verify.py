@@ -42,7 +42,7 @@ def valid_report():
 def test_valid_fixture_has_no_problems(valid_report):
     assert valid_report.problems == ()
     assert valid_report.ok
-    assert valid_report.files == 11
+    assert valid_report.files == 12
     cat = valid_report.catalogue
     assert sorted(cat.maps) == ["3x-minus-1", "3x-plus-1"]
     assert sorted(cat.references) == ["lagarias-1985", "lagarias-1990"]

@@ -27,7 +27,7 @@ def test_periodic_word_of_a_real_cycle_is_accepted_when_the_slope_is_minus_one(c
     )
     run = cli("verify", str(root))
     assert run.code == 0, run.out
-    assert run.lines[-1] == "verified 1 map, 1 cycle and 0 references in 2 files: every claim holds"
+    assert run.lines[-1] == "verified 1 map, 1 cycle and 0 references in 3 files: every claim holds"
 
 
 def test_periodic_word_without_a_start_is_refused_even_when_degenerate(cli, catalogue):
