@@ -19,7 +19,9 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from .errors import UsageError
+from .history import NoHistory, RepoHistory, read_history
 from .model import Report
+from .releases import Changelog, Edition, read_changelog
 from .render import MARKER, render_site
 from .verify import Limits, verify_catalogue
 from .views import build_views
@@ -34,6 +36,9 @@ _RETIRED = ".{}.old-"
 class BuildResult:
     report: Report
     pages: int  # 0 when nothing was written
+    edition: Edition | None = None
+    changelog: Changelog | None = None
+    history: RepoHistory | NoHistory | None = None
 
 
 def _check_target(out: Path) -> None:
@@ -82,14 +87,18 @@ def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_ur
     report = verify_catalogue(catalogue, limits or Limits())
     if not report.ok:
         return BuildResult(report, 0)
-    views = build_views(report.catalogue, base_url)
+    record = report.catalogue.record
+    assert record is not None, "a catalogue that verifies has its record"
+    history = read_history(catalogue, names=record.credit_committers)
+    changelog, edition = read_changelog(report, history)
+    views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)
     out = out.absolute()
     parent = out.parent
     parent.mkdir(parents=True, exist_ok=True)
     _clean_leftovers(parent, out.name)
     staging = Path(tempfile.mkdtemp(prefix=_STAGING.format(out.name), dir=parent))
     try:
-        pages = render_site(views, staging, base_url)
+        pages = render_site(views, staging)
         os.chmod(staging, 0o755)  # mkdtemp makes it private; a site is for reading
         if not out.exists():
             staging.rename(out)
@@ -108,4 +117,4 @@ def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_ur
     except BaseException:
         shutil.rmtree(staging, ignore_errors=True)
         raise
-    return BuildResult(report, len(pages))
+    return BuildResult(report, len(pages), edition, changelog, history)

@@ -14,6 +14,7 @@ from ._args import add_catalogue, add_limits, limits_of
 from .build import build_site
 from .draft import draft_cycle
 from .errors import PeriplusError, UsageError
+from .history import NoHistory
 from .huntcli import add_hunt_command
 from .integers import show
 from .model import Report
@@ -129,7 +130,18 @@ def _build(args: argparse.Namespace) -> int:
     if not result.report.ok:
         print(f"nothing was written; {args.out} is as it was")
         return 1
-    print(f"wrote {result.pages} pages to {args.out}")
+    print(f"wrote {result.pages} pages to {args.out}: {result.edition.label if result.edition else 'no edition'}")
+    if isinstance(result.history, NoHistory):
+        print(f"note: no entry history or changelog, because {result.history.reason}")
+    elif result.history is not None and result.history.shallow:
+        print("note: the repository is a shallow clone, so entry dates and old releases may be missing")
+    if result.changelog is not None and result.changelog.releases:
+        for step in result.changelog.releases:
+            if step.stated_version is not None:
+                print(
+                    f"note: the tag {step.tag} holds a record.yaml that says version {step.stated_version}, "
+                    f"not {step.version}"
+                )
     return 0
 
 

@@ -10,6 +10,7 @@ a second line of defence).
 from __future__ import annotations
 
 import shutil
+from dataclasses import replace
 from importlib import resources
 from pathlib import Path
 
@@ -17,7 +18,8 @@ import jinja2
 
 from . import __version__
 from .exports import atom_feed, cycles_csv, json_text, search_index_js, sitemap_xml
-from .views import RECORD_TITLE, SiteViews
+from .metadata import citation_cff, robots_txt
+from .views import SiteViews
 
 __all__ = ["MARKER", "NAV", "render_site", "template_dir"]
 
@@ -30,6 +32,7 @@ NAV = (
     ("references", "References", "references/index.html"),
     ("search", "Search", "search/index.html"),
     ("data", "Data", "data/index.html"),
+    ("changes", "Changes", "changes/index.html"),
 )
 
 
@@ -47,7 +50,7 @@ def _environment() -> jinja2.Environment:
         lstrip_blocks=True,
         keep_trailing_newline=True,
     )
-    env.globals.update(nav=NAV, record_title=RECORD_TITLE, version=__version__)
+    env.globals.update(nav=NAV, version=__version__)
     return env
 
 
@@ -59,13 +62,13 @@ def _write(out: Path, relative: str, text: str) -> None:
     target.write_text(text, encoding="utf-8", newline="\n")
 
 
-def render_site(views: SiteViews, out: Path, base_url: str | None = None) -> list[str]:
+def render_site(views: SiteViews, out: Path) -> list[str]:
     """Write every page, export and asset into ``out`` (an empty folder); return the pages written."""
     env = _environment()
     pages = []
     for page in views.pages:
         template = env.get_template(page.template)
-        html = template.render(page=page, root=page.root, **page.context)
+        html = template.render(page=page, root=page.root, about=views.record, edition=views.edition, **page.context)
         _write(out, page.path, html)
         pages.append(page.path)
     _write(out, "data/catalogue.json", json_text(views.records))
@@ -73,9 +76,15 @@ def render_site(views: SiteViews, out: Path, base_url: str | None = None) -> lis
     for map_id, record in views.map_records.items():
         _write(out, f"data/maps/{map_id}.json", json_text(record))
     _write(out, "data/search-index.js", search_index_js(views))
-    _write(out, "feed.xml", atom_feed(views, base_url))
-    if base_url:
-        _write(out, "sitemap.xml", sitemap_xml([p for p in pages if p != "404.html"], base_url))
+    _write(out, "feed.xml", atom_feed(views))
+    _write(out, "sitemap.xml", sitemap_xml([p for p in pages if p != "404.html"], views.base_url))
+    about = replace(views.record, base_url=views.base_url)
+    _write(
+        out,
+        "CITATION.cff",
+        citation_cff(about, release=about.version, released_on=views.edition.released_on, commit=views.edition.commit),
+    )
+    _write(out, "robots.txt", robots_txt(views.base_url))
     static = template_dir() / "static"
     for asset in sorted(static.iterdir()):
         if asset.is_file() and not asset.name.startswith("."):

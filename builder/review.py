@@ -32,7 +32,7 @@ import re
 import subprocess
 import sys
 import tempfile
-from collections.abc import Iterator, Mapping
+from collections.abc import Callable, Iterator, Mapping
 from contextlib import contextmanager
 from dataclasses import dataclass, field, replace
 from pathlib import Path, PurePosixPath
@@ -48,6 +48,7 @@ from .model import Cycle, Report
 from .verify import short, verify_catalogue
 
 __all__ = [
+    "KINDS",
     "Change",
     "Comparison",
     "FieldChange",
@@ -56,6 +57,7 @@ __all__ = [
     "add_review_command",
     "compare",
     "coverage_bounds",
+    "field_summary",
     "github_commands",
     "render_markdown",
     "revision_catalogue",
@@ -633,23 +635,32 @@ def _verification(c: Change) -> str:
     return f"not verified: {_md(o.reason or 'unknown')}"
 
 
-def _fields_cell(c: Change) -> str:
+def field_summary(c: Change, code: Callable[[str], str], text: Callable[[str], str]) -> str:
+    """The fields a change touched, in one line: ``name: before → after`` for short values, else the name.
+
+    ``code`` writes a field name and ``text`` a value, for the output at hand (Markdown here, plain
+    text for the site, which escapes it itself).
+    """
     if c.layout_only:
         return "comments or layout only"
     if c.change in ("added", "removed", "unchanged") or not c.fields:
         return "—" if c.change != "renamed" else "none"
     parts = []
     for f in c.fields:
-        name = _code(f.name)
+        name = code(f.name)
         if f.before is None and f.after is not None:
             parts.append(f"{name} (added)")
         elif f.after is None and f.before is not None:
             parts.append(f"{name} (removed)")
         elif f.values and f.before is not None and f.after is not None and max(len(f.before), len(f.after)) <= 24:
-            parts.append(f"{name}: {_md(f.before)} → {_md(f.after)}")
+            parts.append(f"{name}: {text(f.before)} → {text(f.after)}")
         else:
             parts.append(name)
     return ", ".join(parts)
+
+
+def _fields_cell(c: Change) -> str:
+    return field_summary(c, _code, _md)
 
 
 def _entry_cell(c: Change) -> str:

@@ -11,22 +11,26 @@ from __future__ import annotations
 
 import posixpath
 from collections.abc import Iterable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from markupsafe import Markup
 
+from .fingerprint import FINGERPRINT_DIGITS, FINGERPRINT_HEADER
+from .history import FileHistory, NoHistory, RepoHistory
 from .integers import show, to_decimal
 from .markup import render_notes
 from .mathml import cycle_equation_mathml, map_definition_mathml
-from .model import Catalogue, Coverage, Cycle, MapEntry, Reference, word_text
+from .metadata import Download, dataset_jsonld, jsonld_script
+from .model import Catalogue, Coverage, Cycle, MapEntry, Record, Reference, word_text
 from .odds import length_odds
 from .relations import Relations, find_relations, qx_plus_d
+from .releases import Changelog, Edition, Step
+from .review import KINDS, Change, field_summary
 from .svg import odds_chart, orbit_plot, word_strip
 
-__all__ = ["RECORD_TITLE", "Page", "SiteViews", "build_views", "cycle_url", "map_url"]
+__all__ = ["Page", "SiteViews", "build_views", "change_url", "cycle_url", "map_url"]
 
-RECORD_TITLE = "Cycles of Collatz-type maps"
 #: Cycles up to this length show every member on their page.
 MEMBERS_ON_PAGE = 1000
 HEAD_MEMBERS, TAIL_MEMBERS = 500, 100
@@ -49,6 +53,11 @@ def cycle_url(map_id: str, cycle_id: str) -> str:
 
 def length_url(k: int) -> str:
     return f"lengths/{k}/index.html"
+
+
+def change_url(version: str | None) -> str:
+    """The page of a release's changes (versions are letters, digits, dots, hyphens, underscores)."""
+    return f"changes/{version if version is not None else 'unreleased'}/index.html"
 
 
 @dataclass(frozen=True, slots=True)
@@ -87,6 +96,10 @@ class SiteViews:
     map_records: dict[str, dict[str, Any]]  # map id -> its record with its cycles (data/maps/<id>.json)
     search_index: dict[str, Any]
     feed_entries: list[dict[str, Any]]
+    record: Record
+    edition: Edition
+    base_url: str  # absolute, ending in "/": the --base-url given to the build, else the record's
+    history: RepoHistory | NoHistory
 
 
 def _surname(author: str) -> str:
@@ -146,13 +159,33 @@ def _equation_text(entry: MapEntry, cycle: Cycle) -> str:
     return f"{head} = {show(eq.offset)} / {show(eq.target)} = {show(cycle.canonical)}"
 
 
-def _cycle_record(entry: MapEntry, cycle: Cycle, rel: Relations) -> dict[str, Any]:
+def _history_record(history: RepoHistory | NoHistory, rel: str, names: bool) -> dict[str, Any] | None:
+    """When the entry's file was first added and last changed, from git (None outside a repository)."""
+    if isinstance(history, NoHistory):
+        return None
+    found: FileHistory = history.of(rel)
+    out: dict[str, Any] = {"file": rel}
+    for what, commit in (("added", found.added), ("changed", found.changed)):
+        out[what] = commit.date.isoformat() if commit else None
+        out[f"{what}_commit"] = commit.id if commit else None
+        if names:
+            out[f"{what}_by"] = commit.committer if commit else None
+    out["uncommitted"] = found.uncommitted
+    return out
+
+
+def _relative(entry_path: Any, root: Any) -> str:
+    return str(entry_path.relative_to(root).as_posix())
+
+
+def _cycle_record(entry: MapEntry, cycle: Cycle, rel: Relations, history: dict[str, Any] | None) -> dict[str, Any]:
     key = (entry.id, cycle.id)
     eq = cycle.equation
     prov = cycle.provenance
     return {
         "map": entry.id,
         "id": cycle.id,
+        "fingerprint": cycle.fingerprint,
         "url": cycle_url(entry.id, cycle.id),
         "canonical": to_decimal(cycle.canonical),
         "length": cycle.length,
@@ -174,10 +207,13 @@ def _cycle_record(entry: MapEntry, cycle: Cycle, rel: Relations) -> dict[str, An
             "references": list(prov.references),
             "notes": prov.notes,
         },
+        "history": history,
     }
 
 
-def _map_record(entry: MapEntry, cycles: list[dict[str, Any]], rel: Relations) -> dict[str, Any]:
+def _map_record(
+    entry: MapEntry, cycles: list[dict[str, Any]], rel: Relations, history: dict[str, Any] | None
+) -> dict[str, Any]:
     return {
         "id": entry.id,
         "name": entry.name,
@@ -192,6 +228,7 @@ def _map_record(entry: MapEntry, cycles: list[dict[str, Any]], rel: Relations) -
         "references": list(entry.references),
         "mirror_map": rel.mirror_map.get(entry.id),
         "coverage": [_coverage_record(c) for c in entry.coverage],
+        "history": history,
         "cycles": cycles,
     }
 
@@ -209,33 +246,85 @@ def _coverage_record(claim: Coverage) -> dict[str, Any]:
     }
 
 
-def build_views(catalogue: Catalogue, base_url: str | None = None) -> SiteViews:
+def _record_about(record: Record, edition: Edition, base_url: str) -> dict[str, Any]:
+    """The record's own description, as every export carries it."""
+    return {
+        "title": record.title,
+        "description": record.description,
+        "maintainers": record.maintainers,
+        "licence": record.licence,
+        "licence_url": record.licence_url,
+        "base_url": base_url,
+        "version": record.version,
+        "edition": edition.label,
+        "release_status": edition.status,
+        "commit": edition.commit,
+    }
+
+
+#: How exports describe the fingerprint recipe (catalogue/README.md, "Fingerprints", has it in full).
+FINGERPRINT_NOTE = (
+    f"SHA-256 of the ASCII lines '{FINGERPRINT_HEADER}', the modulus m, 'a_i b_i' for each residue i = 0..m-1, "
+    f"and the canonical member, each ended by a line feed; the first {FINGERPRINT_DIGITS} hexadecimal digits"
+)
+
+
+def build_views(
+    catalogue: Catalogue,
+    base_url: str | None = None,
+    *,
+    edition: Edition | None = None,
+    changelog: Changelog | None = None,
+    history: RepoHistory | NoHistory | None = None,
+) -> SiteViews:
     """Build every page's view and every export record from a verified catalogue.
 
-    ``base_url``, when given, makes permalinks and citations absolute.
+    ``base_url`` (else the record's) makes permalinks, citations and the feed absolute.  ``edition``,
+    ``changelog`` and ``history`` come from git (builder.releases, builder.history); without them the
+    site says the record has no history.
     """
+    record = catalogue.record
+    assert record is not None, "a site is built only from a catalogue whose record verifies"
+    base = (base_url.rstrip("/") + "/") if base_url else record.base_url
+    history = history if history is not None else NoHistory("the build did not read the repository's history")
+    edition = edition if edition is not None else Edition(record.version, "unreleased", None, False)
+    if changelog is None:
+        reason = history.reason if isinstance(history, NoHistory) else "the build did not read the releases"
+        changelog = Changelog((), "no changelog: " + reason)
+    names = record.credit_committers
     rel = find_relations(catalogue)
     maps = catalogue.maps
     records_by_key: dict[tuple[str, str], dict[str, Any]] = {}
     cycle_records: list[dict[str, Any]] = []
     for map_id, cycles in catalogue.cycles.items():
         for cycle in cycles:
-            record = _cycle_record(maps[map_id], cycle, rel)
-            records_by_key[(map_id, cycle.id)] = record
-            cycle_records.append(record)
+            past = _history_record(history, _relative(cycle.path, catalogue.root), names)
+            cycle_record = _cycle_record(maps[map_id], cycle, rel, past)
+            records_by_key[(map_id, cycle.id)] = cycle_record
+            cycle_records.append(cycle_record)
     map_records = {
-        map_id: _map_record(entry, [records_by_key[(map_id, c.id)] for c in catalogue.cycles.get(map_id, ())], rel)
+        map_id: _map_record(
+            entry,
+            [records_by_key[(map_id, c.id)] for c in catalogue.cycles.get(map_id, ())],
+            rel,
+            _history_record(history, _relative(entry.path, catalogue.root), names),
+        )
         for map_id, entry in maps.items()
     }
+    about = _record_about(record, edition, base)
+    for map_record in map_records.values():
+        map_record["record"] = about
     references = {key: _reference_record(ref) for key, ref in catalogue.references.items()}
-    builder = _PageBuilder(catalogue, rel, records_by_key, map_records, base_url)
+    builder = _PageBuilder(catalogue, rel, records_by_key, map_records, base, edition, changelog, history)
+    builder.fixed_root = base if base_url else None
     pages = builder.all_pages()
     whole = {
         "format": "periplus-record",
-        "format_version": 1,
-        "title": RECORD_TITLE,
+        "format_version": 2,
+        "record": about,
         "note": "Every integer that belongs to a cycle is a decimal string; JSON numbers lose precision.",
-        "maps": [{k: v for k, v in record.items() if k != "cycles"} for record in map_records.values()],
+        "fingerprint_recipe": FINGERPRINT_NOTE,
+        "maps": [{k: v for k, v in r.items() if k not in ("cycles", "record")} for r in map_records.values()],
         "cycles": cycle_records,
         "references": references,
     }
@@ -245,6 +334,7 @@ def build_views(catalogue: Catalogue, base_url: str | None = None) -> SiteViews:
                 "map": r["map"],
                 "map_name": maps[r["map"]].name,
                 "cycle": r["id"],
+                "fingerprint": r["fingerprint"],
                 "url": r["url"],
                 "length": r["length"],
                 "canonical": r["canonical"],
@@ -261,19 +351,20 @@ def build_views(catalogue: Catalogue, base_url: str | None = None) -> SiteViews:
             {
                 "map": r["map"],
                 "cycle": r["id"],
+                "fingerprint": r["fingerprint"],
                 "title": f"{maps[r['map']].name}: cycle through {r['canonical']}",
                 "url": r["url"],
                 "found_on": r["provenance"]["found_on"],
                 "found_by": r["provenance"]["found_by"],
                 "summary": f"A cycle of length {r['length']} of {maps[r['map']].name}, least |member| "
-                f"{r['canonical']}; found by {r['provenance']['found_by']}.",
+                f"{r['canonical']}; found by {r['provenance']['found_by']}; fingerprint {r['fingerprint']}.",
             }
             for r in cycle_records
         ),
         key=lambda e: (e["found_on"], e["map"], e["cycle"]),
         reverse=True,
     )
-    return SiteViews(pages, whole, cycle_records, map_records, search, feed)
+    return SiteViews(pages, whole, cycle_records, map_records, search, feed, record, edition, base, history)
 
 
 class _PageBuilder:
@@ -283,9 +374,18 @@ class _PageBuilder:
         rel: Relations,
         records: dict[tuple[str, str], dict[str, Any]],
         map_records: dict[str, dict[str, Any]],
-        base_url: str | None,
+        base_url: str,
+        edition: Edition,
+        changelog: Changelog,
+        history: RepoHistory | NoHistory,
     ) -> None:
-        self.base_url = (base_url.rstrip("/") + "/") if base_url else ""
+        self.base_url = base_url
+        self.fixed_root: str | None = None
+        self.edition = edition
+        self.changelog = changelog
+        self.history = history
+        assert catalogue.record is not None
+        self.record = catalogue.record
         self.cat = catalogue
         self.rel = rel
         self.records = records
@@ -368,6 +468,102 @@ class _PageBuilder:
             )
         return rows
 
+    def dataset(self) -> dict[str, Any]:
+        """The schema.org Dataset description of the record, for the home page."""
+        head = self.history.head if isinstance(self.history, RepoHistory) else None
+        downloads = [
+            Download("data/catalogue.json", "application/json", "The whole verified record (JSON)"),
+            Download("data/cycles.csv", "text/csv", "One row per cycle (CSV)"),
+            Download("feed.xml", "application/atom+xml", "New cycles (Atom feed)"),
+        ]
+        return dataset_jsonld(
+            replace(self.record, base_url=self.base_url),
+            release=self.record.version,
+            released_on=self.edition.released_on,
+            modified_on=head.date if head else None,
+            downloads=downloads,
+            cycles=len(self.cycles),
+            maps=len(self.cat.maps),
+        )
+
+    def record_citation(self) -> str:
+        r = self.record
+        return f"{r.maintainers}. {r.title}, {self.edition.label}. {self.base_url}. Data licence: {r.licence}."
+
+    def history_view(self, past: dict[str, Any] | None) -> dict[str, Any]:
+        """What an entry page says of the entry's history: dates and short commit ids, or why there are none."""
+        if past is None:
+            assert isinstance(self.history, NoHistory)
+            return {"unavailable": self.history.reason}
+        view = dict(past)
+        for what in ("added", "changed"):
+            commit = past[f"{what}_commit"]
+            view[f"{what}_short"] = commit[:12] if commit else None
+        view["shallow"] = isinstance(self.history, RepoHistory) and self.history.shallow
+        view["names"] = self.record.credit_committers
+        view["unavailable"] = None
+        return view
+
+    def changes_pages(self) -> list[Page]:
+        log = self.changelog
+        crumbs = (Link("Record", "index.html"), Link("Changes", "changes/index.html"))
+        rows = []
+        pages = []
+        for step in reversed(log.steps):
+            counts = {
+                change: sum(1 for c in step.comparison.changes if c.change == change)
+                for change in ("added", "changed", "renamed", "removed")
+            }
+            title = f"Release {step.version}" if step.version is not None else "Changes not yet released"
+            url = change_url(step.version)
+            rows.append({"step": step, "title": title, "url": url, "counts": counts})
+            pages.append(
+                Page(
+                    url,
+                    "release.html",
+                    title,
+                    "changes",
+                    {"step": step, "counts": counts, "groups": self.change_groups(step)},
+                    crumbs,
+                )
+            )
+        index = Page(
+            "changes/index.html",
+            "changes.html",
+            "Releases and changes",
+            "changes",
+            {"rows": rows, "unavailable": log.unavailable, "shallow": log.shallow},
+            (Link("Record", "index.html"),),
+        )
+        return [index, *pages]
+
+    def change_groups(self, step: Step) -> list[dict[str, Any]]:
+        """The step's changes by kind, each with a link to the entry's page while the entry exists."""
+        groups = []
+        for kind in KINDS:
+            changes = [c for c in step.comparison.changes if c.kind == kind and c.change != "unchanged"]
+            if not changes:
+                continue
+            groups.append({"kind": kind, "rows": [self.change_row(c) for c in changes]})
+        return groups
+
+    def change_row(self, c: Change) -> dict[str, Any]:
+        url = None
+        if c.change != "removed":
+            if c.kind == "map" and c.key in self.cat.maps:
+                url = map_url(c.key)
+            elif c.kind == "cycle":
+                map_id, _, cycle_id = c.key.partition("/")
+                if (map_id, cycle_id) in self.cycles:
+                    url = cycle_url(map_id, cycle_id)
+            elif c.kind == "reference" and c.key in self.cat.references:
+                url = f"references/index.html#ref-{c.key}"
+        return {
+            "change": c,
+            "url": url,
+            "fields": field_summary(c, lambda name: name, lambda text: text),
+        }
+
     # -- pages ---------------------------------------------------------------
 
     def all_pages(self) -> list[Page]:
@@ -378,11 +574,14 @@ class _PageBuilder:
                 pages.append(self.cycle_page(self.cat.maps[map_id], cycle))
         pages.extend(self.length_pages())
         pages.append(self.references_page())
+        pages.extend(self.changes_pages())
         pages.append(Page("search/index.html", "search.html", "Search the record", "search"))
         pages.append(self.data_page())
         # A host serves 404.html for a missing address at any depth, so with a known
         # base address its links are absolute; without one they assume the site root.
-        pages.append(Page("404.html", "404.html", "Page not found", "", fixed_root=self.base_url or None))
+        # A host serves 404.html at any depth: with a --base-url given for this build its links are
+        # absolute; otherwise they assume the site root (the record's own address may not be this host).
+        pages.append(Page("404.html", "404.html", "Page not found", "", fixed_root=self.fixed_root))
         pages.append(self.site_map(pages))
         return pages
 
@@ -396,9 +595,11 @@ class _PageBuilder:
         return Page(
             "index.html",
             "index.html",
-            RECORD_TITLE,
+            self.record.title,
             "home",
             {
+                "cite": self.record_citation(),
+                "dataset_jsonld": Markup(jsonld_script(self.dataset())),  # noqa: S704 - escaped for a script
                 "maps": self.map_summary_rows(),
                 "total_cycles": total,
                 "total_maps": len(self.cat.maps),
@@ -457,6 +658,11 @@ class _PageBuilder:
                 ],
                 "counts_label": "Odd, even steps" if entry.modulus == 2 else "Residue counts",
                 "odds_svg": self.odds_svg(entry),
+                "history": self.history_view(self.map_records[map_id]["history"]),
+                "cite": (
+                    f"{entry.name}. {self.record.title}, {self.edition.label}, map {map_id}, "
+                    f"{self.base_url}maps/{map_id}/. Data licence: {self.record.licence}."
+                ),
             },
             (Link("Record", "index.html"), Link("Maps", "maps/index.html")),
         )
@@ -515,16 +721,20 @@ class _PageBuilder:
         svg_id = f"c-{entry.id}-{cycle.id}"
         # The pretty address (absolute with a base URL); links on the page use index.html.
         permalink = self.base_url + posixpath.dirname(r["url"]) + "/"
+        where = f"entry {entry.id}/{cycle.id}, fingerprint {cycle.fingerprint}"
         cite = (
-            f"{title} (length {cycle.length}). {RECORD_TITLE}, entry {entry.id}/{cycle.id}, "
-            f"{permalink}. Found by {prov.found_by}, {prov.found_on.isoformat()}."
+            f"{title} (length {cycle.length}). {self.record.title}, {self.edition.label}, {where}, "
+            f"{permalink}. Found by {prov.found_by}, {prov.found_on.isoformat()}. "
+            f"Data licence: {self.record.licence}."
         )
         bibtex = (
             f"@misc{{periplus:{entry.id}/{cycle.id},\n"
             f"  title        = {{{_bibtex(title)}}},\n"
-            f"  howpublished = {{{_bibtex(RECORD_TITLE)}, entry {_bibtex(entry.id + '/' + cycle.id)}}},\n"
+            f"  howpublished = {{{_bibtex(self.record.title)}, {_bibtex(self.edition.label)}, {_bibtex(where)}}},\n"
+            f"  author       = {{{{{_bibtex(self.record.maintainers)}}}}},\n"
             f"  note         = {{Cycle of length {cycle.length}; found by {_bibtex(prov.found_by)}, "
-            f"{prov.found_on.isoformat()}}},\n"
+            f"{prov.found_on.isoformat()}; data licence {_bibtex(self.record.licence)}}},\n"
+            f"  url          = {{{_bibtex(permalink)}}},\n"
             f"  year         = {{{prov.found_on.year}}}\n}}"
         )
         return Page(
@@ -566,6 +776,7 @@ class _PageBuilder:
                 "cite": cite,
                 "bibtex": bibtex,
                 "permalink": permalink,
+                "history": self.history_view(r["history"]),
             },
             (Link("Record", "index.html"), Link("Maps", "maps/index.html"), Link(entry.name, map_url(entry.id))),
         )

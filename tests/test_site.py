@@ -439,11 +439,13 @@ def test_search_index_is_json_with_one_item_per_cycle(shipped: Site) -> None:
     assert minus_17["members"][:3] == ["-17", "-25", "-37"]  # Lagarias 1985 via literature.md
 
 
-def test_sitemap_is_absent_without_a_base_url(tmp_path: Path) -> None:
-    # sitemaps.org protocol: <loc> must be a full URL, so without a base URL there can be no sitemap.
+def test_without_base_url_the_records_address_is_used(tmp_path: Path) -> None:
+    # sitemaps.org protocol: <loc> must be a full URL; record.yaml's base_url gives it.
     result = build_site(VALID, tmp_path / "site")
     assert result.pages > 0
-    assert not (tmp_path / "site" / "sitemap.xml").exists()
+    root = ET.parse(tmp_path / "site" / "sitemap.xml").getroot()
+    locs = [loc.text or "" for loc in root.iter(f"{SITEMAP}loc")]
+    assert locs and all(loc.startswith("https://test.example.org/record/") for loc in locs)
     assert (tmp_path / "site" / "feed.xml").is_file()
 
 
@@ -511,7 +513,8 @@ def test_build_prints_the_summary_and_the_page_count(cli, tmp_path: Path) -> Non
     run = cli("build", str(VALID), "--out", str(out))
     assert run.code == 0, run.err
     assert run.lines[0] == VALID_SUMMARY
-    match = re.fullmatch(r"wrote (\d+) pages to (.+)", run.lines[-1])
+    line = next(line for line in run.lines if line.startswith("wrote "))
+    match = re.fullmatch(r"wrote (\d+) pages to (.+): (release|version) .+", line)
     assert match and match.group(2) == str(out)
     assert int(match.group(1)) == len(list(out.rglob("*.html")))
 
