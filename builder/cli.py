@@ -133,8 +133,11 @@ def _build(args: argparse.Namespace) -> int:
     print(f"wrote {result.pages} pages to {args.out}: {result.edition.label if result.edition else 'no edition'}")
     if isinstance(result.history, NoHistory):
         print(f"note: no entry history or changelog, because {result.history.reason}")
-    elif result.history is not None and result.history.shallow:
-        print("note: the repository is a shallow clone, so entry dates and old releases may be missing")
+    elif result.history is not None:
+        if result.history.shallow:
+            print("note: the repository is a shallow clone, so entry dates and old releases may be missing")
+        for tag, why in result.history.ignored_tags:
+            print(f"note: the tag {tag} is not read as a release, because {why}")
     if result.changelog is not None and result.changelog.releases:
         for step in result.changelog.releases:
             if step.stated_version is not None:

@@ -1,7 +1,8 @@
 """What git knows about the catalogue: release tags, and when each file was added and last changed.
 
-Releases are the tags ``record-<version>`` (:data:`RELEASE_TAG_PREFIX`); any other tag is ignored,
-and so is a tag with nothing after the prefix.  Annotated tags are peeled to their commit.
+Releases are the tags ``record-<version>`` (:data:`RELEASE_TAG_PREFIX`); any other tag is ignored.
+A ``record-`` tag whose version breaks :func:`version_problem`'s rule, or that names no commit, is
+listed in ``ignored_tags`` with the reason, for the build to report.  Annotated tags are peeled to their commit.
 Releases are ordered by the committer time of the tagged commit, then by tag name.
 
 For each file under the catalogue, ``added`` is the commit that first added it and ``changed`` the
@@ -17,15 +18,40 @@ configuration or the time zone.
 from __future__ import annotations
 
 import os
+import re
 import subprocess
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from datetime import UTC, date, datetime
 from pathlib import Path
 
-__all__ = ["RELEASE_TAG_PREFIX", "Commit", "FileHistory", "NoHistory", "Release", "RepoHistory", "read_history"]
+__all__ = [
+    "RELEASE_TAG_PREFIX",
+    "UNRELEASED",
+    "Commit",
+    "FileHistory",
+    "NoHistory",
+    "Release",
+    "RepoHistory",
+    "read_history",
+    "version_problem",
+]
 
 RELEASE_TAG_PREFIX = "record-"
+# The word that names the changes not yet released (page changes/unreleased/), so no version may be it.
+UNRELEASED = "unreleased"
+# A version names the tag record-<version> and the page changes/<version>/, so it is one path
+# segment that reads the same on every file system: letters, digits, dots, hyphens, underscores.
+_VERSION = re.compile(r"[0-9A-Za-z](?:[0-9A-Za-z._-]*[0-9A-Za-z])?")
+
+
+def version_problem(text: str) -> str | None:
+    """Why ``text`` cannot be a release version, or None when it can."""
+    if _VERSION.fullmatch(text) is None or ".." in text:
+        return "expected letters, digits, dots, hyphens and underscores, starting and ending with a letter or digit"
+    if text.lower() == UNRELEASED:
+        return f"'{UNRELEASED}' names the changes not yet released"
+    return None
 
 
 @dataclass(frozen=True, slots=True)
@@ -58,6 +84,7 @@ class RepoHistory:
     releases: tuple[Release, ...]
     files: Mapping[str, FileHistory] = field(default_factory=dict)
     dirty: bool = False
+    ignored_tags: tuple[tuple[str, str], ...] = ()  # (tag, why) for record-* tags that are not releases
 
     def of(self, rel: str) -> FileHistory:
         """The history of a file by its path relative to the catalogue root."""
@@ -165,24 +192,34 @@ def _read(root: Path, names: bool) -> RepoHistory:
             continue
         rel = path[len(prefix) + 1 :] if prefix else path
         files[rel] = FileHistory(added.get(path), changed.get(path), path in pending)
-    return RepoHistory(top, prefix, head, shallow, _releases(top, names), files, bool(pending))
+    releases, ignored = _releases(top, names)
+    return RepoHistory(top, prefix, head, shallow, releases, files, bool(pending), ignored)
 
 
-def _releases(top: Path, names: bool) -> tuple[Release, ...]:
+def _releases(top: Path, names: bool) -> tuple[tuple[Release, ...], tuple[tuple[str, str], ...]]:
     fmt = "%(refname:strip=2)%00%(objectname)%00%(*objectname)"
-    out = _git(top, "for-each-ref", f"--format={fmt}", f"refs/tags/{RELEASE_TAG_PREFIX}*").decode()
+    # Every tag, filtered here: the pattern refs/tags/record-* would skip names with a slash.
+    out = _git(top, "for-each-ref", f"--format={fmt}", "refs/tags/").decode()
     found = []
+    ignored: list[tuple[str, str]] = []
     for line in out.splitlines():
         tag, obj, peeled = line.split("\0")
+        if not tag.startswith(RELEASE_TAG_PREFIX):
+            continue
         version = tag[len(RELEASE_TAG_PREFIX) :]
-        if not tag.startswith(RELEASE_TAG_PREFIX) or not version:
+        why = version_problem(version)
+        if why is not None:
+            ignored.append((tag, f"its version '{version}' is not a release version: {why}"))
             continue
         oid = peeled or obj
         try:
-            fields = _git(top, "log", "-1", "--format=%H%x00%ct%x00%cn", oid, "--").decode().rstrip("\n").split("\0")
+            # gitrevisions(7): <rev>^{commit} fails unless the object is, or peels to, a commit;
+            # git log of a tagged file's content or folder prints nothing rather than failing.
+            raw = _git(top, "log", "-1", "--format=%H%x00%ct%x00%cn", f"{oid}^{{commit}}", "--")
         except _GitFailed:
-            continue  # a tag of something that is not a commit
-        commit = _commit(fields, names)
-        stamp = int(_git(top, "log", "-1", "--format=%ct", oid, "--").decode().strip())
-        found.append((stamp, tag, Release(version, tag, commit)))
-    return tuple(r for _, _, r in sorted(found, key=lambda item: (item[0], item[1])))
+            ignored.append((tag, "it does not name a commit"))
+            continue
+        fields = raw.decode().rstrip("\n").split("\0")
+        found.append((int(fields[1]), tag, Release(version, tag, _commit(fields, names))))
+    releases = tuple(r for _, _, r in sorted(found, key=lambda item: (item[0], item[1])))
+    return releases, tuple(sorted(ignored))

@@ -33,6 +33,7 @@ from .dynamics import (
 )
 from .errors import KeyPath, Position, Problem, format_key_path
 from .fingerprint import cycle_fingerprint
+from .history import UNRELEASED, version_problem
 from .integers import DECIMAL_INTEGER, parse_decimal, show
 from .licences import check_licence
 from .load import (
@@ -340,8 +341,6 @@ def _label(key_path: KeyPath) -> str:
 
 RECORD_FILE = "record.yaml"
 _RECORD_REQUIRED = ("title", "description", "maintainers", "licence", "base_url", "version")
-# A version names the tag record-<version> and the page changes/<version>/: letters, digits, . _ -
-_VERSION = re.compile(r"[0-9A-Za-z](?:[0-9A-Za-z._-]*[0-9A-Za-z])?")
 _BASE_URL = re.compile(r"https?://[A-Za-z0-9.-]+(?::[0-9]{1,5})?(?:/[A-Za-z0-9._~%!$&'()*+,;=:@/-]*)?")
 
 
@@ -435,12 +434,14 @@ def _record_version(doc: _Doc, node: Node) -> str | None:
     if text is None:
         return None
     text = text.strip()
-    if _VERSION.fullmatch(text) is None or ".." in text:
+    why = version_problem(text)
+    if why is not None:
         doc.error(
             node,
             ("version",),
             f"expected a version of letters, digits, dots, hyphens and underscores such as 2026.1 "
-            f"(it names the git tag record-<version>), got '{short(text)}'",
+            f"(it names the git tag record-<version>), got '{short(text)}'"
+            + (f" ({why})" if text.lower() == UNRELEASED else ""),
             "bad-version",
         )
         return None

@@ -121,6 +121,13 @@ def test_a_catalogue_without_record_yaml_fails(catalogue, cli):
         ("version: 2", "version: expected a version as text, got the number 2"),
         ('version: "1.0/../x"', "version: expected a version of letters, digits"),
         ('version: "-1"', "version: expected a version of letters, digits"),
+        # The changelog's page for changes not yet released is changes/unreleased/ (DEVELOPERS.md).
+        (
+            "version: Unreleased",
+            "version: expected a version of letters, digits, dots, hyphens and underscores such as 2026.1 "
+            "(it names the git tag record-<version>), got 'Unreleased' "
+            "('unreleased' names the changes not yet released)",
+        ),
         ("credit_committers: true", None),
         ("credit_committers: 1", "credit_committers: expected true or false, got the number 1"),
         ("licence: [CC0-1.0]", "licence: expected text, got a list"),
