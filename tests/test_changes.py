@@ -18,6 +18,7 @@ from conftest import PROVENANCE, VALID
 from gitrepo import Repo
 
 from builder.build import build_site
+from builder.cli import main
 from builder.history import read_history
 from builder.releases import read_changelog
 from builder.verify import verify_catalogue
@@ -195,3 +196,24 @@ def test_a_repository_without_release_tags_builds_and_says_so(tmp_path: Path) ->
     assert "no release tags" in text
     head = repo.git("rev-parse", "HEAD").strip()
     assert result.edition is not None and result.edition.label == f"version 1.0, not yet released (commit {head[:12]})"
+
+
+def test_build_names_the_tags_it_does_not_read_as_releases(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    # git-check-ref-format(1) allows a slash in a tag name (but not record-1.0 and record-1.0/x together);
+    # such a version would make no page of its own.
+    repo = Repo(tmp_path / "repo")
+    shutil.copytree(VALID, repo.path / "catalogue")
+    repo.commit("start", DATES["1.0"])
+    repo.tag("record-1.0")
+    repo.tag("record-2/candidate")
+    repo.tag("record-unreleased")
+    assert main(["build", str(repo.path / "catalogue"), "--out", str(tmp_path / "site")]) == 0
+    lines = [line for line in capsys.readouterr().out.splitlines() if line.startswith("note:")]
+    assert lines == [
+        "note: the tag record-2/candidate is not read as a release, because its version '2/candidate' is "
+        "not a release version: expected letters, digits, dots, hyphens and underscores, starting and ending "
+        "with a letter or digit",
+        "note: the tag record-unreleased is not read as a release, because its version 'unreleased' is not a "
+        "release version: 'unreleased' names the changes not yet released",
+    ]
+    assert sorted(p.name for p in (tmp_path / "site/changes").iterdir()) == ["1.0", "index.html"]
