@@ -95,6 +95,9 @@ def _jsonld(record: Record = RECORD, **changes: Any) -> dict[str, Any]:
 @pytest.fixture(scope="module")
 def cff_validator() -> jsonschema.Draft7Validator:
     schema = json.loads(CFF_SCHEMA_PATH.read_text(encoding="utf-8"))
+    # jsonschema checks the "uri" format only when a URI library is installed (rfc3986-validator, a test
+    # dependency); without one the format would pass everything.
+    assert "uri" in jsonschema.FormatChecker().checkers
     # The schema declares Draft 7 ("$schema": "http://json-schema.org/draft-07/schema"); check it is sound first.
     assert schema["$schema"].startswith("http://json-schema.org/draft-07/schema")
     jsonschema.Draft7Validator.check_schema(schema)
@@ -341,6 +344,7 @@ def test_the_schema_validation_can_fail(cff_validator: jsonschema.Draft7Validato
         ("license", "Not-An-SPDX-Id"),  # schema "license-enum"
         ("authors", []),  # schema: at least one author
         ("url", "test.example.org/record/"),  # schema "url": pattern ^(https|http|ftp|sftp)://.+
+        ("url", "https://test.example.org/a record/"),  # schema "url": format uri (RFC 3986 has no spaces)
     ]
     for key, value in broken:
         with pytest.raises(jsonschema.ValidationError):
