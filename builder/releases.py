@@ -23,7 +23,7 @@ from pathlib import Path
 from .errors import UsageError
 from .history import RELEASE_TAG_PREFIX, NoHistory, Release, RepoHistory
 from .model import Report
-from .review import Comparison, compare, revision_catalogue
+from .review import Comparison, compare_series, revision_catalogue
 from .verify import Limits, verify_catalogue
 
 __all__ = ["Changelog", "Edition", "Step", "read_changelog"]
@@ -133,24 +133,25 @@ def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Ch
     steps: list[Step] = []
     with tempfile.TemporaryDirectory(prefix="periplus-releases-") as tmp:
         folder = Path(tmp)
-        before = verify_catalogue(_empty_catalogue(folder), _COMPARE_LIMITS)
-        previous: Release | None = None
-        for release in releases:
-            this = _release_report(history, release, folder)
-            stated = this.catalogue.record.version if this.catalogue.record else None
-            steps.append(
-                Step(
-                    release.version,
-                    release.tag,
-                    release.commit.id,
-                    release.commit.date,
-                    previous.version if previous else None,
-                    compare(before, this),
-                    stated if stated != release.version else None,
-                )
+        reports = [verify_catalogue(_empty_catalogue(folder), _COMPARE_LIMITS)]
+        reports += [_release_report(history, release, folder) for release in releases]
+        comparisons = compare_series([*reports, report])
+    previous: Release | None = None
+    for release, this, comparison in zip(releases, reports[1:], comparisons[:-1], strict=True):
+        stated = this.catalogue.record.version if this.catalogue.record else None
+        steps.append(
+            Step(
+                release.version,
+                release.tag,
+                release.commit.id,
+                release.commit.date,
+                previous.version if previous else None,
+                comparison,
+                stated if stated != release.version else None,
             )
-            before, previous = this, release
-        latest = compare(before, report)
+        )
+        previous = release
+    latest = comparisons[-1]
     assert previous is not None
     pending = Step(None, None, head, None, previous.version, latest)
     if pending.touched:

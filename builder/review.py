@@ -32,7 +32,7 @@ import re
 import subprocess
 import sys
 import tempfile
-from collections.abc import Callable, Iterator, Mapping
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass, field, replace
 from pathlib import Path, PurePosixPath
@@ -56,6 +56,7 @@ __all__ = [
     "ReviewWarning",
     "add_review_command",
     "compare",
+    "compare_series",
     "coverage_bounds",
     "field_summary",
     "github_commands",
@@ -429,7 +430,18 @@ def compare(base: Report, head: Report) -> Comparison:
     Reads the entries' files under each report's catalogue root (which must still exist) to compare
     fields as written; everything mathematical comes from the reports.
     """
-    b_side, h_side = _read_side(base), _read_side(head)
+    return _compare_sides(_read_side(base), _read_side(head))
+
+
+def compare_series(reports: Sequence[Report]) -> list[Comparison]:
+    """``compare`` each report with the one after it, reading each catalogue's files once."""
+    sides = [_read_side(r) for r in reports]
+    return [_compare_sides(b, h) for b, h in zip(sides, sides[1:], strict=False)]
+
+
+def _compare_sides(b_side: _Side, h_side: _Side) -> Comparison:
+    # Copies: the entries filled in below belong to this comparison, not to a side read once and shared.
+    b_side, h_side = replace(b_side, entries=dict(b_side.entries)), replace(h_side, entries=dict(h_side.entries))
     # A references.yaml that cannot be read has no keys to compare: its entries are those of the other
     # side, each with unknown fields (so "changed", and failing with the file's problems).
     for this, that in ((b_side, h_side), (h_side, b_side)):
@@ -522,7 +534,7 @@ def compare(base: Report, head: Report) -> Comparison:
             if belongs or (rel, p.position.line, p.position.column, p.message) in base_other:
                 continue
             other.append(p)
-    return Comparison(tuple(changes), unchanged, tuple(warnings), tuple(other), head.files)
+    return Comparison(tuple(changes), unchanged, tuple(warnings), tuple(other), h_side.report.files)
 
 
 def _list_paths(paths: list[str], keep: int = 5) -> str:

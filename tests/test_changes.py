@@ -21,6 +21,7 @@ from builder.build import build_site
 from builder.cli import main
 from builder.history import read_history
 from builder.releases import read_changelog
+from builder.review import compare, compare_series, revision_catalogue
 from builder.verify import verify_catalogue
 
 MAP_3X_PLUS_5 = (
@@ -217,3 +218,15 @@ def test_build_names_the_tags_it_does_not_read_as_releases(tmp_path: Path, capsy
         "release version: 'unreleased' names the changes not yet released",
     ]
     assert sorted(p.name for p in (tmp_path / "site/changes").iterdir()) == ["1.0", "index.html"]
+
+
+def test_a_series_of_comparisons_is_each_pair_compared(releases: Repo, tmp_path: Path) -> None:
+    # compare_series reads each catalogue once; it must give what compare gives pair by pair
+    # (common practice, no source: an optimisation keeps the result of the plain computation).
+    reports = []
+    for tag in ("record-1.0", "record-1.1", "record-2.0"):
+        root = revision_catalogue(releases.path, tag, "catalogue", tmp_path / tag)
+        reports.append(verify_catalogue(root))
+    series = compare_series(reports)
+    assert series == [compare(reports[0], reports[1]), compare(reports[1], reports[2])]
+    assert all(c.changes for c in series)
