@@ -12,6 +12,7 @@ from pathlib import Path
 
 __all__ = [
     "CatalogueUnreadable",
+    "NoCatalogueAtRevision",
     "PeriplusError",
     "Position",
     "Problem",
@@ -75,6 +76,15 @@ class UsageError(PeriplusError):
     """The command line asks for something impossible."""
 
     exit_code = 2
+
+
+class NoCatalogueAtRevision(UsageError):
+    """A git revision holds no files under the catalogue's path (the record did not exist yet)."""
+
+    def __init__(self, revision: str, path: str) -> None:
+        self.revision = revision
+        self.path = path
+        super().__init__(f"revision '{revision}' has no files under '{path}'")
 
 
 class CatalogueUnreadable(PeriplusError):

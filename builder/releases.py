@@ -20,10 +20,10 @@ from dataclasses import dataclass
 from datetime import date
 from pathlib import Path
 
-from .errors import UsageError
+from .errors import NoCatalogueAtRevision
 from .history import RELEASE_TAG_PREFIX, NoHistory, Release, RepoHistory
 from .model import Report
-from .review import Comparison, compare_series, revision_catalogue
+from .review import Comparison, compare_series, empty_catalogue, revision_catalogue
 from .verify import Limits, verify_catalogue
 
 __all__ = ["Changelog", "Edition", "Step", "read_changelog"]
@@ -96,19 +96,13 @@ class Edition:
         return f"version {self.version}, not yet released ({state})"
 
 
-def _empty_catalogue(folder: Path) -> Path:
-    root = folder / "empty"
-    (root / "maps").mkdir(parents=True)
-    return root
-
-
 def _release_report(history: RepoHistory, release: Release, folder: Path) -> Report:
     dest = folder / f"release-{release.commit.id}"
     try:
         root = revision_catalogue(history.top, release.commit.id, history.prefix or ".", dest)
-    except UsageError:
+    except NoCatalogueAtRevision:
         # The tagged commit has no catalogue at this path: the record was empty then.
-        root = _empty_catalogue(dest)
+        root = empty_catalogue(dest)
     return verify_catalogue(root, _COMPARE_LIMITS)
 
 
@@ -133,7 +127,7 @@ def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Ch
     steps: list[Step] = []
     with tempfile.TemporaryDirectory(prefix="periplus-releases-") as tmp:
         folder = Path(tmp)
-        reports = [verify_catalogue(_empty_catalogue(folder), _COMPARE_LIMITS)]
+        reports = [verify_catalogue(empty_catalogue(folder), _COMPARE_LIMITS)]
         reports += [_release_report(history, release, folder) for release in releases]
         comparisons = compare_series([*reports, report])
     previous: Release | None = None

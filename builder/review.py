@@ -39,7 +39,7 @@ from pathlib import Path, PurePosixPath
 from typing import Any
 
 from ._args import add_limits, limits_of
-from .errors import PeriplusError, Problem, UsageError
+from .errors import NoCatalogueAtRevision, PeriplusError, Problem, UsageError
 from .integers import DECIMAL_INTEGER, parse_decimal
 from .load import Mapping as MappingNode
 from .load import Node, Scalar, read_file, scan_catalogue
@@ -57,6 +57,7 @@ __all__ = [
     "add_review_command",
     "compare",
     "compare_series",
+    "empty_catalogue",
     "coverage_bounds",
     "field_summary",
     "github_commands",
@@ -843,7 +844,8 @@ def revision_catalogue(repo: Path, revision: str, path: str, dest: Path) -> Path
     Nothing is checked out: the tree is listed (git ls-tree) and the blobs read (git cat-file), so the
     working tree, the index and export attributes play no part.  A symbolic link in the revision becomes
     a link to nowhere (verification reports links without following them).  Returns the catalogue root
-    inside ``dest``.  Raises UsageError for an unknown revision or a revision without ``path``.
+    inside ``dest``.  Raises UsageError for an unknown revision, and NoCatalogueAtRevision (a UsageError)
+    for a revision without ``path``.
     """
     if revision.startswith("-"):
         raise UsageError(f"expected a git revision, got '{revision}'")
@@ -861,7 +863,7 @@ def revision_catalogue(repo: Path, revision: str, path: str, dest: Path) -> Path
         mode, kind, obj = meta.split(b" ")
         items.append((mode, kind, obj, PurePosixPath(os.fsdecode(raw_name))))
     if not items:
-        raise UsageError(f"revision '{revision}' has no files under '{pure}'")
+        raise NoCatalogueAtRevision(revision, str(pure))
     blobs = [obj for mode, kind, obj, _ in items if kind == b"blob" and mode != b"120000"]
     contents = _cat_blobs(repo, blobs)
     root = dest / pure
@@ -877,6 +879,17 @@ def revision_catalogue(repo: Path, revision: str, path: str, dest: Path) -> Path
             os.symlink("symbolic-link-in-the-revision", target)
         else:
             target.write_bytes(contents[obj])
+    return root
+
+
+def empty_catalogue(folder: Path) -> Path:
+    """Make a catalogue with no entries inside ``folder`` and return its root.
+
+    It stands for a revision from before the catalogue existed, so that comparing with it lists every
+    entry of the other side as added.
+    """
+    root = folder / "no-catalogue-yet"
+    (root / "maps").mkdir(parents=True)
     return root
 
 
@@ -945,9 +958,16 @@ def _catalogues(args: argparse.Namespace) -> Iterator[tuple[Path, Path, str, str
     path = args.path if args.path is not None else "catalogue"
     top = Path(_git(repo, "rev-parse", "--show-toplevel").decode().strip())
     with tempfile.TemporaryDirectory(prefix="periplus-review-") as tmp:
-        base = revision_catalogue(top, args.base, path, Path(tmp) / "base")
+        base_label = args.base
+        try:
+            base = revision_catalogue(top, args.base, path, Path(tmp) / "base")
+        except NoCatalogueAtRevision:
+            # The change that starts the record: everything in HEAD is added.  A HEAD without the
+            # catalogue stays an error, since removing the whole record is no reviewable change.
+            base = empty_catalogue(Path(tmp) / "base")
+            base_label = f"{args.base} (no catalogue yet)"
         head = revision_catalogue(top, args.head, path, Path(tmp) / "head")
-        yield base, head, _catalogue_path(path).as_posix(), args.base, args.head
+        yield base, head, _catalogue_path(path).as_posix(), base_label, args.head
 
 
 def run_review(args: argparse.Namespace) -> int:

@@ -105,14 +105,16 @@ GIT_IDENTITY = (
 
 
 class Repo:
-    def __init__(self, root: Path) -> None:
+    def __init__(self, root: Path, with_catalogue: bool = True) -> None:
+        """A repository whose first commit holds the valid fixture catalogue (or only a README)."""
         self.root = root
         root.mkdir()
         self.git("init", "-q", "-b", "main")
-        shutil.copytree(VALID, root / "catalogue")
+        if with_catalogue:
+            shutil.copytree(VALID, root / "catalogue")
         (root / "README.md").write_text("A repository holding a catalogue.\n", encoding="utf-8")
         self.git("add", "-A")
-        self.git("commit", "-q", "-m", "the valid fixture catalogue")
+        self.git("commit", "-q", "-m", "the valid fixture catalogue" if with_catalogue else "a README")
 
     def git(self, *args: str) -> str:
         done = subprocess.run(
@@ -504,6 +506,28 @@ def test_usage_errors_exit_2(repo: Repo, tmp_path: Path, review: Callable[..., R
     assert path_without_git.code == 2
     not_a_repo = review("--git", "--repo", str(tmp_path), "main", "main")
     assert not_a_repo.code == 2
+
+
+def test_the_change_that_starts_the_catalogue(tmp_path: Path, review: Callable[..., Run]) -> None:
+    # A BASE from before the catalogue existed reads as an empty catalogue, so the first pull request
+    # can be reviewed; a HEAD without it stays a usage error (common practice, no source).
+    start = Repo(tmp_path / "new-repo", with_catalogue=False)
+    root = start.root
+    start.git("tag", "before")
+    shutil.copytree(VALID, root / "catalogue")
+    start.git("add", "-A")
+    start.git("commit", "-q", "-m", "the valid fixture catalogue")
+    run = review("--git", "--repo", str(root), "before", "main")
+    assert run.code == 0, run.out + run.err
+    # Counts: the fixture has 1 record, 2 maps, 8 cycles and 2 references (tests/fixtures/valid).
+    assert "| record details | 1 | 0 | 0 | 0 | 0 |" in run.lines
+    assert "| maps | 2 | 0 | 0 | 0 | 0 |" in run.lines
+    assert "| cycles | 8 | 0 | 0 | 0 | 0 |" in run.lines
+    assert "| references | 2 | 0 | 0 | 0 | 0 |" in run.lines
+    assert "before (no catalogue yet)" in run.out
+    backwards = review("--git", "--repo", str(root), "main", "before")
+    assert backwards.code == 2
+    assert backwards.err == "periplus: error: revision 'before' has no files under 'catalogue'\n"
 
 
 # --- the workflow command format -----------------------------------------------------------
