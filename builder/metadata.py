@@ -194,8 +194,9 @@ def citation_cff(
 
     Fields: cff-version, type, message, title, version, date-released (when known), commit (when known),
     authors (the maintainers as one entity), abstract (the description), license (the SPDX identifier;
-    one newer than the format's 2021 licence list goes in license-url as its SPDX page), url and keywords.  Every value is a double-quoted string (``yaml_string``), so YAML reads each back
-    as exactly that string: a version ``1.0`` stays text and a date stays the string the schema expects.
+    one newer than the format's 2021 licence list goes in license-url as its SPDX page), url and
+    keywords.  Every value is a double-quoted string (``yaml_string``), so YAML reads each back as
+    exactly that string: a version ``1.0`` stays text and a date stays the string the schema expects.
     Ends with a newline.
     """
     _check_base_url(record.base_url)
