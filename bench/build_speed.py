@@ -36,7 +36,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from builder.build import build_site  # noqa: E402
+from builder.site.build import build_site  # noqa: E402
 
 
 def best_of(repeat: int, fn: Callable[[], object]) -> float:

@@ -21,9 +21,9 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from builder._fastiter import hunt_range  # noqa: E402
-from builder.dynamics import AffineMap  # noqa: E402
-from builder.hunt import DEFAULT_MAX_BITS, DEFAULT_MAX_STEPS, HuntResult, hunt  # noqa: E402
+from builder.arith.dynamics import AffineMap  # noqa: E402
+from builder.search.definition import DEFAULT_MAX_BITS, DEFAULT_MAX_STEPS, HuntResult, hunt  # noqa: E402
+from builder.search.engine import hunt_range  # noqa: E402
 
 GOAL = 1_000_000
 

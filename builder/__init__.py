@@ -7,11 +7,11 @@ in ``dynamics`` and ``words`` (which import neither YAML nor Jinja).
 
 __version__ = "0.1.0"
 
-from .dynamics import AffineMap, CycleFound, EntersCycle, Equation, Unresolved, cycle_equation, trace
-from .errors import CatalogueUnreadable, PeriplusError, Position, Problem, UsageError
-from .model import Catalogue, Cycle, MapEntry, Provenance, Reference, Report
-from .verify import Limits, verify_catalogue
-from .words import aperiodic_necklace_count, least_period
+from builder.arith.dynamics import AffineMap, CycleFound, EntersCycle, Equation, Unresolved, cycle_equation, trace
+from builder.arith.words import aperiodic_necklace_count, least_period
+from builder.catalogue.model import Catalogue, Cycle, MapEntry, Provenance, Reference, Report
+from builder.catalogue.verify import Limits, verify_catalogue
+from builder.errors import CatalogueUnreadable, PeriplusError, Position, Problem, UsageError
 
 __all__ = [
     "AffineMap",

@@ -2,7 +2,7 @@
 
 import sys
 
-from .cli import main
+from builder.commands import main
 
 # Guarded so that worker processes started by ``spawn`` (periplus hunt) do not run the command again.
 if __name__ == "__main__":

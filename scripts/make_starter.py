@@ -19,10 +19,10 @@ from pathlib import Path
 
 import yaml
 
-from builder._fastiter import hunt_range
-from builder.draft import cycle_file_id, entry_text
-from builder.dynamics import AffineMap
-from builder.hunt import HuntResult
+from builder.arith.dynamics import AffineMap
+from builder.catalogue.entries import cycle_file_id, entry_text
+from builder.search.definition import HuntResult
+from builder.search.engine import hunt_range
 
 FOUND_ON = "2026-12-01"
 FOUND_BY = "Periplus starter search"

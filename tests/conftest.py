@@ -19,7 +19,7 @@ from pathlib import Path
 import gmpy2
 import pytest
 
-from builder.cli import main
+from builder.commands import main
 
 FIXTURES = Path(__file__).parent / "fixtures"
 VALID = FIXTURES / "valid"
@@ -103,7 +103,7 @@ def catalogue(tmp_path: Path) -> Callable[..., Path]:
 
 @pytest.fixture
 def cli(capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch) -> Callable[..., Run]:
-    """Run builder.cli.main in-process with captured output; argparse's SystemExit becomes the exit code."""
+    """Run builder.commands.main in-process with captured output; argparse's SystemExit becomes the exit code."""
 
     def run(*argv: str, cwd: Path | None = None) -> Run:
         if cwd is not None:

@@ -17,12 +17,13 @@ from bs4 import BeautifulSoup
 from conftest import PROVENANCE, VALID
 from gitrepo import Repo
 
-from builder.build import build_site
-from builder.cli import main
-from builder.history import read_history
-from builder.releases import read_changelog
-from builder.review import compare, compare_series, revision_catalogue
-from builder.verify import verify_catalogue
+from builder.catalogue.verify import verify_catalogue
+from builder.commands import main
+from builder.diff import compare, compare_series
+from builder.history import revision_catalogue
+from builder.history.changelog import read_changelog
+from builder.history.repo import read_history
+from builder.site.build import build_site
 
 MAP_3X_PLUS_5 = (
     "name: 3x+5 (shortcut form)\n"

@@ -22,7 +22,7 @@ import yaml
 from bs4 import BeautifulSoup
 from conftest import VALID
 
-from builder.build import build_site
+from builder.site.build import build_site
 
 ATOM = "{http://www.w3.org/2005/Atom}"
 CFF_SCHEMA = Path(__file__).parent / "external" / "citation-file-format-1.2.0.schema.json"

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from builder.verify import Limits, verify_catalogue
+from builder.catalogue.verify import Limits, verify_catalogue
 
 CLAIM = (
     "coverage:\n"

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import datetime as dt
 
-from builder.draft import draft_cycle
-from builder.verify import Limits, verify_catalogue
+from builder.catalogue.draft import draft_cycle
+from builder.catalogue.verify import Limits, verify_catalogue
 
 
 def test_a_drafted_entry_verifies_unchanged(cli, catalogue):

@@ -13,7 +13,7 @@ import sys
 import gmpy2
 import pytest
 
-from builder.dynamics import (
+from builder.arith.dynamics import (
     AffineMap,
     CycleFound,
     EntersCycle,
@@ -22,9 +22,9 @@ from builder.dynamics import (
     cycle_equation,
     trace,
 )
-from builder.hunt import hunt
-from builder.integers import parse_decimal, to_decimal
-from builder.words import aperiodic_necklace_count, is_rotation, least_rotation_index, rotate
+from builder.arith.integers import parse_decimal, to_decimal
+from builder.arith.words import aperiodic_necklace_count, is_rotation, least_rotation_index, rotate
+from builder.search.definition import hunt
 
 SHORTCUT_3X1 = AffineMap(2, ((1, 0), (3, 1)))
 SHORTCUT_3XM1 = AffineMap(2, ((1, 0), (3, -1)))

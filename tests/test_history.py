@@ -15,7 +15,7 @@ from pathlib import Path
 import pytest
 from gitrepo import Repo
 
-from builder.history import NoHistory, RepoHistory, read_history
+from builder.history.repo import NoHistory, RepoHistory, read_history
 
 
 def _history(path: Path, names: bool = False) -> RepoHistory:

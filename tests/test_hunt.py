@@ -17,11 +17,12 @@ from pathlib import Path
 
 import pytest
 
-from builder import _fastiter, huntcli
-from builder.draft import cycle_file_id, entry_text
-from builder.dynamics import AffineMap, CycleFound
-from builder.hunt import HuntResult, hunt, merge_results
-from builder.verify import verify_catalogue
+from builder.arith.dynamics import AffineMap, CycleFound
+from builder.catalogue.entries import cycle_file_id, entry_text
+from builder.catalogue.verify import verify_catalogue
+from builder.commands import hunt as huntcli
+from builder.search import engine as _fastiter
+from builder.search.definition import HuntResult, hunt, merge_results
 
 ROOT = Path(__file__).resolve().parent.parent
 CATALOGUE = ROOT / "catalogue"
@@ -464,7 +465,7 @@ def test_a_catalogue_that_does_not_verify_exits_1(capsys: pytest.CaptureFixture[
 
 
 def test_the_periplus_command_line_runs_the_hunt(capsys: pytest.CaptureFixture[str]) -> None:
-    from builder.cli import main
+    from builder.commands import main
 
     direct = run(capsys, "3x-plus-1", "--bound", "100", "--jobs", "1")
     assert main(["hunt", "3x-plus-1", "--bound", "100", "--jobs", "1"]) == 0

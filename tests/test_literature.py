@@ -15,9 +15,9 @@ from fractions import Fraction
 
 import pytest
 
-from builder.dynamics import AffineMap, CycleFound, Unresolved, cycle_equation, trace
-from builder.hunt import hunt
-from builder.words import least_period, least_rotation_index, rotate
+from builder.arith.dynamics import AffineMap, CycleFound, Unresolved, cycle_equation, trace
+from builder.arith.words import least_period, least_rotation_index, rotate
+from builder.search.definition import hunt
 
 SHORTCUT_3X1 = AffineMap(2, ((1, 0), (3, 1)))
 STANDARD_3X1 = AffineMap(2, ((1, 0), (6, 2)))

@@ -8,8 +8,8 @@ import pytest
 import yaml
 from conftest import VALID, write_files
 
+from builder.catalogue.load import MAX_DEPTH, Mapping, Scalar, Sequence, load_catalogue, parse_yaml
 from builder.errors import CatalogueUnreadable
-from builder.load import MAX_DEPTH, Mapping, Scalar, Sequence, load_catalogue, parse_yaml
 
 F = Path("f.yaml")
 

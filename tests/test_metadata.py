@@ -27,8 +27,9 @@ from bs4 import BeautifulSoup
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from builder._cff_licences import CFF_LICENCES
-from builder.metadata import (
+from builder.catalogue.model import Record
+from builder.site.cff_licences import CFF_LICENCES
+from builder.site.metadata import (
     KEYWORDS,
     Download,
     citation_cff,
@@ -38,7 +39,6 @@ from builder.metadata import (
     size_text,
     yaml_string,
 )
-from builder.model import Record
 
 BASE = "https://test.example.org/record/"
 CFF_SCHEMA_PATH = Path(__file__).parent / "external" / "citation-file-format-1.2.0.schema.json"

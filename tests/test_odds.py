@@ -6,8 +6,8 @@ import math
 
 import pytest
 
-from builder.dynamics import AffineMap
-from builder.odds import length_odds, odds_table
+from builder.arith.dynamics import AffineMap
+from builder.arith.odds import length_odds, odds_table
 
 SHORTCUT_3X1 = AffineMap(2, ((1, 0), (3, 1)))
 SHORTCUT_3X_MINUS_1 = AffineMap(2, ((1, 0), (3, -1)))

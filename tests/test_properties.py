@@ -13,8 +13,8 @@ from fractions import Fraction
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from builder.dynamics import AffineMap, CycleFound, EntersCycle, cycle_equation, trace
-from builder.words import is_rotation, least_period, least_rotation_index, rotate
+from builder.arith.dynamics import AffineMap, CycleFound, EntersCycle, cycle_equation, trace
+from builder.arith.words import is_rotation, least_period, least_rotation_index, rotate
 
 SETTINGS = settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 

@@ -19,10 +19,10 @@ from conftest import VALID, decimal, int_limit
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from builder.dynamics import AffineMap, CycleFound, EntersCycle, canonical_index, trace
-from builder.fingerprint import cycle_fingerprint, fingerprint_text
-from builder.licences import check_licence, licence_list_version
-from builder.verify import verify_catalogue
+from builder.arith.dynamics import AffineMap, CycleFound, EntersCycle, canonical_index, trace
+from builder.arith.fingerprint import cycle_fingerprint, fingerprint_text
+from builder.catalogue.licences import check_licence, licence_list_version
+from builder.catalogue.verify import verify_catalogue
 
 
 @pytest.fixture(scope="module")

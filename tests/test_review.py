@@ -32,16 +32,11 @@ from pathlib import Path
 import pytest
 from conftest import PROVENANCE, VALID, Run
 
-from builder.dynamics import AffineMap, CycleFound, trace
-from builder.hunt import hunt
-from builder.review import (
-    Change,
-    add_review_command,
-    compare,
-    coverage_bounds,
-    workflow_command,
-)
-from builder.verify import verify_catalogue
+from builder.arith.dynamics import AffineMap, CycleFound, trace
+from builder.catalogue.verify import verify_catalogue
+from builder.commands.review import add_review_command
+from builder.diff import Change, compare, coverage_bounds, workflow_command
+from builder.search.definition import hunt
 
 # --- real cycles, from the engine, checked against literature.md ------------------------------
 

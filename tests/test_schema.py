@@ -13,8 +13,8 @@ import pytest
 import yaml
 from conftest import BROKEN, BROKEN_CASES, REPO, SCHEMAS, VALID, big_cycle_files, broken_copy
 
-from builder.cli import main
-from builder.verify import verify_catalogue
+from builder.catalogue.verify import verify_catalogue
+from builder.commands import main
 
 SHIPPED = REPO / "catalogue"
 

@@ -27,7 +27,7 @@ import yaml
 from bs4 import BeautifulSoup, Tag
 from conftest import REPO, VALID, VALID_SUMMARY
 
-from builder.build import build_site
+from builder.site.build import build_site
 
 SHIPPED = REPO / "catalogue"
 BASE_URL = "https://example.org/record/"

@@ -23,13 +23,13 @@ from bs4 import BeautifulSoup, Tag
 from conftest import FIXTURES, REPO, VALID, broken_copy, expected_output, write_files
 from test_site import ATOM, Site, check_links, check_no_remote_resources, check_structure, parse_site, resolve
 
-import builder.build
-import builder.render
-from builder.build import build_site
-from builder.markup import render_notes
-from builder.render import render_site
-from builder.verify import Limits, verify_catalogue
-from builder.views import build_views
+import builder.site.build
+import builder.site.render
+from builder.catalogue.verify import Limits, verify_catalogue
+from builder.site.build import build_site
+from builder.site.markdown import render_notes
+from builder.site.render import render_site
+from builder.site.views import build_views
 
 HOSTILE = FIXTURES / "hostile"
 SHIPPED = REPO / "catalogue"
@@ -331,8 +331,8 @@ def test_a_failed_build_leaves_the_previous_site_untouched(previous: Path, cli, 
 
 
 def interrupt_after(monkeypatch: pytest.MonkeyPatch, writes: int, exc: BaseException) -> list[str]:
-    """Make builder.render._write raise ``exc`` after ``writes`` files were written."""
-    real = builder.render._write
+    """Make builder.site.render._write raise ``exc`` after ``writes`` files were written."""
+    real = builder.site.render._write
     written: list[str] = []
 
     def write(out: Path, relative: str, text: str) -> None:
@@ -341,7 +341,7 @@ def interrupt_after(monkeypatch: pytest.MonkeyPatch, writes: int, exc: BaseExcep
         real(out, relative, text)
         written.append(relative)
 
-    monkeypatch.setattr(builder.render, "_write", write)
+    monkeypatch.setattr(builder.site.render, "_write", write)
     return written
 
 
@@ -401,7 +401,7 @@ def test_a_rebuild_replaces_the_whole_site(previous: Path) -> None:
 
 def test_the_swap_without_renameat2(previous: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     # Where the atomic exchange is unavailable the build falls back to two renames.
-    monkeypatch.setattr(builder.build, "_exchange", lambda a, b: False)
+    monkeypatch.setattr(builder.site.build, "_exchange", lambda a, b: False)
     assert build_site(HOSTILE, previous).pages > 0
     assert (previous / "maps" / "hostile" / "index.html").is_file()
     assert sorted(p.name for p in previous.parent.iterdir()) == ["site"]
@@ -412,7 +412,7 @@ def test_a_failed_swap_without_renameat2_keeps_the_previous_site(
 ) -> None:
     # If the second of the two renames fails, the previous site must come back, not be discarded.
     before = tree_hashes(previous)
-    monkeypatch.setattr(builder.build, "_exchange", lambda a, b: False)
+    monkeypatch.setattr(builder.site.build, "_exchange", lambda a, b: False)
     real_rename = Path.rename
 
     def rename(self: Path, target: str | os.PathLike[str]) -> Path:

@@ -18,8 +18,8 @@ from conftest import (
     overlay_files,
 )
 
+from builder.catalogue.verify import Limits, verify_catalogue
 from builder.errors import CatalogueUnreadable, Problem
-from builder.verify import Limits, verify_catalogue
 
 # J. C. Lagarias, Amer. Math. Monthly 92 (1985) 3-23, via /work/shared/literature.md (status: memory):
 # cycles of the shortcut 3x+1 map on Z through 0, 1, -1, -5, -17 with shortcut lengths 1, 2, 1, 3, 11,

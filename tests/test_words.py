@@ -14,8 +14,8 @@ import pytest
 import sympy
 from sympy.utilities.iterables import necklaces
 
-from builder.dynamics import AffineMap, cycle_equation
-from builder.words import (
+from builder.arith.dynamics import AffineMap, cycle_equation
+from builder.arith.words import (
     aperiodic_necklace_count,
     divisors,
     is_rotation,

@@ -1,0 +1,193 @@
+"""The verified record: frozen objects built only from entries that passed every check.
+
+Everything a page or an export needs is derived here once (canonical
+member, rotated word, residue counts, cycle equation), so later stages do no
+arithmetic of their own.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from datetime import date
+from pathlib import Path
+
+from builder.arith.dynamics import AffineMap, Equation
+from builder.arith.words import rotate
+from builder.errors import Problem
+
+__all__ = [
+    "PLACEHOLDER",
+    "Catalogue",
+    "Coverage",
+    "Cycle",
+    "MapEntry",
+    "Provenance",
+    "Record",
+    "Reference",
+    "Report",
+    "licence_url",
+]
+
+
+#: Drafts leave provenance fields for the contributor with text starting so; verify warns about it.
+PLACEHOLDER = "FILL IN"
+
+
+def licence_url(identifier: str) -> str:
+    """The SPDX licence list's page for a licence identifier."""
+    return f"https://spdx.org/licenses/{identifier}.html"
+
+
+@dataclass(frozen=True, slots=True)
+class Record:
+    """The record as a whole, from ``record.yaml``: what it is, who keeps it, and how it may be reused.
+
+    ``licence`` is an SPDX licence identifier, written as the SPDX list writes it.  ``base_url`` is an
+    http or https URL ending in ``/`` (the site's address, for absolute links).  ``version`` is the
+    release the catalogue is at or is heading for; a release is the git tag ``record-<version>``.
+    ``credit_committers``: whether entry history may name the people who committed a change.
+    """
+
+    title: str
+    description: str
+    maintainers: str
+    licence: str
+    base_url: str
+    version: str
+    credit_committers: bool = False
+
+    @property
+    def licence_url(self) -> str:
+        return licence_url(self.licence)
+
+
+@dataclass(frozen=True, slots=True)
+class Reference:
+    key: str
+    authors: tuple[str, ...]
+    title: str
+    venue: str
+    year: int
+    doi: str | None
+    url: str | None
+    status: str | None  # "read", "secondary" or "memory": how sure the record is of it
+    note: str | None
+
+
+@dataclass(frozen=True, slots=True)
+class Coverage:
+    """A completeness claim: every start with |n| <= bound was iterated under the stated limits.
+
+    It says: every cycle whose least |member| is at most ``bound`` is catalogued,
+    and the starts in ``unresolved`` are exactly those whose orbits could not be
+    resolved within ``max_steps`` steps and ``max_bits`` bits.  ``rechecked`` is
+    True when this verification re-ran the search (the bound was within budget).
+    """
+
+    kind: str  # "all-starts"
+    bound: int
+    found_on: date
+    method: str
+    max_steps: int
+    max_bits: int
+    unresolved: tuple[int, ...]
+    rechecked: bool = False
+
+
+@dataclass(frozen=True, slots=True)
+class MapEntry:
+    id: str
+    name: str
+    summary: str
+    notes: str | None
+    references: tuple[str, ...]
+    dynamics: AffineMap
+    path: Path
+    coverage: tuple[Coverage, ...] = ()
+
+    @property
+    def modulus(self) -> int:
+        return self.dynamics.modulus
+
+    @property
+    def branches(self) -> tuple[tuple[int, int], ...]:
+        return self.dynamics.branches
+
+
+@dataclass(frozen=True, slots=True)
+class Provenance:
+    found_by: str
+    found_on: date
+    method: str
+    references: tuple[str, ...]
+    notes: str | None
+
+
+@dataclass(frozen=True, slots=True)
+class Cycle:
+    """A verified cycle.  ``members`` and ``word`` are read from ``start``, as the entry gives them."""
+
+    id: str
+    map_id: str
+    path: Path
+    start: int
+    members: tuple[int, ...]
+    word: tuple[int, ...]
+    canonical_index: int  # index in ``members`` of the canonical member
+    equation: Equation  # along the word read from the canonical member
+    residue_counts: tuple[int, ...]  # how often each residue 0..m-1 occurs in the word
+    standard_length: int | None  # for 2-branch n/2 maps: the length counting n -> qn+d and n/2 apart
+    provenance: Provenance
+    fingerprint: str  # from the map's definition and the canonical member (builder.fingerprint)
+
+    @property
+    def length(self) -> int:
+        return len(self.members)
+
+    @property
+    def canonical(self) -> int:
+        """The member of least absolute value, the positive one on a tie."""
+        return self.members[self.canonical_index]
+
+    @property
+    def canonical_members(self) -> tuple[int, ...]:
+        return rotate(self.members, self.canonical_index)
+
+    @property
+    def canonical_word(self) -> tuple[int, ...]:
+        return rotate(self.word, self.canonical_index)
+
+    @property
+    def minimum(self) -> int:
+        return min(self.members)
+
+    @property
+    def maximum(self) -> int:
+        return max(self.members)
+
+
+@dataclass(frozen=True, slots=True)
+class Catalogue:
+    root: Path
+    maps: Mapping[str, MapEntry]
+    cycles: Mapping[str, tuple[Cycle, ...]]  # by map id, in order of canonical member
+    references: Mapping[str, Reference]
+    record: Record | None = None  # None only when record.yaml is missing or does not verify
+
+
+@dataclass(frozen=True, slots=True)
+class Report:
+    """The outcome of verifying a catalogue: the verified part and every problem found."""
+
+    catalogue: Catalogue
+    problems: tuple[Problem, ...]
+    files: int
+
+    @property
+    def errors(self) -> tuple[Problem, ...]:
+        return tuple(p for p in self.problems if p.severity == "error")
+
+    @property
+    def ok(self) -> bool:
+        return not self.errors

@@ -1,0 +1,136 @@
+"""Relations between verified cycles: the same word elsewhere, mirrors, scaled copies.
+
+All of it is derived from the verified model, never from the entries' text:
+
+- *same word*: cycles of maps with the same modulus whose words are
+  rotations of one another (one Lyndon word, J. Berstel and D. Perrin,
+  "The origins of combinatorics on words", Eur. J. Comb. 28 (2007)).
+- *mirror*: the map n -> -T(-n) sends each cycle of T to the negated cycle;
+  where the mirror map is catalogued (3x+1 and 3x-1), the two cycles link.
+- *scaled copy*: for a map n/2, (q n + d)/2 with q, d odd and g | d, g odd,
+  n -> g n sends the cycles of q x + d/g onto cycles of q x + d whose members
+  are all divisible by g.  Counts of 3x+d cycles in the literature usually
+  list only cycles whose members are coprime to d (see the map notes).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+from math import gcd
+
+from builder.arith.dynamics import AffineMap, canonical_index
+from builder.arith.words import least_rotation_index, rotate
+from builder.catalogue.model import Catalogue, Cycle, MapEntry
+
+__all__ = ["Relations", "find_relations", "qx_plus_d"]
+
+CycleKey = tuple[str, str]  # (map id, cycle id)
+
+
+def qx_plus_d(entry: MapEntry) -> tuple[int, int] | None:
+    """(q, d) when the map is n/2 for even n and (q n + d)/2 for odd n with q, d odd."""
+    if entry.modulus != 2 or entry.branches[0] != (1, 0):
+        return None
+    q, d = entry.branches[1]
+    if q % 2 and d % 2:
+        return q, d
+    return None
+
+
+def _members_gcd(cycle: Cycle) -> int:
+    g = 0
+    for n in cycle.members:
+        g = gcd(g, n)
+        if g == 1:
+            break
+    return g
+
+
+@dataclass(frozen=True, slots=True)
+class Scaling:
+    """``copy`` is ``factor`` times ``base`` (members multiplied by factor)."""
+
+    factor: int
+    base: CycleKey
+    copy: CycleKey
+
+
+@dataclass(slots=True)
+class Relations:
+    """Every relation found, keyed by (map id, cycle id)."""
+
+    same_word: dict[CycleKey, tuple[CycleKey, ...]] = field(default_factory=dict)
+    mirror: dict[CycleKey, CycleKey] = field(default_factory=dict)
+    mirror_map: dict[str, str] = field(default_factory=dict)  # map id -> its catalogued mirror map
+    scaled_from: dict[CycleKey, Scaling] = field(default_factory=dict)  # copy -> how it is scaled
+    scaled_to: dict[CycleKey, tuple[Scaling, ...]] = field(default_factory=dict)  # base -> its copies
+    # For qx+d maps: the common factor of a cycle's members with d (1: coprime to d).
+    shared_factor: dict[CycleKey, int] = field(default_factory=dict)
+
+
+def _all_cycles(catalogue: Catalogue) -> Iterator[tuple[MapEntry, Cycle]]:
+    for map_id, cycles in catalogue.cycles.items():
+        entry = catalogue.maps[map_id]
+        for cycle in cycles:
+            yield entry, cycle
+
+
+def find_relations(catalogue: Catalogue) -> Relations:
+    """Compute every relation among the catalogue's cycles (deterministic order)."""
+    rel = Relations()
+    by_branches = {entry.dynamics: map_id for map_id, entry in catalogue.maps.items()}
+    by_canonical = {(map_id, cycle.canonical): cycle for map_id, cycles in catalogue.cycles.items() for cycle in cycles}
+
+    # Same word: group by modulus and least rotation of the word.
+    groups: dict[tuple[int, tuple[int, ...]], list[CycleKey]] = {}
+    for entry, cycle in _all_cycles(catalogue):
+        word = cycle.word
+        lyndon = rotate(word, least_rotation_index(word))
+        groups.setdefault((entry.modulus, lyndon), []).append((entry.id, cycle.id))
+    for keys in groups.values():
+        for key in keys:
+            others = tuple(k for k in keys if k[0] != key[0])
+            if others:
+                rel.same_word[key] = others
+
+    # Mirrors: n -> -T(-n).
+    for map_id, entry in catalogue.maps.items():
+        mirror_id = by_branches.get(entry.dynamics.mirror())
+        if mirror_id is None:
+            continue
+        rel.mirror_map[map_id] = mirror_id
+        for cycle in catalogue.cycles.get(map_id, ()):
+            negated = tuple(-n for n in cycle.members)
+            canonical = negated[canonical_index(negated)]
+            twin = by_canonical.get((mirror_id, canonical))
+            if twin is not None and (mirror_id, twin.id) != (map_id, cycle.id):
+                rel.mirror[(map_id, cycle.id)] = (mirror_id, twin.id)
+
+    # Scaled copies among qx+d maps.
+    scaled_to: dict[CycleKey, list[Scaling]] = {}
+    for entry, cycle in _all_cycles(catalogue):
+        form = qx_plus_d(entry)
+        if form is None:
+            continue
+        q, d = form
+        key = (entry.id, cycle.id)
+        g = gcd(_members_gcd(cycle), d)
+        rel.shared_factor[key] = g
+        if g == 1:
+            continue
+        base_map = by_branches.get(_shortcut(q, d // g))
+        if base_map is None:
+            continue
+        base = by_canonical.get((base_map, cycle.canonical // g))
+        if base is None:
+            continue
+        scaling = Scaling(g, (base_map, base.id), key)
+        rel.scaled_from[key] = scaling
+        scaled_to.setdefault(scaling.base, []).append(scaling)
+    rel.scaled_to = {k: tuple(sorted(v, key=lambda s: (s.factor, s.copy))) for k, v in sorted(scaled_to.items())}
+    return rel
+
+
+def _shortcut(q: int, d: int) -> AffineMap:
+    return AffineMap(2, ((1, 0), (q, d)))

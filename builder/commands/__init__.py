@@ -1,0 +1,5 @@
+"""The ``periplus`` command line: the only layer that parses arguments, prints and picks exit codes."""
+
+from builder.commands.main import main
+
+__all__ = ["main"]

@@ -1,0 +1,72 @@
+"""Command-line argument types and options shared by the periplus commands."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from builder.arith.integers import parse_decimal
+from builder.catalogue.verify import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, Limits
+
+__all__ = ["add_catalogue", "add_limits", "limits_of", "natural", "positive"]
+
+
+def _at_least(text: str, least: int, what: str) -> int:
+    try:
+        value = parse_decimal(text.strip())
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected {what}, got '{text[:40]}'") from None
+    if value < least:
+        raise argparse.ArgumentTypeError(f"expected {what}, got {value}")
+    return value
+
+
+def natural(text: str) -> int:
+    """An argparse type: a whole number (0, 1, 2, ...) of any size."""
+    return _at_least(text, 0, "a whole number")
+
+
+def positive(text: str) -> int:
+    """An argparse type: a positive integer."""
+    return _at_least(text, 1, "a positive integer")
+
+
+def add_catalogue(parser: argparse.ArgumentParser, positional: bool = True) -> None:
+    """The catalogue directory, as an optional positional argument or as --catalogue."""
+    help_text = "catalogue directory (default: catalogue)"
+    if positional:
+        parser.add_argument("catalogue", nargs="?", default=Path("catalogue"), type=Path, metavar="CATALOGUE",
+                            help=help_text)  # fmt: skip
+    else:
+        parser.add_argument("--catalogue", default=Path("catalogue"), type=Path, metavar="CATALOGUE", help=help_text)
+
+
+def limits_of(args: argparse.Namespace) -> Limits:
+    return Limits(args.max_steps, args.max_bits, args.recheck_up_to)
+
+
+def add_limits(parser: argparse.ArgumentParser) -> None:
+    """--max-steps, --max-bits and --recheck-up-to, the limits of a verification."""
+    parser.add_argument(
+        "--max-steps",
+        type=positive,
+        default=DEFAULT_MAX_STEPS,
+        metavar="N",
+        help=f"give up on an orbit after N steps (default {DEFAULT_MAX_STEPS:,})",
+    )
+    parser.add_argument(
+        "--max-bits",
+        type=positive,
+        default=None,
+        metavar="B",
+        help="give up on an orbit once a member exceeds B bits "
+        "(default: 65,536 plus 8 times the size of the entry's numbers)",
+    )
+    parser.add_argument(
+        "--recheck-up-to",
+        type=natural,
+        default=DEFAULT_RECHECK_UP_TO,
+        metavar="N",
+        help="re-run every coverage claim whose bound is at most N; larger ones are shown as attested "
+        f"(default {DEFAULT_RECHECK_UP_TO:,})",
+    )

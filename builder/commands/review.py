@@ -1,0 +1,98 @@
+"""``periplus review BASE HEAD``: what a pull request changes in the catalogue, and whether it holds."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import tempfile
+from collections.abc import Iterator
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Any
+
+from builder.catalogue.verify import verify_catalogue
+from builder.commands.options import add_limits, limits_of
+from builder.diff.annotations import github_commands
+from builder.diff.compare import compare
+from builder.diff.report import render_markdown
+from builder.errors import NoCatalogueAtRevision, PeriplusError, UsageError
+from builder.history.revisions import catalogue_path, empty_catalogue, git_output, revision_catalogue
+
+__all__ = ["add_review_command", "run_review"]
+
+
+def add_review_command(subparsers: Any) -> argparse.ArgumentParser:
+    """Add ``review`` to the subcommands of the ``periplus`` parser."""
+    review: argparse.ArgumentParser = subparsers.add_parser(
+        "review",
+        help="report what a pull request changes in the catalogue and whether it holds",
+        description="Verify the catalogues BASE and HEAD and report, entry by entry, what HEAD adds, changes, "
+        "renames and removes, with the verification result of every added or changed entry. BASE and HEAD are "
+        "catalogue directories, or with --git revisions of a git repository. Exit 1 when an added or changed "
+        "entry fails, or an untouched entry fails in HEAD although it held in BASE (a removal that breaks a "
+        "dependency); warnings alone exit 0; 2 for usage errors.",
+    )
+    review.add_argument("base", metavar="BASE", help="the catalogue before the change (a directory or a revision)")
+    review.add_argument("head", metavar="HEAD", help="the catalogue after the change (a directory or a revision)")
+    review.add_argument("--git", action="store_true", help="read BASE and HEAD as git revisions, without checkout")
+    review.add_argument(
+        "--repo", type=Path, default=None, metavar="DIR", help="the git repository (default: the current directory)"
+    )
+    review.add_argument(
+        "--path",
+        default=None,
+        metavar="PATH",
+        help="with --git, the catalogue's path inside each revision (default: catalogue)",
+    )
+    review.add_argument(
+        "--format",
+        choices=("markdown", "github"),
+        default="markdown",
+        help="github: print a GitHub Actions ::error command per problem before the Markdown",
+    )
+    add_limits(review)
+    review.set_defaults(run=run_review)
+    return review
+
+
+@contextmanager
+def _catalogues(args: argparse.Namespace) -> Iterator[tuple[Path, Path, str, str, str]]:
+    """Yield the base and head catalogue roots, the head's path prefix for annotations, and two labels."""
+    if not args.git:
+        if args.repo is not None or args.path is not None:
+            raise UsageError("--repo and --path apply only with --git")
+        head = Path(args.head)
+        yield Path(args.base), head, head.as_posix(), args.base, args.head
+        return
+    repo = args.repo if args.repo is not None else Path.cwd()
+    path = args.path if args.path is not None else "catalogue"
+    top = Path(git_output(repo, "rev-parse", "--show-toplevel").decode().strip())
+    with tempfile.TemporaryDirectory(prefix="periplus-review-") as tmp:
+        base_label = args.base
+        try:
+            base = revision_catalogue(top, args.base, path, Path(tmp) / "base")
+        except NoCatalogueAtRevision:
+            # The change that starts the record: everything in HEAD is added.  A HEAD without the
+            # catalogue stays an error, since removing the whole record is no reviewable change.
+            base = empty_catalogue(Path(tmp) / "base")
+            base_label = f"{args.base} (no catalogue yet)"
+        head = revision_catalogue(top, args.head, path, Path(tmp) / "head")
+        yield base, head, catalogue_path(path).as_posix(), base_label, args.head
+
+
+def run_review(args: argparse.Namespace) -> int:
+    """Run ``periplus review``; return the exit status."""
+    try:
+        limits = limits_of(args)
+        with _catalogues(args) as (base_root, head_root, prefix, base_label, head_label):
+            base = verify_catalogue(base_root, limits)
+            head = verify_catalogue(head_root, limits)
+            comparison = compare(base, head)
+    except PeriplusError as exc:
+        print(f"periplus: error: {exc}", file=sys.stderr)
+        return exc.exit_code
+    if args.format == "github":
+        for line in github_commands(comparison, prefix):
+            print(line)
+    sys.stdout.write(render_markdown(comparison, base_label, head_label))
+    return 0 if comparison.ok else 1

@@ -1,0 +1,161 @@
+"""Releases and the changelog: what each tagged release of the record added, changed and removed.
+
+A release is a git tag ``record-<version>`` of the repository that holds the catalogue (see
+:mod:`builder.history`).  Each release's catalogue is read from its tagged commit without a
+checkout (:func:`builder.review.revision_catalogue`), verified, and set beside the release before
+it with :func:`builder.review.compare`, the comparison a pull request review prints, so the
+changelog and the review can never disagree about what changed.  The first release is compared
+with an empty catalogue; the catalogue being built is compared with the newest release, and what
+differs is listed as not yet released.
+
+The build also learns here which edition of the record it shows (:class:`Edition`): exactly a
+release, a release with later changes, or a version that has no tag yet.  Citations print that,
+so a reader never cites a release for content the release does not hold.
+"""
+
+from __future__ import annotations
+
+import tempfile
+from dataclasses import dataclass
+from datetime import date
+from pathlib import Path
+
+from builder.catalogue.model import Report
+from builder.catalogue.verify import Limits, verify_catalogue
+from builder.diff import Comparison, compare_series
+from builder.errors import NoCatalogueAtRevision
+from builder.history.repo import RELEASE_TAG_PREFIX, NoHistory, Release, RepoHistory
+from builder.history.revisions import empty_catalogue, revision_catalogue
+
+__all__ = ["Changelog", "Edition", "Step", "read_changelog"]
+
+# Old releases are compared, not re-certified: their coverage claims are not re-run.
+_COMPARE_LIMITS = Limits(recheck_up_to=-1)
+
+
+@dataclass(frozen=True, slots=True)
+class Step:
+    """One release (or the unreleased changes after the newest one) and what changed since the one before."""
+
+    version: str | None  # None for the changes not yet released
+    tag: str | None
+    commit: str | None  # the tagged commit
+    on: date | None  # the tagged commit's date
+    previous: str | None  # the version of the release before, None for the first
+    comparison: Comparison
+    stated_version: str | None = None  # the version the release's own record.yaml states, if it differs
+
+    @property
+    def touched(self) -> int:
+        return sum(1 for c in self.comparison.changes if c.change != "unchanged")
+
+
+@dataclass(frozen=True, slots=True)
+class Changelog:
+    steps: tuple[Step, ...]  # oldest first; the unreleased step, if any, is last
+    unavailable: str | None = None  # why the record has no changelog (no repository, no releases)
+    shallow: bool = False  # read from a shallow clone: old releases may be missing
+
+    @property
+    def releases(self) -> tuple[Step, ...]:
+        return tuple(s for s in self.steps if s.version is not None)
+
+    @property
+    def unreleased(self) -> Step | None:
+        return self.steps[-1] if self.steps and self.steps[-1].version is None else None
+
+
+@dataclass(frozen=True, slots=True)
+class Edition:
+    """Which state of the record a build shows.
+
+    ``status`` is "release" (the catalogue is exactly the tagged release ``version``), "after-release"
+    (``version`` is tagged, but the catalogue has changed since) or "unreleased" (no tag for ``version``
+    yet).  ``commit`` is the commit built from (None outside git); ``dirty`` when files differ from it.
+    """
+
+    version: str
+    status: str
+    commit: str | None
+    dirty: bool
+    released_on: date | None = None
+
+    @property
+    def exact(self) -> bool:
+        return self.status == "release"
+
+    @property
+    def label(self) -> str:
+        """How pages and citations name this edition, e.g. "release 1.0"."""
+        if self.status == "release":
+            return f"release {self.version}"
+        state = f"commit {self.commit[:12]}" if self.commit else "a copy outside git"
+        if self.dirty and self.commit:
+            state += " with uncommitted changes"
+        if self.status == "after-release":
+            return f"release {self.version} with later changes ({state})"
+        return f"version {self.version}, not yet released ({state})"
+
+
+def _release_report(history: RepoHistory, release: Release, folder: Path) -> Report:
+    dest = folder / f"release-{release.commit.id}"
+    try:
+        root = revision_catalogue(history.top, release.commit.id, history.prefix or ".", dest)
+    except NoCatalogueAtRevision:
+        # The tagged commit has no catalogue at this path: the record was empty then.
+        root = empty_catalogue(dest)
+    return verify_catalogue(root, _COMPARE_LIMITS)
+
+
+def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Changelog, Edition]:
+    """Compare each release with the one before, and the catalogue of ``report`` with the newest.
+
+    ``report`` is the verified catalogue being built; its record must be present.
+    """
+    record = report.catalogue.record
+    assert record is not None, "a site is built only from a catalogue whose record verifies"
+    if isinstance(history, NoHistory):
+        edition = Edition(record.version, "unreleased", None, False)
+        return Changelog((), f"no changelog: {history.reason}"), edition
+    head = history.head.id if history.head else None
+    releases = history.releases
+    if not releases:
+        edition = Edition(record.version, "unreleased", head, history.dirty)
+        reason = (
+            f"no changelog yet: the repository has no release tags (a release is a tag {RELEASE_TAG_PREFIX}<version>)"
+        )
+        return Changelog((), reason, history.shallow), edition
+    steps: list[Step] = []
+    with tempfile.TemporaryDirectory(prefix="periplus-releases-") as tmp:
+        folder = Path(tmp)
+        reports = [verify_catalogue(empty_catalogue(folder), _COMPARE_LIMITS)]
+        reports += [_release_report(history, release, folder) for release in releases]
+        comparisons = compare_series([*reports, report])
+    previous: Release | None = None
+    for release, this, comparison in zip(releases, reports[1:], comparisons[:-1], strict=True):
+        stated = this.catalogue.record.version if this.catalogue.record else None
+        steps.append(
+            Step(
+                release.version,
+                release.tag,
+                release.commit.id,
+                release.commit.date,
+                previous.version if previous else None,
+                comparison,
+                stated if stated != release.version else None,
+            )
+        )
+        previous = release
+    latest = comparisons[-1]
+    assert previous is not None
+    pending = Step(None, None, head, None, previous.version, latest)
+    if pending.touched:
+        steps.append(pending)
+    tagged = {r.version: r for r in releases}
+    if record.version not in tagged:
+        edition = Edition(record.version, "unreleased", head, history.dirty)
+    elif record.version == previous.version and not pending.touched:
+        edition = Edition(record.version, "release", head, history.dirty, previous.commit.date)
+    else:
+        edition = Edition(record.version, "after-release", head, history.dirty, tagged[record.version].commit.date)
+    return Changelog(tuple(steps), None, history.shallow), edition

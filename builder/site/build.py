@@ -1,0 +1,120 @@
+"""``periplus build``: verify, then write the whole site beside its target and swap it in.
+
+A reader or a host never sees half a site: the new site is written into a
+fresh folder next to the target and exchanged with it in one step (Linux
+renameat2 RENAME_EXCHANGE where available, else two renames in quick
+succession, between which the target is briefly absent but never partial).
+If verification fails nothing is written; if the build is killed, the old
+site is untouched and the half-written folder is removed by the next build.
+"""
+
+from __future__ import annotations
+
+import ctypes
+import ctypes.util
+import os
+import shutil
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+
+from builder.catalogue.model import Report
+from builder.catalogue.verify import Limits, verify_catalogue
+from builder.errors import UsageError
+from builder.history.changelog import Changelog, Edition, read_changelog
+from builder.history.repo import NoHistory, RepoHistory, read_history
+from builder.site.render import MARKER, render_site
+from builder.site.views import build_views
+
+__all__ = ["BuildResult", "build_site"]
+
+_STAGING = ".{}.building-"
+_RETIRED = ".{}.old-"
+
+
+@dataclass(frozen=True, slots=True)
+class BuildResult:
+    report: Report
+    pages: int  # 0 when nothing was written
+    edition: Edition | None = None
+    changelog: Changelog | None = None
+    history: RepoHistory | NoHistory | None = None
+
+
+def _check_target(out: Path) -> None:
+    """Refuse to replace a folder that is not a site this tool built (or empty)."""
+    if out.is_symlink():
+        raise UsageError(f"{out}: expected a folder for the site, got a symbolic link")
+    if not out.exists():
+        return
+    if not out.is_dir():
+        raise UsageError(f"{out}: expected a folder for the site, got a file")
+    if (out / MARKER).is_file():
+        return
+    leftovers = [p.name for p in out.iterdir() if p.name != ".gitkeep"]
+    if leftovers:
+        raise UsageError(
+            f"{out}: expected an empty folder or a site built by periplus, got a folder with other files "
+            f"(such as {sorted(leftovers)[0]}); choose another --out"
+        )
+
+
+def _exchange(a: Path, b: Path) -> bool:
+    """Swap two paths atomically (Linux renameat2 RENAME_EXCHANGE); False where unsupported."""
+    libc_name = ctypes.util.find_library("c")
+    if not libc_name:
+        return False
+    libc = ctypes.CDLL(libc_name, use_errno=True)
+    renameat2 = getattr(libc, "renameat2", None)
+    if renameat2 is None:
+        return False
+    at_fdcwd, rename_exchange = -100, 2
+    result = renameat2(at_fdcwd, os.fsencode(a), at_fdcwd, os.fsencode(b), rename_exchange)
+    return bool(result == 0)
+
+
+def _clean_leftovers(parent: Path, name: str) -> None:
+    # Compared as plain prefixes, not glob patterns: a name such as site[1] is a name, not a pattern.
+    prefixes = (_STAGING.format(name), _RETIRED.format(name))
+    for path in parent.iterdir():
+        if path.name.startswith(prefixes) and path.is_dir() and not path.is_symlink():
+            shutil.rmtree(path, ignore_errors=True)
+
+
+def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_url: str | None = None) -> BuildResult:
+    """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically."""
+    _check_target(out)
+    report = verify_catalogue(catalogue, limits or Limits())
+    if not report.ok:
+        return BuildResult(report, 0)
+    record = report.catalogue.record
+    assert record is not None, "a catalogue that verifies has its record"
+    history = read_history(catalogue, names=record.credit_committers)
+    changelog, edition = read_changelog(report, history)
+    views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)
+    out = out.absolute()
+    parent = out.parent
+    parent.mkdir(parents=True, exist_ok=True)
+    _clean_leftovers(parent, out.name)
+    staging = Path(tempfile.mkdtemp(prefix=_STAGING.format(out.name), dir=parent))
+    try:
+        pages = render_site(views, staging)
+        os.chmod(staging, 0o755)  # mkdtemp makes it private; a site is for reading
+        if not out.exists():
+            staging.rename(out)
+        elif _exchange(staging, out):
+            shutil.rmtree(staging)  # now holds the old site
+        else:
+            retired = Path(tempfile.mkdtemp(prefix=_RETIRED.format(out.name), dir=parent))
+            retired.rmdir()
+            out.rename(retired)
+            try:
+                staging.rename(out)
+            except BaseException:
+                retired.rename(out)  # put the previous site back before giving up
+                raise
+            shutil.rmtree(retired)
+    except BaseException:
+        shutil.rmtree(staging, ignore_errors=True)
+        raise
+    return BuildResult(report, len(pages), edition, changelog, history)
