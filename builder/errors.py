@@ -8,6 +8,7 @@ Problem; an exception that is not a PeriplusError is a bug in Periplus.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from enum import StrEnum
 from pathlib import Path
 
 __all__ = [
@@ -16,7 +17,9 @@ __all__ = [
     "PeriplusError",
     "Position",
     "Problem",
+    "Severity",
     "UsageError",
+    "Verdict",
     "format_key_path",
 ]
 
@@ -49,6 +52,21 @@ class Position:
         return str(self.file)
 
 
+class Severity(StrEnum):
+    """How bad a problem is: an error fails verification, a warning asks a person to look."""
+
+    ERROR = "error"
+    WARNING = "warning"
+
+
+class Verdict(StrEnum):
+    """How a verification judged one entry of a catalogue."""
+
+    HOLDS = "holds"  # it reached the verified record and has no error of its own
+    FAILS = "fails"  # it has errors of its own
+    NOT_VERIFIED = "not verified"  # no error of its own, but something it depends on fails
+
+
 @dataclass(frozen=True, order=True, slots=True)
 class Problem:
     """One thing wrong with a catalogue.
@@ -60,7 +78,7 @@ class Problem:
     position: Position
     message: str = field(compare=False)
     code: str = field(default="invalid", compare=False)
-    severity: str = field(default="error", compare=False)
+    severity: Severity = field(default=Severity.ERROR, compare=False)
 
     def __str__(self) -> str:
         return f"{self.position}: {self.severity}: {self.message}"

@@ -17,10 +17,10 @@ from bs4 import BeautifulSoup
 from conftest import PROVENANCE, VALID
 from gitrepo import Repo
 
-from builder.catalogue.verify import verify_catalogue
+from builder.catalogue.verify import verify_catalogue, verify_source
 from builder.commands import main
 from builder.diff import compare, compare_series
-from builder.history import revision_catalogue
+from builder.history import revision_source
 from builder.history.changelog import read_changelog
 from builder.history.repo import read_history
 from builder.site.build import build_site
@@ -226,8 +226,7 @@ def test_a_series_of_comparisons_is_each_pair_compared(releases: Repo, tmp_path:
     # (common practice, no source: an optimisation keeps the result of the plain computation).
     reports = []
     for tag in ("record-1.0", "record-1.1", "record-2.0"):
-        root = revision_catalogue(releases.path, tag, "catalogue", tmp_path / tag)
-        reports.append(verify_catalogue(root))
+        reports.append(verify_source(revision_source(releases.path, tag, "catalogue")))
     series = compare_series(reports)
     assert series == [compare(reports[0], reports[1]), compare(reports[1], reports[2])]
     assert all(c.changes for c in series)

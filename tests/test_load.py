@@ -8,7 +8,8 @@ import pytest
 import yaml
 from conftest import VALID, write_files
 
-from builder.catalogue.load import MAX_DEPTH, Mapping, Scalar, Sequence, load_catalogue, parse_yaml
+from builder.catalogue.files import load_catalogue
+from builder.catalogue.nodes import MAX_DEPTH, MappingNode, Scalar, SequenceNode, parse_yaml
 from builder.errors import CatalogueUnreadable
 
 F = Path("f.yaml")
@@ -30,7 +31,7 @@ def only_problem(text: str):
 def test_scalars_keep_their_text_and_whether_they_were_plain():
     root, problems = parse('a: 0110\nb: "0110"\nc: |\n  text\nd: yes\n')
     assert problems == []
-    assert isinstance(root, Mapping)
+    assert isinstance(root, MappingNode)
     values = {k: v for k, (_, v) in root.entries.items()}
     assert all(isinstance(v, Scalar) for v in values.values())
     # YAML 1.2 section 7.3 / 8.1 (open standard): quoted and block scalars are not plain.
@@ -46,10 +47,10 @@ def test_positions_are_one_based_lines_and_columns():
     root, _ = parse("map: x\nmembers:\n  - 1\n  - [2, 3]\n")
     key, members = root.entries["members"]
     assert (key.line, key.column) == (2, 1)
-    assert isinstance(members, Sequence)
+    assert isinstance(members, SequenceNode)
     one, pair = members.items
     assert (one.line, one.column) == (3, 5)
-    assert isinstance(pair, Sequence) and (pair.line, pair.column) == (4, 5)
+    assert isinstance(pair, SequenceNode) and (pair.line, pair.column) == (4, 5)
     assert [(n.value, n.line, n.column) for n in pair.items] == [("2", 4, 6), ("3", 4, 9)]
 
 
@@ -183,7 +184,7 @@ def test_nesting_up_to_the_limit_is_accepted_and_one_more_level_is_not():
     levels, node = 0, root
     while node is not None:
         levels += 1
-        node = node.entries["a"][1] if isinstance(node, Mapping) else (node.items or [None])[0]
+        node = node.entries["a"][1] if isinstance(node, MappingNode) else (node.items or [None])[0]
     assert levels == MAX_DEPTH
     _, p = only_problem("a: [" + inner + "]\n")
     assert (p.position.line, p.position.column) == (1, 4 + MAX_DEPTH - 1)

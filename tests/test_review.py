@@ -229,7 +229,7 @@ def test_changing_the_start_to_another_cycle_is_a_different_cycle(
     moved = changed["3x-plus-1/through-minus-5"]
     assert moved.change == "changed"
     assert moved.identity == "different cycle"
-    assert moved.outcome is not None and moved.outcome.holds
+    assert moved.check is not None and moved.check.holds
     names = [f.name for f in moved.fields]
     assert names == [
         "start",
@@ -553,9 +553,9 @@ def test_compare_is_a_function_of_the_two_reports(catalogue: Callable[..., Path]
         ("cycle", "3x-plus-5/through-19", "added"),
     ]
     assert dict(result.unchanged) == {"record": 1, "map": 2, "cycle": 8, "reference": 2}
-    assert all(isinstance(c, Change) and c.outcome is not None and c.outcome.holds for c in result.changes)
+    assert all(isinstance(c, Change) and c.check is not None and c.check.holds for c in result.changes)
     backwards = compare(verify_catalogue(head), verify_catalogue(base))
-    assert [(c.key, c.change, c.outcome) for c in backwards.changes] == [
+    assert [(c.key, c.change, c.check) for c in backwards.changes] == [
         ("3x-plus-5", "removed", None),
         ("3x-plus-5/through-19", "removed", None),
     ]

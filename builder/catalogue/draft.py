@@ -12,12 +12,13 @@ import datetime as _dt
 from dataclasses import dataclass
 from pathlib import Path
 
-from builder.arith.dynamics import AffineMap, CycleFound, EntersCycle, Unresolved, cycle_equation, from_canonical, trace
+from builder.arith.dynamics import AffineMap, CycleFound, EntersCycle, Unresolved, from_canonical, trace
 from builder.arith.integers import DECIMAL_INTEGER, parse_decimal, show
 from builder.arith.words import least_period, word_text
+from builder.catalogue.derive import solve_word
 from builder.catalogue.entries import cycle_file_id, entry_text
+from builder.catalogue.limits import Limits
 from builder.catalogue.model import PLACEHOLDER, Catalogue
-from builder.catalogue.verify import Limits
 from builder.errors import UsageError
 
 __all__ = ["Draft", "draft_cycle", "parse_word"]
@@ -72,10 +73,10 @@ def draft_cycle(
         if period < len(residues):
             unit = word_text(residues[:period], mapping.modulus)
             return Draft(None, None, f"the word repeats {unit}; a cycle's word is its least period: use {unit}", False)
-        equation = cycle_equation(mapping, residues)
-        if equation.target == 0:
+        solved = solve_word(mapping, residues)
+        if solved.fraction is None:
             return Draft(None, None, "the cycle equation does not fix a start for this word (m^k - A = 0)", False)
-        num, den = equation.start()
+        num, den = solved.fraction
         if den != 1:
             return Draft(
                 None, None,

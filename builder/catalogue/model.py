@@ -8,13 +8,14 @@ arithmetic of their own.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
 
 from builder.arith.dynamics import AffineMap, Equation
 from builder.arith.words import rotate
-from builder.errors import Problem
+from builder.catalogue.written import WrittenEntry
+from builder.errors import Problem, Severity
 
 __all__ = [
     "PLACEHOLDER",
@@ -178,15 +179,22 @@ class Catalogue:
 
 @dataclass(frozen=True, slots=True)
 class Report:
-    """The outcome of verifying a catalogue: the verified part and every problem found."""
+    """The outcome of verifying a catalogue: the verified part, every problem found, and the entries as written.
+
+    ``written`` holds every entry of every file read, verified or not, by (kind, key), in the order
+    the files were read; ``references_readable`` is False when references.yaml exists but is not a
+    mapping of keys (so its entries cannot be told apart).
+    """
 
     catalogue: Catalogue
     problems: tuple[Problem, ...]
     files: int
+    written: Mapping[tuple[str, str], WrittenEntry] = field(default_factory=dict)
+    references_readable: bool = True
 
     @property
     def errors(self) -> tuple[Problem, ...]:
-        return tuple(p for p in self.problems if p.severity == "error")
+        return tuple(p for p in self.problems if p.severity == Severity.ERROR)
 
     @property
     def ok(self) -> bool:

@@ -4,19 +4,14 @@ from __future__ import annotations
 
 import argparse
 import sys
-import tempfile
-from collections.abc import Iterator
-from contextlib import contextmanager
 from pathlib import Path
 from typing import Any
 
-from builder.catalogue.verify import verify_catalogue
+from builder.catalogue import Report, verify_catalogue, verify_source
 from builder.commands.options import add_limits, limits_of
-from builder.diff.annotations import github_commands
-from builder.diff.compare import compare
-from builder.diff.report import render_markdown
+from builder.diff import compare, github_commands, render_markdown
 from builder.errors import NoCatalogueAtRevision, PeriplusError, UsageError
-from builder.history.revisions import catalogue_path, empty_catalogue, git_output, revision_catalogue
+from builder.history.revisions import catalogue_path, empty_source, repository_top, revision_source
 
 __all__ = ["add_review_command", "run_review"]
 
@@ -55,42 +50,39 @@ def add_review_command(subparsers: Any) -> argparse.ArgumentParser:
     return review
 
 
-@contextmanager
-def _catalogues(args: argparse.Namespace) -> Iterator[tuple[Path, Path, str, str, str]]:
-    """Yield the base and head catalogue roots, the head's path prefix for annotations, and two labels."""
+def _reports(args: argparse.Namespace) -> tuple[Report, Report, str, str, str]:
+    """The verified base and head, the head's path prefix for annotations, and the two labels."""
+    limits = limits_of(args)
     if not args.git:
         if args.repo is not None or args.path is not None:
             raise UsageError("--repo and --path apply only with --git")
-        head = Path(args.head)
-        yield Path(args.base), head, head.as_posix(), args.base, args.head
-        return
+        base_root, head_root = Path(args.base), Path(args.head)
+        base, head = verify_catalogue(base_root, limits), verify_catalogue(head_root, limits)
+        return base, head, head_root.as_posix(), args.base, args.head
     repo = args.repo if args.repo is not None else Path.cwd()
     path = args.path if args.path is not None else "catalogue"
-    top = Path(git_output(repo, "rev-parse", "--show-toplevel").decode().strip())
-    with tempfile.TemporaryDirectory(prefix="periplus-review-") as tmp:
-        base_label = args.base
-        try:
-            base = revision_catalogue(top, args.base, path, Path(tmp) / "base")
-        except NoCatalogueAtRevision:
-            # The change that starts the record: everything in HEAD is added.  A HEAD without the
-            # catalogue stays an error, since removing the whole record is no reviewable change.
-            base = empty_catalogue(Path(tmp) / "base")
-            base_label = f"{args.base} (no catalogue yet)"
-        head = revision_catalogue(top, args.head, path, Path(tmp) / "head")
-        yield base, head, catalogue_path(path).as_posix(), base_label, args.head
+    top = repository_top(repo)
+    base_label = args.base
+    try:
+        base_source = revision_source(top, args.base, path)
+    except NoCatalogueAtRevision:
+        # The change that starts the record: everything in HEAD is added.  A HEAD without the
+        # catalogue stays an error, since removing the whole record is no reviewable change.
+        base_source = empty_source(f"{args.base}:(no catalogue yet)")
+        base_label = f"{args.base} (no catalogue yet)"
+    head_source = revision_source(top, args.head, path)
+    base, head = verify_source(base_source, limits), verify_source(head_source, limits)
+    return base, head, catalogue_path(path).as_posix(), base_label, args.head
 
 
 def run_review(args: argparse.Namespace) -> int:
     """Run ``periplus review``; return the exit status."""
     try:
-        limits = limits_of(args)
-        with _catalogues(args) as (base_root, head_root, prefix, base_label, head_label):
-            base = verify_catalogue(base_root, limits)
-            head = verify_catalogue(head_root, limits)
-            comparison = compare(base, head)
+        base, head, prefix, base_label, head_label = _reports(args)
     except PeriplusError as exc:
         print(f"periplus: error: {exc}", file=sys.stderr)
         return exc.exit_code
+    comparison = compare(base, head)
     if args.format == "github":
         for line in github_commands(comparison, prefix):
             print(line)

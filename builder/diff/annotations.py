@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from builder.diff.compare import Comparison
-from builder.errors import Problem
+from builder.diff.changes import Comparison
+from builder.errors import Problem, Severity
 
 __all__ = ["github_commands", "workflow_command"]
 
@@ -41,7 +41,7 @@ def github_commands(comparison: Comparison, prefix: str) -> list[str]:
     seen: set[str] = set()
 
     def emit(p: Problem) -> None:
-        command = "error" if p.severity == "error" else "warning"
+        command = "error" if p.severity == Severity.ERROR else "warning"
         rel = p.position.file.as_posix()
         file = rel if prefix in ("", ".") else f"{prefix.rstrip('/')}/{rel}"
         text = workflow_command(command, p.message, file, p.position.line, p.position.column)
@@ -50,8 +50,8 @@ def github_commands(comparison: Comparison, prefix: str) -> list[str]:
             out.append(text)
 
     for c in comparison.changes:
-        if c.outcome is not None:
-            for p in c.outcome.problems:
+        if c.check is not None:
+            for p in c.check.problems:
                 emit(p)
     for p in comparison.other_problems:
         emit(p)

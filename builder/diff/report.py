@@ -5,8 +5,9 @@ from __future__ import annotations
 import re
 from collections.abc import Callable
 
-from builder.diff.compare import CHANGES, KINDS, PLURAL, Change, Comparison
-from builder.errors import Problem
+from builder.diff.changes import CHANGES, KINDS, PLURAL, Change, ChangeKind, Comparison
+from builder.errors import Problem, Severity
+from builder.wording import count
 
 __all__ = ["field_summary", "render_markdown"]
 
@@ -30,21 +31,20 @@ def _where(p: Problem) -> str:
 
 
 def _problem_text(p: Problem) -> str:
-    label = "" if p.severity == "error" else f"{p.severity}: "
+    label = "" if p.severity == Severity.ERROR else f"{p.severity}: "
     return f"{_where(p)} {label}{_md(p.message)}"
 
 
 def _verification(c: Change) -> str:
-    o = c.outcome
-    if o is None:
+    check = c.check
+    if check is None:
         return "—"
-    if o.holds:
-        if not o.problems:
-            return "holds"
-        return "holds; " + "<br>".join(_problem_text(p) for p in o.problems)
-    if o.problems:
-        return "fails: " + "<br>".join(_problem_text(p) for p in o.problems)
-    return f"not verified: {_md(o.reason or 'unknown')}"
+    problems = "<br>".join(_problem_text(p) for p in check.problems)
+    if check.holds:
+        return f"holds; {problems}" if problems else "holds"
+    if check.problems:
+        return f"fails: {problems}"
+    return f"not verified: {_md(check.reason or 'unknown')}"
 
 
 def field_summary(c: Change, code: Callable[[str], str], text: Callable[[str], str]) -> str:
@@ -55,8 +55,8 @@ def field_summary(c: Change, code: Callable[[str], str], text: Callable[[str], s
     """
     if c.layout_only:
         return "comments or layout only"
-    if c.change in ("added", "removed", "unchanged") or not c.fields:
-        return "—" if c.change != "renamed" else "none"
+    if c.change in (ChangeKind.ADDED, ChangeKind.REMOVED, ChangeKind.UNCHANGED) or not c.fields:
+        return "—" if c.change != ChangeKind.RENAMED else "none"
     parts = []
     for f in c.fields:
         name = code(f.name)
@@ -76,7 +76,7 @@ def _fields_cell(c: Change) -> str:
 
 
 def _entry_cell(c: Change) -> str:
-    if c.change == "renamed" and c.base_key is not None:
+    if c.change == ChangeKind.RENAMED and c.base_key is not None:
         return f"{_code(c.key)} (was {_code(c.base_key)})"
     return _code(c.key)
 
@@ -88,11 +88,7 @@ def _identity_cell(c: Change) -> str:
 
 
 def _change_cell(c: Change) -> str:
-    return "unchanged, now fails" if c.change == "unchanged" else c.change
-
-
-def _plural(n: int, one: str, many: str | None = None) -> str:
-    return f"{n} {one}" if n == 1 else f"{n} {many or one + 's'}"
+    return "unchanged, now fails" if c.change == ChangeKind.UNCHANGED else str(c.change)
 
 
 def render_markdown(comparison: Comparison, base_label: str, head_label: str) -> str:
@@ -101,7 +97,7 @@ def render_markdown(comparison: Comparison, base_label: str, head_label: str) ->
     lines.append("| entries | " + " | ".join(CHANGES) + " | unchanged |")
     lines.append("| --- |" + " ---: |" * (len(CHANGES) + 1))
     for kind in KINDS:
-        counts = [comparison.count(kind, ch) for ch in (*CHANGES, "unchanged")]
+        counts = [comparison.count(kind, ch) for ch in (*CHANGES, ChangeKind.UNCHANGED)]
         lines.append(f"| {PLURAL[kind]} | " + " | ".join(map(str, counts)) + " |")
     for kind in KINDS:
         rows = comparison.of_kind(kind)
@@ -134,25 +130,25 @@ def render_markdown(comparison: Comparison, base_label: str, head_label: str) ->
 
 def _verdict(comparison: Comparison) -> str:
     failures = comparison.failures
-    others = sum(1 for p in comparison.other_problems if p.severity == "error")
+    others = sum(1 for p in comparison.other_problems if p.severity == Severity.ERROR)
     if failures or others:
         parts = []
         if failures:
-            text = f"{_plural(len(failures), 'entry', 'entries')} {'fails' if len(failures) == 1 else 'fail'}"
-            untouched = sum(1 for c in failures if c.change == "unchanged")
+            text = f"{count(len(failures), 'entry', 'entries')} {'fails' if len(failures) == 1 else 'fail'}"
+            untouched = sum(1 for c in failures if c.change == ChangeKind.UNCHANGED)
             if untouched and len(failures) == 1:
                 text += ", untouched by the change (it held in the base)"
             elif untouched:
                 text += f", {untouched} of them untouched by the change (they held in the base)"
             parts.append(text)
         if others:
-            parts.append(f"{_plural(others, 'other problem')} in the head")
+            parts.append(f"{count(others, 'other problem')} in the head")
         return "**Verdict: does not hold** — " + " and ".join(parts) + "."
-    touched = sum(1 for c in comparison.changes if c.change != "unchanged")
+    touched = sum(1 for c in comparison.changes if c.change != ChangeKind.UNCHANGED)
     if not touched:
         text = "**Verdict: holds** — no entry changed"
     else:
         text = "**Verdict: holds** — every added, changed and renamed entry verifies"
     if comparison.warnings:
-        text += f"; read the {_plural(len(comparison.warnings), 'warning')} above"
+        text += f"; read the {count(len(comparison.warnings), 'warning')} above"
     return text + "."

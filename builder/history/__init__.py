@@ -1,8 +1,11 @@
-"""What git knows about the record: release tags, entry history, catalogues at revisions, the changelog."""
+"""What git knows about the record: release tags, entry history, catalogues at revisions, the changelog.
+
+Only this stage runs git, always through :func:`builder.history.git.run_git`.
+"""
 
 from builder.history.changelog import Changelog, Edition, Step, read_changelog
 from builder.history.repo import Commit, FileHistory, NoHistory, Release, RepoHistory, read_history
-from builder.history.revisions import empty_catalogue, revision_catalogue
+from builder.history.revisions import empty_source, revision_source
 
 __all__ = [
     "Changelog",
@@ -13,8 +16,8 @@ __all__ = [
     "Release",
     "RepoHistory",
     "Step",
-    "empty_catalogue",
+    "empty_source",
     "read_changelog",
     "read_history",
-    "revision_catalogue",
+    "revision_source",
 ]

@@ -2,8 +2,8 @@
 
 A release is a git tag ``record-<version>`` of the repository that holds the catalogue (see
 :mod:`builder.history`).  Each release's catalogue is read from its tagged commit without a
-checkout (:func:`builder.review.revision_catalogue`), verified, and set beside the release before
-it with :func:`builder.review.compare`, the comparison a pull request review prints, so the
+checkout, into memory (:func:`builder.history.revisions.revision_source`), verified there, and set beside
+the release before it with :func:`builder.diff.compare`, the comparison a pull request review prints, so the
 changelog and the review can never disagree about what changed.  The first release is compared
 with an empty catalogue; the catalogue being built is compared with the newest release, and what
 differs is listed as not yet released.
@@ -15,17 +15,16 @@ so a reader never cites a release for content the release does not hold.
 
 from __future__ import annotations
 
-import tempfile
+from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import date
-from pathlib import Path
 
 from builder.catalogue.model import Report
-from builder.catalogue.verify import Limits, verify_catalogue
+from builder.catalogue.verify import Limits, verify_source
 from builder.diff import Comparison, compare_series
 from builder.errors import NoCatalogueAtRevision
 from builder.history.repo import RELEASE_TAG_PREFIX, NoHistory, Release, RepoHistory
-from builder.history.revisions import empty_catalogue, revision_catalogue
+from builder.history.revisions import empty_source, revision_source
 
 __all__ = ["Changelog", "Edition", "Step", "read_changelog"]
 
@@ -97,14 +96,14 @@ class Edition:
         return f"version {self.version}, not yet released ({state})"
 
 
-def _release_report(history: RepoHistory, release: Release, folder: Path) -> Report:
-    dest = folder / f"release-{release.commit.id}"
+def _release_report(history: RepoHistory, release: Release) -> Report:
+    """The release's catalogue, read from its tagged commit into memory and verified there."""
     try:
-        root = revision_catalogue(history.top, release.commit.id, history.prefix or ".", dest)
+        source = revision_source(history.top, release.commit.id, history.prefix or ".")
     except NoCatalogueAtRevision:
         # The tagged commit has no catalogue at this path: the record was empty then.
-        root = empty_catalogue(dest)
-    return verify_catalogue(root, _COMPARE_LIMITS)
+        source = empty_source(f"{release.commit.id}:(no catalogue yet)")
+    return verify_source(source, _COMPARE_LIMITS)
 
 
 def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Changelog, Edition]:
@@ -125,14 +124,31 @@ def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Ch
             f"no changelog yet: the repository has no release tags (a release is a tag {RELEASE_TAG_PREFIX}<version>)"
         )
         return Changelog((), reason, history.shallow), edition
+    reports = [verify_source(empty_source("(no catalogue yet)"), _COMPARE_LIMITS)]
+    reports += [_release_report(history, release) for release in releases]
+    comparisons = compare_series([*reports, report])
+    steps = _release_steps(releases, reports[1:], comparisons[:-1])
+    previous = releases[-1]
+    pending = Step(None, None, head, None, previous.version, comparisons[-1])
+    if pending.touched:
+        steps.append(pending)
+    tagged = {r.version: r for r in releases}
+    if record.version not in tagged:
+        edition = Edition(record.version, "unreleased", head, history.dirty)
+    elif record.version == previous.version and not pending.touched:
+        edition = Edition(record.version, "release", head, history.dirty, previous.commit.date)
+    else:
+        edition = Edition(record.version, "after-release", head, history.dirty, tagged[record.version].commit.date)
+    return Changelog(tuple(steps), None, history.shallow), edition
+
+
+def _release_steps(
+    releases: Sequence[Release], reports: Sequence[Report], comparisons: Sequence[Comparison]
+) -> list[Step]:
+    """Each release with what changed since the one before (the first against an empty record)."""
     steps: list[Step] = []
-    with tempfile.TemporaryDirectory(prefix="periplus-releases-") as tmp:
-        folder = Path(tmp)
-        reports = [verify_catalogue(empty_catalogue(folder), _COMPARE_LIMITS)]
-        reports += [_release_report(history, release, folder) for release in releases]
-        comparisons = compare_series([*reports, report])
     previous: Release | None = None
-    for release, this, comparison in zip(releases, reports[1:], comparisons[:-1], strict=True):
+    for release, this, comparison in zip(releases, reports, comparisons, strict=True):
         stated = this.catalogue.record.version if this.catalogue.record else None
         steps.append(
             Step(
@@ -146,16 +162,4 @@ def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Ch
             )
         )
         previous = release
-    latest = comparisons[-1]
-    assert previous is not None
-    pending = Step(None, None, head, None, previous.version, latest)
-    if pending.touched:
-        steps.append(pending)
-    tagged = {r.version: r for r in releases}
-    if record.version not in tagged:
-        edition = Edition(record.version, "unreleased", head, history.dirty)
-    elif record.version == previous.version and not pending.touched:
-        edition = Edition(record.version, "release", head, history.dirty, previous.commit.date)
-    else:
-        edition = Edition(record.version, "after-release", head, history.dirty, tagged[record.version].commit.date)
-    return Changelog(tuple(steps), None, history.shallow), edition
+    return steps

@@ -18,13 +18,13 @@ configuration or the time zone.
 from __future__ import annotations
 
 import os
-import subprocess
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from datetime import UTC, date, datetime
 from pathlib import Path
 
 from builder.catalogue.versions import version_problem
+from builder.history.git import GitFailed, GitMissing, run_git
 
 __all__ = [
     "RELEASE_TAG_PREFIX",
@@ -81,21 +81,6 @@ class NoHistory:
     reason: str
 
 
-class _GitFailed(Exception):
-    pass
-
-
-def _git(cwd: Path, *args: str) -> bytes:
-    env = {k: v for k, v in os.environ.items() if not k.startswith("GIT_")}
-    env.update(LC_ALL="C", GIT_CONFIG_NOSYSTEM="1", GIT_TERMINAL_PROMPT="0")
-    command = ["git", "-c", "core.quotepath=off", "-c", "log.showSignature=false", "-c", "diff.renames=false"]
-    done = subprocess.run([*command, *args], cwd=cwd, env=env, capture_output=True, check=False)
-    if done.returncode:
-        lines = done.stderr.decode("utf-8", "replace").strip().splitlines()
-        raise _GitFailed(lines[-1] if lines else f"exit status {done.returncode}")
-    return done.stdout
-
-
 def _commit(fields: list[str], names: bool) -> Commit:
     oid, stamp, name = fields
     day = datetime.fromtimestamp(int(stamp), UTC).date()
@@ -110,10 +95,10 @@ def read_history(catalogue_root: Path, names: bool = False) -> RepoHistory | NoH
     """
     root = catalogue_root.resolve()
     try:
-        inside = _git(root, "rev-parse", "--is-inside-work-tree").decode().strip()
-    except FileNotFoundError:
+        inside = run_git(root, "rev-parse", "--is-inside-work-tree").decode().strip()
+    except GitMissing:
         return NoHistory("the git program was not found")
-    except _GitFailed as exc:
+    except GitFailed as exc:
         if "not a git repository" in str(exc):
             return NoHistory("the catalogue is not inside a git repository")
         return NoHistory(f"git failed: {exc}")
@@ -121,26 +106,26 @@ def read_history(catalogue_root: Path, names: bool = False) -> RepoHistory | NoH
         return NoHistory("the catalogue is not inside a git work tree")
     try:
         return _read(root, names)
-    except _GitFailed as exc:
+    except GitFailed as exc:
         return NoHistory(f"git failed: {exc}")
 
 
 def _read(root: Path, names: bool) -> RepoHistory:
-    top = Path(os.fsdecode(_git(root, "rev-parse", "--show-toplevel").rstrip(b"\n")))
+    top = Path(os.fsdecode(run_git(root, "rev-parse", "--show-toplevel").rstrip(b"\n")))
     prefix = root.relative_to(top.resolve()).as_posix() if root != top.resolve() else ""
     prefix = "" if prefix == "." else prefix
-    shallow = _git(root, "rev-parse", "--is-shallow-repository").decode().strip() == "true"
+    shallow = run_git(root, "rev-parse", "--is-shallow-repository").decode().strip() == "true"
     spec = f":(literal){prefix}" if prefix else "."
     try:
-        head_fields = _git(top, "log", "-1", "--format=%H%x00%ct%x00%cn", "HEAD").decode().rstrip("\n").split("\0")
+        head_fields = run_git(top, "log", "-1", "--format=%H%x00%ct%x00%cn", "HEAD").decode().rstrip("\n").split("\0")
         head: Commit | None = _commit(head_fields, names)
-    except _GitFailed:
+    except GitFailed:
         head = None  # no commits yet
     files: dict[str, FileHistory] = {}
     added: dict[str, Commit] = {}
     changed: dict[str, Commit] = {}
     if head is not None:
-        out = _git(top, "log", "--reverse", "-M", "--name-status", "-z", "--format=%x01%H%x00%ct%x00%cn", "--", spec)
+        out = run_git(top, "log", "--reverse", "-M", "--name-status", "-z", "--format=%x01%H%x00%ct%x00%cn", "--", spec)
         for chunk in out.split(b"\x01")[1:]:
             parts = chunk.split(b"\0")
             commit = _commit([p.decode("utf-8", "replace") for p in parts[:3]], names)
@@ -167,7 +152,7 @@ def _read(root: Path, names: bool) -> RepoHistory:
                     continue
                 added.setdefault(path, commit)
                 changed[path] = commit
-    listing = _git(top, "status", "--porcelain=v1", "-z", "--untracked-files=all", "--no-renames", "--", spec)
+    listing = run_git(top, "status", "--porcelain=v1", "-z", "--untracked-files=all", "--no-renames", "--", spec)
     pending: set[str] = set()
     for record in listing.split(b"\0"):
         if len(record) > 3:
@@ -184,7 +169,7 @@ def _read(root: Path, names: bool) -> RepoHistory:
 def _releases(top: Path, names: bool) -> tuple[tuple[Release, ...], tuple[tuple[str, str], ...]]:
     fmt = "%(refname:strip=2)%00%(objectname)%00%(*objectname)"
     # Every tag, filtered here: the pattern refs/tags/record-* would skip names with a slash.
-    out = _git(top, "for-each-ref", f"--format={fmt}", "refs/tags/").decode()
+    out = run_git(top, "for-each-ref", f"--format={fmt}", "refs/tags/").decode()
     found = []
     ignored: list[tuple[str, str]] = []
     for line in out.splitlines():
@@ -200,8 +185,8 @@ def _releases(top: Path, names: bool) -> tuple[tuple[Release, ...], tuple[tuple[
         try:
             # gitrevisions(7): <rev>^{commit} fails unless the object is, or peels to, a commit;
             # git log of a tagged file's content or folder prints nothing rather than failing.
-            raw = _git(top, "log", "-1", "--format=%H%x00%ct%x00%cn", f"{oid}^{{commit}}", "--")
-        except _GitFailed:
+            raw = run_git(top, "log", "-1", "--format=%H%x00%ct%x00%cn", f"{oid}^{{commit}}", "--")
+        except GitFailed:
             ignored.append((tag, "it does not name a commit"))
             continue
         fields = raw.decode().rstrip("\n").split("\0")

@@ -1,93 +1,88 @@
-"""A catalogue as a git revision holds it, read from git objects without a checkout."""
+"""A catalogue as a git revision holds it, read from git objects into memory, without a checkout.
+
+The tree under the catalogue's path is listed (git ls-tree) and its blobs read in one batch (git
+cat-file), so the working tree, the index and export attributes play no part, and nothing is
+written to disk: the result is a :class:`~builder.catalogue.files.TreeSource` that verification
+reads like a folder.  A symbolic link in the revision stays a link (verification reports links
+without following them); a submodule is an empty folder, as a checkout would leave it.
+"""
 
 from __future__ import annotations
 
 import os
-import subprocess
 from pathlib import Path, PurePosixPath
 
-from builder.errors import NoCatalogueAtRevision, PeriplusError, UsageError
+from builder.catalogue.files import TreeSource
+from builder.errors import NoCatalogueAtRevision, UsageError
+from builder.history.git import GitFailed, GitMissing, run_git
 
-__all__ = ["catalogue_path", "empty_catalogue", "git_output", "revision_catalogue"]
+__all__ = ["catalogue_path", "empty_source", "repository_top", "revision_source"]
+
+_LINK_MODE = b"120000"
 
 
-def git_output(repo: Path, *args: str, data: bytes | None = None) -> bytes:
+def _git(repo: Path, *args: str, data: bytes | None = None) -> bytes:
     try:
-        done = subprocess.run(["git", "-C", str(repo), *args], input=data, capture_output=True, check=False)
-    except FileNotFoundError:
+        return run_git(repo, *args, data=data)
+    except GitMissing:
         raise UsageError("--git needs the git program, which was not found") from None
-    if done.returncode:
-        reason = done.stderr.decode("utf-8", "replace").strip().splitlines()
-        raise UsageError(f"git {args[0]} failed: {reason[-1] if reason else 'exit status ' + str(done.returncode)}")
-    return done.stdout
+    except GitFailed as exc:
+        raise UsageError(f"git {exc.command} failed: {exc.reason}") from None
 
 
 def catalogue_path(path: str) -> PurePosixPath:
+    """The catalogue's path inside a repository, refused when it would leave the repository."""
     pure = PurePosixPath(path)
     if pure.is_absolute() or ".." in pure.parts:
         raise UsageError(f"--path: expected a path inside the repository, got '{path}'")
     return pure
 
 
-def revision_catalogue(repo: Path, revision: str, path: str, dest: Path) -> Path:
-    """Write the files under ``path`` at ``revision`` of the git repository ``repo`` into ``dest``.
+def repository_top(repo: Path) -> Path:
+    """The top folder of the work tree that holds ``repo`` (UsageError outside git)."""
+    return Path(os.fsdecode(_git(repo, "rev-parse", "--show-toplevel").rstrip(b"\n")))
 
-    Nothing is checked out: the tree is listed (git ls-tree) and the blobs read (git cat-file), so the
-    working tree, the index and export attributes play no part.  A symbolic link in the revision becomes
-    a link to nowhere (verification reports links without following them).  Returns the catalogue root
-    inside ``dest``.  Raises UsageError for an unknown revision, and NoCatalogueAtRevision (a UsageError)
-    for a revision without ``path``.
+
+def empty_source(label: str) -> TreeSource:
+    """A catalogue with no entries: it stands for a revision from before the catalogue existed, so that
+    comparing with it lists every entry of the other side as added."""
+    return TreeSource(Path(label), {}, folders=[PurePosixPath("maps")])
+
+
+def revision_source(repo: Path, revision: str, path: str) -> TreeSource:
+    """The files under ``path`` at ``revision`` of the git repository ``repo``, in memory.
+
+    Raises UsageError for an unknown revision, and NoCatalogueAtRevision (a UsageError) for a
+    revision without ``path``.
     """
     if revision.startswith("-"):
         raise UsageError(f"expected a git revision, got '{revision}'")
     pure = catalogue_path(path)
     try:
-        oid = git_output(repo, "rev-parse", "--verify", "--quiet", f"{revision}^{{commit}}").decode().strip()
+        oid = _git(repo, "rev-parse", "--verify", "--quiet", f"{revision}^{{commit}}").decode().strip()
     except UsageError:
         raise UsageError(f"'{revision}' is not a commit of the repository at {repo}") from None
-    listing = git_output(repo, "ls-tree", "-r", "-z", oid, "--", str(pure))
+    listing = _git(repo, "ls-tree", "-r", "-z", oid, "--", str(pure))
     items = []
     for record in listing.split(b"\0"):
-        if not record:
-            continue
-        meta, _, raw_name = record.partition(b"\t")
-        mode, kind, obj = meta.split(b" ")
-        items.append((mode, kind, obj, PurePosixPath(os.fsdecode(raw_name))))
+        if record:
+            meta, _, raw_name = record.partition(b"\t")
+            mode, kind, obj = meta.split(b" ")
+            items.append((mode, kind, obj, PurePosixPath(os.fsdecode(raw_name)).relative_to(pure)))
     if not items:
         raise NoCatalogueAtRevision(revision, str(pure))
-    blobs = [obj for mode, kind, obj, _ in items if kind == b"blob" and mode != b"120000"]
+    blobs = [obj for mode, kind, obj, _ in items if kind == b"blob" and mode != _LINK_MODE]
     contents = _cat_blobs(repo, blobs)
-    root = dest / pure
-    root.mkdir(parents=True, exist_ok=True)
-    for mode, kind, obj, name in items:
-        if any(part in ("", ".", "..") for part in name.parts) or name.is_absolute():
-            raise PeriplusError(f"revision '{revision}' holds a path that cannot be written safely: '{name}'")
-        target = dest.joinpath(*name.parts)
-        target.parent.mkdir(parents=True, exist_ok=True)
-        if kind == b"commit":  # a submodule: a folder, as a checkout would leave it
-            target.mkdir(exist_ok=True)
-        elif mode == b"120000":
-            os.symlink("symbolic-link-in-the-revision", target)
-        else:
-            target.write_bytes(contents[obj])
-    return root
-
-
-def empty_catalogue(folder: Path) -> Path:
-    """Make a catalogue with no entries inside ``folder`` and return its root.
-
-    It stands for a revision from before the catalogue existed, so that comparing with it lists every
-    entry of the other side as added.
-    """
-    root = folder / "no-catalogue-yet"
-    (root / "maps").mkdir(parents=True)
-    return root
+    files = {name: contents[obj] for mode, kind, obj, name in items if kind == b"blob" and mode != _LINK_MODE}
+    links = [name for mode, kind, _, name in items if kind == b"blob" and mode == _LINK_MODE]
+    folders = [name for _, kind, _, name in items if kind == b"commit"]
+    return TreeSource(Path(f"{revision}:{pure}"), files, links, folders)
 
 
 def _cat_blobs(repo: Path, objects: list[bytes]) -> dict[bytes, bytes]:
     if not objects:
         return {}
-    out = git_output(repo, "cat-file", "--batch", data=b"".join(o + b"\n" for o in objects))
+    out = _git(repo, "cat-file", "--batch", data=b"".join(o + b"\n" for o in objects))
     contents: dict[bytes, bytes] = {}
     pos = 0
     while pos < len(out):

@@ -1,4 +1,4 @@
-"""Stage 1: read a catalogue directory into raw, positioned YAML nodes.
+"""YAML text to raw, positioned nodes: the first layer of reading a catalogue file.
 
 Nothing here interprets a value: a scalar keeps its text and whether it was
 written plain (unquoted), so the next stage can say "expected an integer,
@@ -11,34 +11,16 @@ recurses and crashes on a deeply nested document).
 
 from __future__ import annotations
 
-import os
 import re
-from collections.abc import Iterator
-from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 import yaml
 
-from builder.errors import CatalogueUnreadable, Position, Problem
+from builder.errors import KeyPath, Position, Problem
 
-__all__ = [
-    "ID_PATTERN",
-    "MAX_DEPTH",
-    "Mapping",
-    "Node",
-    "RawCatalogue",
-    "RawFile",
-    "Scalar",
-    "Sequence",
-    "load_catalogue",
-    "parse_yaml",
-    "read_file",
-    "scan_catalogue",
-]
+__all__ = ["MAX_DEPTH", "MappingNode", "Node", "Scalar", "SequenceNode", "node_at", "parse_yaml"]
 
-#: Entry ids are file stems: lowercase letters, digits and hyphens.
-ID_PATTERN = re.compile(r"[a-z0-9][a-z0-9-]*")
 #: Catalogue documents are shallow; anything deeper is refused.
 MAX_DEPTH = 16
 #: Characters YAML does not allow in a stream (YAML 1.1 section 5.1, the same set PyYAML's reader refuses).
@@ -76,7 +58,7 @@ class Scalar(Node):
         return "scalar"
 
 
-class Sequence(Node):
+class SequenceNode(Node):
     __slots__ = ("items",)
 
     def __init__(self, line: int, column: int) -> None:
@@ -88,7 +70,7 @@ class Sequence(Node):
         return "list"
 
 
-class Mapping(Node):
+class MappingNode(Node):
     """Keys map to (key node, value node), in document order."""
 
     __slots__ = ("entries",)
@@ -165,6 +147,8 @@ class _DepthLimit(Exception):
 
 
 def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) -> tuple[Node | None, list[Problem]]:
+    # kept whole: this loop runs once per YAML event of every file, so its state lives in locals
+    # rather than in helper calls (the verify benchmark measures it against the bare parse).
     parser = loader(text)
     get_event = parser.get_event
     root: Node | None = None
@@ -196,7 +180,7 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
                 continue
             elif cls is _MAPPING_START or cls is _SEQUENCE_START:
                 mark = event.start_mark
-                node = (Mapping if cls is _MAPPING_START else Sequence)(mark.line + 1, mark.column + 1)
+                node = (MappingNode if cls is _MAPPING_START else SequenceNode)(mark.line + 1, mark.column + 1)
                 if event.anchor is not None or event.tag is not None:
                     _decorations(event, node, path, problems)
             elif cls is _ALIAS:
@@ -296,168 +280,14 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
     return (None if aliased else root), problems
 
 
-@dataclass(slots=True)
-class RawFile:
-    """One catalogue file: its kind and id, and once parsed its root node and problems.
-
-    ``problems`` is None until the file has been parsed; ``root`` is None
-    when it could not be (or holds no document).
-    """
-
-    path: Path
-    kind: str  # "record", "references", "map" or "cycle"
-    id: str
-    folder: str | None  # for cycles, the map folder the file sits in
-    root: Node | None = None
-    problems: list[Problem] | None = None
-
-
-@dataclass(slots=True)
-class RawCatalogue:
-    """The files of a catalogue directory, and the problems with its layout."""
-
-    root: Path
-    files: list[RawFile] = field(default_factory=list)
-    layout_problems: list[Problem] = field(default_factory=list)
-
-    @property
-    def problems(self) -> list[Problem]:
-        """Layout problems, then those of every file parsed so far."""
-        out = list(self.layout_problems)
-        for f in self.files:
-            out.extend(f.problems or ())
-        return out
-
-    def of_kind(self, kind: str) -> Iterator[RawFile]:
-        return (f for f in self.files if f.kind == kind)
-
-
-def _read_text(path: Path, problems: list[Problem]) -> str | None:
-    try:
-        data = path.read_bytes()
-    except OSError as exc:
-        problems.append(_problem(path, 0, 0, f"cannot read the file: {exc.strerror}", "unreadable"))
-        return None
-    try:
-        return data.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        before = data[: exc.start]
-        line = before.count(b"\n") + 1
-        column = exc.start - (before.rfind(b"\n") + 1) + 1
-        problems.append(
-            _problem(path, line, column, f"expected UTF-8 text, got the byte 0x{data[exc.start]:02x}", "encoding")
-        )
-        return None
-
-
-def read_file(file: RawFile) -> tuple[Node | None, list[Problem]]:
-    """Return the file's root node and problems, parsing it now unless already parsed.
-
-    Nothing is cached: a caller that streams through a large catalogue keeps
-    only the file at hand alive.
-    """
-    if file.problems is not None:
-        return file.root, file.problems
-    problems: list[Problem] = []
-    text = _read_text(file.path, problems)
-    if text is None:
-        return None, problems
-    node, found = parse_yaml(text, file.path)
-    problems.extend(found)
-    return node, problems
-
-
-def _entry_files(folder: Path, what: str, problems: list[Problem]) -> Iterator[tuple[str, Path]]:
-    """Yield (id, path) for each ``<id>.yaml`` in folder, reporting anything else there."""
-    with os.scandir(folder) as listing:
-        entries = sorted(listing, key=lambda e: e.name)
-    for entry in entries:
-        name = entry.name
-        if name.startswith("."):
-            continue  # .gitkeep and editor files
-        path = folder / name
-        if entry.is_symlink():
-            problems.append(_problem(path, 0, 0, "expected a regular file, got a symbolic link", "layout"))
-            continue
-        if not entry.is_file():
-            problems.append(
-                _problem(path, 0, 0, f"expected only {what} files (<id>.yaml) here, got a folder", "layout")
-            )
-            continue
-        stem, dot, ext = name.rpartition(".")
-        if not dot or ext != "yaml":
-            hint = " (use the extension .yaml)" if ext == "yml" else ""
-            problems.append(_problem(path, 0, 0, f"expected a file named <id>.yaml, got '{name}'{hint}", "layout"))
-            continue
-        if ID_PATTERN.fullmatch(stem) is None:
-            problems.append(
-                _problem(
-                    path,
-                    0,
-                    0,
-                    f"expected an id of lowercase letters, digits and hyphens ([a-z0-9][a-z0-9-]*), got '{stem}'",
-                    "bad-id",
-                )
-            )
-            continue
-        yield stem, path
-
-
-def scan_catalogue(root: Path) -> RawCatalogue:
-    """List the files of the catalogue at ``root`` without parsing them.
-
-    Raises CatalogueUnreadable if ``root`` is not a catalogue directory; every
-    problem with the layout (bad names, links, stray folders) is collected.
-    """
-    if not root.is_dir():
-        raise CatalogueUnreadable(
-            root, "expected a catalogue directory, got " + ("a file" if root.exists() else "nothing")
-        )
-    maps_dir = root / "maps"
-    if not maps_dir.is_dir() or maps_dir.is_symlink():
-        raise CatalogueUnreadable(root, "expected a catalogue directory with a maps/ folder, got none")
-    raw = RawCatalogue(root)
-    problems = raw.layout_problems
-    for kind in ("record", "references"):
-        path = root / f"{kind}.yaml"
-        if path.is_symlink():
-            problems.append(_problem(path, 0, 0, "expected a regular file, got a symbolic link", "layout"))
-        elif path.is_file():
-            raw.files.append(RawFile(path, kind, kind, None))
-    for map_id, path in _entry_files(maps_dir, "map", problems):
-        raw.files.append(RawFile(path, "map", map_id, None))
-    cycles_dir = root / "cycles"
-    if cycles_dir.is_symlink():
-        problems.append(_problem(cycles_dir, 0, 0, "expected a folder, got a symbolic link", "layout"))
-    elif cycles_dir.is_dir():
-        with os.scandir(cycles_dir) as listing:
-            folders = sorted(listing, key=lambda e: e.name)
-        for entry in folders:
-            if entry.name.startswith("."):
-                continue
-            folder = cycles_dir / entry.name
-            if entry.is_symlink() or not entry.is_dir():
-                problems.append(
-                    _problem(folder, 0, 0, "expected a folder named after a map id, got a file or link", "layout")
-                )
-                continue
-            if ID_PATTERN.fullmatch(entry.name) is None:
-                problems.append(
-                    _problem(folder, 0, 0, f"expected a folder named after a map id, got '{entry.name}'", "bad-id")
-                )
-                continue
-            for cycle_id, path in _entry_files(folder, "cycle", problems):
-                raw.files.append(RawFile(path, "cycle", cycle_id, entry.name))
-    return raw
-
-
-def load_catalogue(root: Path) -> RawCatalogue:
-    """Scan the catalogue at ``root`` and parse every file (the whole raw layer in memory).
-
-    Raises CatalogueUnreadable if ``root`` is not a catalogue directory; every
-    problem with individual files is collected in the result instead.
-    """
-    raw = scan_catalogue(root)
-    for file in raw.files:
-        file.root, file.problems = read_file(file)
-    return raw
+def node_at(root: Node | None, key_path: KeyPath) -> Node | None:
+    """The node at ``key_path`` below ``root`` (keys of mappings, indexes of lists), or None."""
+    node = root
+    for part in key_path:
+        if isinstance(part, str) and isinstance(node, MappingNode) and part in node.entries:
+            node = node.entries[part][1]
+        elif isinstance(part, int) and isinstance(node, SequenceNode) and part < len(node.items):
+            node = node.items[part]
+        else:
+            return None
+    return node

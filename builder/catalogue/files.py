@@ -1,0 +1,320 @@
+"""The files of a catalogue: where they come from, which kind of entry each is, and their parsed nodes.
+
+A catalogue is read from a *source*: a folder on disk (:class:`FolderSource`) or a tree held in
+memory (:class:`TreeSource`, which the history stage fills from git objects, so a release is
+verified without writing it anywhere).  Both answer the same three questions (what is at a path,
+what a folder lists, what a file holds), so the layout rules below apply to either in the same way.
+Nothing here interprets a value: files become positioned YAML nodes (:mod:`builder.catalogue.nodes`).
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+import re
+from collections.abc import Iterable, Iterator, Mapping
+from dataclasses import dataclass, field
+from enum import StrEnum
+from pathlib import Path, PurePosixPath
+from typing import Protocol
+
+from builder.catalogue.nodes import Node, parse_yaml
+from builder.errors import CatalogueUnreadable, Position, Problem
+
+__all__ = [
+    "ID_PATTERN",
+    "FolderSource",
+    "PathKind",
+    "RawCatalogue",
+    "RawFile",
+    "Source",
+    "TreeSource",
+    "load_catalogue",
+    "read_file",
+    "scan_catalogue",
+    "scan_source",
+]
+
+#: Entry ids are file stems: lowercase letters, digits and hyphens.
+ID_PATTERN = re.compile(r"[a-z0-9][a-z0-9-]*")
+
+
+class PathKind(StrEnum):
+    FILE = "file"
+    FOLDER = "folder"
+    LINK = "link"  # a symbolic link, never followed
+    OTHER = "other"  # a device, a pipe...
+    MISSING = "missing"
+
+
+class Source(Protocol):
+    """Where a catalogue's files come from; paths are relative to the catalogue root, POSIX style."""
+
+    @property
+    def root(self) -> Path:
+        """The catalogue root, as problems name it."""
+        ...
+
+    def kind(self, rel: PurePosixPath) -> PathKind: ...
+
+    def listing(self, rel: PurePosixPath) -> list[tuple[str, PathKind]]:
+        """The names in a folder with their kinds, sorted by name."""
+        ...
+
+    def read(self, rel: PurePosixPath) -> bytes:
+        """A file's bytes; raises OSError when it cannot be read."""
+        ...
+
+
+@dataclass(frozen=True, slots=True)
+class FolderSource:
+    """A catalogue folder on disk."""
+
+    root: Path
+
+    def kind(self, rel: PurePosixPath) -> PathKind:
+        if not rel.parts:  # the root itself may be reached through a link
+            if self.root.is_dir():
+                return PathKind.FOLDER
+            return PathKind.FILE if self.root.exists() else PathKind.MISSING
+        return _kind_on_disk(self.root.joinpath(*rel.parts))
+
+    def listing(self, rel: PurePosixPath) -> list[tuple[str, PathKind]]:
+        with os.scandir(self.root.joinpath(*rel.parts)) as entries:
+            found = sorted(entries, key=lambda e: e.name)
+        return [(e.name, _kind_of_entry(e)) for e in found]
+
+    def read(self, rel: PurePosixPath) -> bytes:
+        return self.root.joinpath(*rel.parts).read_bytes()
+
+
+def _kind_on_disk(path: Path) -> PathKind:
+    if path.is_symlink():
+        return PathKind.LINK
+    if path.is_dir():
+        return PathKind.FOLDER
+    if path.is_file():
+        return PathKind.FILE
+    return PathKind.OTHER if path.exists() else PathKind.MISSING
+
+
+def _kind_of_entry(entry: os.DirEntry[str]) -> PathKind:
+    if entry.is_symlink():
+        return PathKind.LINK
+    if entry.is_dir():
+        return PathKind.FOLDER
+    return PathKind.FILE if entry.is_file() else PathKind.OTHER
+
+
+class TreeSource:
+    """A catalogue held in memory: files by relative path, and the paths that are links or empty folders.
+
+    Other folders are implied by what lies below them, as in a git tree.  A tree whose root is
+    itself a file (a revision where the catalogue's path names a file) has that file at ``.``.
+    """
+
+    def __init__(
+        self,
+        root: Path,
+        files: Mapping[PurePosixPath, bytes],
+        links: Iterable[PurePosixPath] = (),
+        folders: Iterable[PurePosixPath] = (),
+    ) -> None:
+        self._root = root
+        self._files = dict(files)
+        self._kinds: dict[PurePosixPath, PathKind] = {}
+        self._children: dict[PurePosixPath, set[str]] = {}
+        for paths, kind in ((self._files, PathKind.FILE), (links, PathKind.LINK), (folders, PathKind.FOLDER)):
+            for path in paths:
+                self._kinds[path] = kind
+                for parent in path.parents:
+                    self._kinds.setdefault(parent, PathKind.FOLDER)
+                    self._children.setdefault(parent, set()).add(path.relative_to(parent).parts[0])
+        self._kinds.setdefault(PurePosixPath("."), PathKind.FOLDER)
+
+    @property
+    def root(self) -> Path:
+        return self._root
+
+    def kind(self, rel: PurePosixPath) -> PathKind:
+        return self._kinds.get(rel, PathKind.MISSING)
+
+    def listing(self, rel: PurePosixPath) -> list[tuple[str, PathKind]]:
+        return [(name, self.kind(rel / name)) for name in sorted(self._children.get(rel, ()))]
+
+    def read(self, rel: PurePosixPath) -> bytes:
+        try:
+            return self._files[rel]
+        except KeyError:
+            raise FileNotFoundError(2, "No such file or directory", str(rel)) from None
+
+
+@dataclass(slots=True)
+class RawFile:
+    """One catalogue file: its kind and id, and once parsed its root node and problems.
+
+    ``problems`` is None until the file has been parsed; ``root`` is None
+    when it could not be (or holds no document).  ``digest`` is the SHA-256
+    of its bytes once read (None when they could not be read).
+    """
+
+    path: Path
+    kind: str  # "record", "references", "map" or "cycle"
+    id: str
+    folder: str | None  # for cycles, the map folder the file sits in
+    root: Node | None = None
+    problems: list[Problem] | None = None
+    digest: bytes | None = None
+
+
+@dataclass(slots=True)
+class RawCatalogue:
+    """The files of a catalogue, where they come from, and the problems with its layout."""
+
+    source: Source
+    files: list[RawFile] = field(default_factory=list)
+    layout_problems: list[Problem] = field(default_factory=list)
+
+    @property
+    def root(self) -> Path:
+        return self.source.root
+
+    @property
+    def problems(self) -> list[Problem]:
+        """Layout problems, then those of every file parsed so far."""
+        out = list(self.layout_problems)
+        for f in self.files:
+            out.extend(f.problems or ())
+        return out
+
+    def of_kind(self, kind: str) -> Iterator[RawFile]:
+        return (f for f in self.files if f.kind == kind)
+
+    def relative(self, file: RawFile) -> PurePosixPath:
+        return PurePosixPath(file.path.relative_to(self.root).as_posix())
+
+
+def _problem(path: Path, message: str, code: str, line: int = 0, column: int = 0) -> Problem:
+    return Problem(Position(path, line, column), message, code)
+
+
+def _decode(data: bytes, path: Path, problems: list[Problem]) -> str | None:
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        before = data[: exc.start]
+        line = before.count(b"\n") + 1
+        column = exc.start - (before.rfind(b"\n") + 1) + 1
+        problems.append(
+            _problem(path, f"expected UTF-8 text, got the byte 0x{data[exc.start]:02x}", "encoding", line, column)
+        )
+        return None
+
+
+def read_file(raw: RawCatalogue, file: RawFile) -> RawFile:
+    """The file with its root node, problems and digest, parsing it now unless already parsed.
+
+    Nothing is cached: a caller that streams through a large catalogue keeps
+    only the file at hand alive.
+    """
+    if file.problems is not None:
+        return file
+    problems: list[Problem] = []
+    parsed = RawFile(file.path, file.kind, file.id, file.folder, None, problems)
+    try:
+        data = raw.source.read(raw.relative(file))
+    except OSError as exc:
+        problems.append(_problem(file.path, f"cannot read the file: {exc.strerror}", "unreadable"))
+        return parsed
+    parsed.digest = hashlib.sha256(data).digest()
+    text = _decode(data, file.path, problems)
+    if text is not None:
+        parsed.root, found = parse_yaml(text, file.path)
+        problems.extend(found)
+    return parsed
+
+
+def _entry_files(raw: RawCatalogue, folder: PurePosixPath, what: str) -> Iterator[tuple[str, Path]]:
+    """Yield (id, path) for each ``<id>.yaml`` in folder, reporting anything else there."""
+    problems = raw.layout_problems
+    for name, kind in raw.source.listing(folder):
+        if name.startswith("."):
+            continue  # .gitkeep and editor files
+        path = raw.root.joinpath(*folder.parts, name)
+        if kind is PathKind.LINK:
+            problems.append(_problem(path, "expected a regular file, got a symbolic link", "layout"))
+            continue
+        if kind is not PathKind.FILE:
+            problems.append(_problem(path, f"expected only {what} files (<id>.yaml) here, got a folder", "layout"))
+            continue
+        stem, dot, ext = name.rpartition(".")
+        if not dot or ext != "yaml":
+            hint = " (use the extension .yaml)" if ext == "yml" else ""
+            problems.append(_problem(path, f"expected a file named <id>.yaml, got '{name}'{hint}", "layout"))
+            continue
+        if ID_PATTERN.fullmatch(stem) is None:
+            message = f"expected an id of lowercase letters, digits and hyphens ([a-z0-9][a-z0-9-]*), got '{stem}'"
+            problems.append(_problem(path, message, "bad-id"))
+            continue
+        yield stem, path
+
+
+def scan_source(source: Source) -> RawCatalogue:
+    """List the files of the catalogue in ``source`` without parsing them.
+
+    Raises CatalogueUnreadable if the source holds no catalogue; every
+    problem with the layout (bad names, links, stray folders) is collected.
+    """
+    root = source.root
+    here = PurePosixPath(".")
+    top = source.kind(here)
+    if top is not PathKind.FOLDER:
+        got = "nothing" if top is PathKind.MISSING else "a file"
+        raise CatalogueUnreadable(root, f"expected a catalogue directory, got {got}")
+    if source.kind(PurePosixPath("maps")) is not PathKind.FOLDER:
+        raise CatalogueUnreadable(root, "expected a catalogue directory with a maps/ folder, got none")
+    raw = RawCatalogue(source)
+    problems = raw.layout_problems
+    for kind in ("record", "references"):
+        found = source.kind(PurePosixPath(f"{kind}.yaml"))
+        if found is PathKind.LINK:
+            problems.append(_problem(root / f"{kind}.yaml", "expected a regular file, got a symbolic link", "layout"))
+        elif found is PathKind.FILE:
+            raw.files.append(RawFile(root / f"{kind}.yaml", kind, kind, None))
+    for map_id, path in _entry_files(raw, PurePosixPath("maps"), "map"):
+        raw.files.append(RawFile(path, "map", map_id, None))
+    cycles = PurePosixPath("cycles")
+    found = source.kind(cycles)
+    if found is PathKind.LINK:
+        problems.append(_problem(root / "cycles", "expected a folder, got a symbolic link", "layout"))
+    elif found is PathKind.FOLDER:
+        for name, kind in source.listing(cycles):
+            if name.startswith("."):
+                continue
+            folder = root / "cycles" / name
+            if kind is not PathKind.FOLDER:
+                message = "expected a folder named after a map id, got a file or link"
+                problems.append(_problem(folder, message, "layout"))
+                continue
+            if ID_PATTERN.fullmatch(name) is None:
+                problems.append(_problem(folder, f"expected a folder named after a map id, got '{name}'", "bad-id"))
+                continue
+            for cycle_id, path in _entry_files(raw, cycles / name, "cycle"):
+                raw.files.append(RawFile(path, "cycle", cycle_id, name))
+    return raw
+
+
+def scan_catalogue(root: Path) -> RawCatalogue:
+    """List the files of the catalogue folder at ``root`` (see :func:`scan_source`)."""
+    return scan_source(FolderSource(root))
+
+
+def load_catalogue(root: Path) -> RawCatalogue:
+    """Scan the catalogue at ``root`` and parse every file (the whole raw layer in memory).
+
+    Raises CatalogueUnreadable if ``root`` is not a catalogue directory; every
+    problem with individual files is collected in the result instead.
+    """
+    raw = scan_catalogue(root)
+    raw.files = [read_file(raw, file) for file in raw.files]
+    return raw
