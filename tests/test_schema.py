@@ -5,6 +5,7 @@ from __future__ import annotations
 import datetime as dt
 import json
 import re
+import shutil
 from pathlib import Path
 
 import gmpy2
@@ -13,6 +14,7 @@ import pytest
 import yaml
 from conftest import BROKEN, BROKEN_CASES, REPO, SCHEMAS, VALID, big_cycle_files, broken_copy
 
+from builder.catalogue.fields import DOCUMENTS, SHAPES, json_schema_text, with_tables
 from builder.catalogue.verify import verify_catalogue
 from builder.commands import main
 
@@ -227,3 +229,60 @@ def test_shipped_catalogue_verifies(capsys, monkeypatch):
     out = capsys.readouterr().out
     assert code == 0, out
     assert out.splitlines()[-1].endswith(": every claim holds")
+
+
+# --- the field table: declared once, everything else follows -----------------------------------
+
+
+@pytest.mark.parametrize("document", DOCUMENTS, ids=lambda d: d.kind)
+def test_shipped_schemas_are_the_ones_the_field_table_gives(document) -> None:
+    # catalogue/schema is written by scripts/write_formats.py from builder/catalogue/fields.py.
+    shipped = (SCHEMAS / f"{document.kind}.schema.json").read_text(encoding="utf-8")
+    assert shipped == json_schema_text(document), "run python scripts/write_formats.py"
+    # Each generated schema is itself a valid draft 2020-12 schema (jsonschema's own metaschema check).
+    jsonschema.Draft202012Validator.check_schema(json.loads(shipped))
+
+
+def test_readme_field_tables_are_the_ones_the_field_table_gives() -> None:
+    text = (SHIPPED / "README.md").read_text(encoding="utf-8")
+    assert text == with_tables(text), "run python scripts/write_formats.py"
+    for name in SHAPES:
+        assert f"<!-- fields: {name} -->" in text, name
+
+
+@pytest.mark.parametrize("name", sorted(SHAPES))
+def test_the_reader_allows_exactly_the_fields_of_the_table(name: str, tmp_path: Path) -> None:
+    # An unknown field is refused with the list of allowed fields, in the table's order.
+    shape = SHAPES[name]
+    found = []
+    for problem in verify_catalogue(_catalogue_with_unknown_field(tmp_path, name)).problems:
+        if problem.code == "unknown-field":
+            found.append(problem.message)
+    expected = ", ".join(shape.required + shape.optional)
+    assert any(f"unknown field 'surplus' in {shape.what}; expected one of: {expected}" in m for m in found), found
+
+
+def _catalogue_with_unknown_field(tmp: Path, name: str) -> Path:
+    """A copy of the valid fixture with a field 'surplus' added to one mapping of the given shape."""
+    root = tmp / "cat"
+    shutil.copytree(VALID, root)
+    edits = {
+        "record": ("record.yaml", lambda t: t + "surplus: 1\n"),
+        "map": ("maps/3x-plus-1.yaml", lambda t: t + "surplus: 1\n"),
+        "branch": ("maps/3x-plus-1.yaml", lambda t: t.replace("increment: 0}", "increment: 0, surplus: 1}", 1)),
+        "coverage": ("maps/3x-plus-1.yaml", lambda t: t + COVERAGE_WITH_SURPLUS),
+        "cycle": ("cycles/3x-plus-1/through-1.yaml", lambda t: t + "surplus: 1\n"),
+        "provenance": ("cycles/3x-plus-1/through-1.yaml", lambda t: t + "  surplus: 1\n"),
+        "reference": ("references.yaml", lambda t: t.rstrip("\n") + "\n  surplus: 1\n"),
+    }
+    rel, edit = edits[name]
+    path = root / rel
+    path.write_text(edit(path.read_text(encoding="utf-8")), encoding="utf-8")
+    return root
+
+
+# Common practice, no source: a claim in the format the table gives, with one field too many.
+COVERAGE_WITH_SURPLUS = (
+    "coverage:\n  - {kind: all-starts, bound: 10, found_on: 2024-05-01, method: m, max_steps: 100, max_bits: 64,"
+    " surplus: 1}\n"
+)

@@ -13,6 +13,7 @@ that the shipped copies equal what the table gives.
 from __future__ import annotations
 
 import json
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -36,6 +37,7 @@ __all__ = [
     "json_schema",
     "json_schema_text",
     "markdown_table",
+    "with_tables",
 ]
 
 COVERAGE_KINDS = ("all-starts",)
@@ -322,3 +324,15 @@ def field_order() -> tuple[str, ...]:
     for shape in (RECORD, CYCLE, MAP, REFERENCE):
         names.update(dict.fromkeys(shape.names))
     return tuple(names)
+
+
+_TABLE = re.compile(r"(<!-- fields: (?P<shape>[a-z]+) -->\n)(?P<table>.*?)(<!-- end of fields -->)", re.DOTALL)
+
+
+def with_tables(text: str) -> str:
+    """``text`` (catalogue/README.md) with every marked field table written anew from the table.
+
+    A table sits between ``<!-- fields: SHAPE -->`` and ``<!-- end of fields -->`` lines, SHAPE a
+    key of :data:`SHAPES`.
+    """
+    return _TABLE.sub(lambda m: m[1] + markdown_table(SHAPES[m["shape"]]) + m[4], text)
