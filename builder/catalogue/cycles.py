@@ -11,7 +11,7 @@ from builder.catalogue.files import RawFile
 from builder.catalogue.limits import Limits
 from builder.catalogue.model import PLACEHOLDER, Cycle, MapEntry, Provenance
 from builder.catalogue.nodes import Node
-from builder.catalogue.reader import EntryReader, short
+from builder.catalogue.reader import EntryReader, open_entry, short
 from builder.errors import KeyPath, Problem
 
 __all__ = ["check_cycle"]
@@ -26,20 +26,17 @@ def check_cycle(
     problems: list[Problem],
 ) -> tuple[Cycle, Node, KeyPath] | None:
     """Check a cycle file's fields, then derive its cycle; return the cycle and where its start is written."""
-    doc = EntryReader(raw.path, problems)
-    if raw.root is None:
+    opened = open_entry(raw.path, raw.root, problems, CYCLE)
+    if opened is None:
         return None
-    f = doc.fields(raw.root, (), CYCLE)
-    if f is None:
-        return None
+    doc, f = opened
     provenance = _check_provenance(doc, f["provenance"], known) if "provenance" in f else None
-    entry = _map_of(doc, raw, f, maps, bad_maps)
-    start = doc.integer(f["start"], ("start",)) if "start" in f else None
-    length = doc.integer(f["length"], ("length",)) if "length" in f else None
+    v = doc.values(f, CYCLE)
+    entry = _map_of(doc, raw, f, v.get("map"), maps, bad_maps)
+    start, length, members = v.get("start"), v.get("length"), v.get("members")
     if length is not None and length < 1:
         doc.error(f["length"], ("length",), f"expected a positive length, got {show(length)}")
         length = None
-    members = doc.listing(f["members"], ("members",), doc.integer) if "members" in f else None
     if "start" not in f and "word" not in f:
         doc.error(raw.root, (), "a cycle entry needs a start or a word, got neither", "missing-field")
     if entry is None:
@@ -53,10 +50,14 @@ def check_cycle(
 
 
 def _map_of(
-    doc: EntryReader, raw: RawFile, f: dict[str, Node], maps: Mapping[str, MapEntry], bad_maps: Collection[str]
+    doc: EntryReader,
+    raw: RawFile,
+    f: dict[str, Node],
+    map_id: str | None,
+    maps: Mapping[str, MapEntry],
+    bad_maps: Collection[str],
 ) -> MapEntry | None:
     """The verified map the entry names, or None (with a problem unless the map itself failed)."""
-    map_id = doc.ident(f["map"], ("map",)) if "map" in f else None
     if map_id is not None and map_id != raw.folder:
         doc.error(
             f["map"], ("map",), f"expected '{raw.folder}' (the folder this file is in), got '{map_id}'", "wrong-folder"
@@ -78,11 +79,14 @@ def _check_provenance(doc: EntryReader, node: Node, known: Collection[str] | Non
     f = doc.fields(node, path, PROVENANCE)
     if f is None:
         return None
-    found_by = doc.text(f["found_by"], path + ("found_by",), one_line=True) if "found_by" in f else None
-    found_on = doc.date(f["found_on"], path + ("found_on",)) if "found_on" in f else None
-    method = doc.text(f["method"], path + ("method",)) if "method" in f else None
-    refs = doc.reference_keys(f["references"], path + ("references",), known) if "references" in f else []
-    notes = doc.text(f["notes"], path + ("notes",)) if "notes" in f else None
+    v = doc.values(f, PROVENANCE, path, known)
+    found_by, found_on, method, refs, notes = (
+        v.get("found_by"),
+        v.get("found_on"),
+        v.get("method"),
+        v.get("references", []),
+        v.get("notes"),
+    )
     for key, value in (("found_by", found_by), ("method", method)):
         if value is not None and value.startswith(PLACEHOLDER):
             say = "who found the cycle" if key == "found_by" else "how it was found (range searched, limits)"

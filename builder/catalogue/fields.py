@@ -16,6 +16,7 @@ import json
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from enum import StrEnum
 from typing import Any
 
 __all__ = [
@@ -29,6 +30,7 @@ __all__ = [
     "RECORD",
     "REFERENCE",
     "REFERENCE_STATUSES",
+    "Reads",
     "SHAPES",
     "Document",
     "Field",
@@ -61,6 +63,20 @@ LINE, TEXT, ID, DATE = ({"$ref": f"#/$defs/{name}"} for name in ("line", "text",
 IDS = {"type": "array", "items": ID}
 
 
+class Reads(StrEnum):
+    """How the entry reader reads a field's value; OWN for fields whose kind's check reads them itself."""
+
+    LINE = "one line of text"
+    TEXT = "text"
+    DATE = "a date"
+    INTEGER = "an integer"
+    INTEGERS = "a list of integers"
+    ID = "an id"
+    KEYS = "a list of reference keys"
+    LINES = "a list of lines"
+    OWN = "read by the entry's own check"
+
+
 @dataclass(frozen=True, slots=True)
 class Field:
     name: str
@@ -68,6 +84,7 @@ class Field:
     meaning: str
     required: bool = False
     required_note: str | None = None  # the README's "required" cell when it is more than yes or no
+    reads: Reads = Reads.OWN
 
 
 @dataclass(frozen=True, slots=True)
@@ -101,9 +118,9 @@ class Shape:
 
 
 RECORD = Shape("the record's description", (
-    Field("title", LINE, "one line, the record's name in citations", True),
-    Field("description", TEXT, "one paragraph (folded to one line)", True),
-    Field("maintainers", LINE, "one line: the group that keeps the record, named as the author in citations", True),
+    Field("title", LINE, "one line, the record's name in citations", True, reads=Reads.LINE),
+    Field("description", TEXT, "one paragraph (folded to one line)", True, reads=Reads.TEXT),
+    Field("maintainers", LINE, "one line: the group that keeps the record, named as the author in citations", True, reads=Reads.LINE),
     Field(
         "licence", {"type": "string", "pattern": "^[A-Za-z0-9][A-Za-z0-9.+-]*$"},
         "the data licence as an identifier of the SPDX License List (https://spdx.org/licenses/), written as the "
@@ -135,34 +152,34 @@ RECORD = Shape("the record's description", (
 ))  # fmt: skip
 
 BRANCH = Shape("a branch", (
-    Field("residue", {"type": "integer", "minimum": 0}, "i, the residue class 0..m-1 the branch applies to", True),
-    Field("multiplier", {"type": "integer", "not": {"const": 0}}, "a_i, a nonzero integer", True),
-    Field("increment", {"type": "integer"}, "b_i, with a_i i + b_i divisible by m", True),
+    Field("residue", {"type": "integer", "minimum": 0}, "i, the residue class 0..m-1 the branch applies to", True, reads=Reads.INTEGER),
+    Field("multiplier", {"type": "integer", "not": {"const": 0}}, "a_i, a nonzero integer", True, reads=Reads.INTEGER),
+    Field("increment", {"type": "integer"}, "b_i, with a_i i + b_i divisible by m", True, reads=Reads.INTEGER),
 ))  # fmt: skip
 
 COVERAGE = Shape("a coverage record", (
-    Field("kind", {"enum": list(COVERAGE_KINDS)}, "`all-starts`: every start n with \\|n\\| <= bound was followed", True),
-    Field("bound", {"type": "integer", "minimum": 0}, "the largest \\|start\\| covered", True),
-    Field("found_on", DATE, "when the search was run", True),
-    Field("method", TEXT, "how it was run (program, command, machine)", True),
-    Field("max_steps", {"type": "integer", "minimum": 1}, "the step limit per start", True),
-    Field("max_bits", {"type": "integer", "minimum": 1}, "the size limit per member, in bits", True),
+    Field("kind", {"enum": list(COVERAGE_KINDS)}, "`all-starts`: every start n with \\|n\\| <= bound was followed", True, reads=Reads.TEXT),
+    Field("bound", {"type": "integer", "minimum": 0}, "the largest \\|start\\| covered", True, reads=Reads.INTEGER),
+    Field("found_on", DATE, "when the search was run", True, reads=Reads.DATE),
+    Field("method", TEXT, "how it was run (program, command, machine)", True, reads=Reads.TEXT),
+    Field("max_steps", {"type": "integer", "minimum": 1}, "the step limit per start", True, reads=Reads.INTEGER),
+    Field("max_bits", {"type": "integer", "minimum": 1}, "the size limit per member, in bits", True, reads=Reads.INTEGER),
     Field(
         "unresolved", {"type": "array", "items": {"type": "integer"}},
-        "every start whose orbit was not resolved within the limits (none when left out)",
+        "every start whose orbit was not resolved within the limits (none when left out)", reads=Reads.INTEGERS,
     ),
 ))  # fmt: skip
 
 MAP = Shape("a map entry", (
-    Field("name", LINE, "display name, one line", True),
-    Field("modulus", {"type": "integer", "minimum": 2}, "m, an integer of at least 2", True),
+    Field("name", LINE, "display name, one line", True, reads=Reads.LINE),
+    Field("modulus", {"type": "integer", "minimum": 2}, "m, an integer of at least 2", True, reads=Reads.INTEGER),
     Field(
         "branches", {"type": "array", "minItems": 2, "items": BRANCH.schema()},
         "one item per residue 0..m-1: `{residue, multiplier, increment}`", True,
     ),
-    Field("summary", LINE, "one line saying what the map is", True),
-    Field("notes", TEXT, "Markdown: what is known, how the cycles were searched"),
-    Field("references", IDS, "list of keys of `references.yaml`"),
+    Field("summary", LINE, "one line saying what the map is", True, reads=Reads.LINE),
+    Field("notes", TEXT, "Markdown: what is known, how the cycles were searched", reads=Reads.TEXT),
+    Field("references", IDS, "list of keys of `references.yaml`", reads=Reads.KEYS),
     Field(
         "coverage",
         {
@@ -177,18 +194,18 @@ MAP = Shape("a map entry", (
 ))  # fmt: skip
 
 PROVENANCE = Shape("the provenance", (
-    Field("found_by", LINE, "one line: a person, group or program", True),
-    Field("found_on", DATE, "a date", True),
-    Field("method", TEXT, "how it was found", True),
-    Field("references", IDS, "keys of `references.yaml`"),
-    Field("notes", TEXT, "Markdown"),
+    Field("found_by", LINE, "one line: a person, group or program", True, reads=Reads.LINE),
+    Field("found_on", DATE, "a date", True, reads=Reads.DATE),
+    Field("method", TEXT, "how it was found", True, reads=Reads.TEXT),
+    Field("references", IDS, "keys of `references.yaml`", reads=Reads.KEYS),
+    Field("notes", TEXT, "Markdown", reads=Reads.TEXT),
 ))  # fmt: skip
 
 CYCLE = Shape(
     "a cycle entry",
     (
-        Field("map", ID, "the map's id; must be the folder the file is in", True),
-        Field("start", {"type": "integer"}, "any member of the cycle", required_note="one of `start`, `word`"),
+        Field("map", ID, "the map's id; must be the folder the file is in", True, reads=Reads.ID),
+        Field("start", {"type": "integer"}, "any member of the cycle", required_note="one of `start`, `word`", reads=Reads.INTEGER),
         Field(
             "word",
             {
@@ -200,10 +217,10 @@ CYCLE = Shape(
             "the residues of the members, in order from `start`",
             required_note="one of `start`, `word`",
         ),
-        Field("length", {"type": "integer", "minimum": 1}, "the number of steps of the cycle"),
+        Field("length", {"type": "integer", "minimum": 1}, "the number of steps of the cycle", reads=Reads.INTEGER),
         Field(
             "members", {"type": "array", "minItems": 1, "items": {"type": "integer"}},
-            "the members, in order from `start`",
+            "the members, in order from `start`", reads=Reads.INTEGERS,
         ),
         Field("provenance", PROVENANCE.schema(), "see below", True),
     ),
@@ -211,17 +228,17 @@ CYCLE = Shape(
 )  # fmt: skip
 
 REFERENCE = Shape("a reference", (
-    Field("authors", {"type": "array", "minItems": 1, "items": LINE}, "list of names", True),
-    Field("title", LINE, "one line", True),
-    Field("venue", LINE, "journal, volume and pages, publisher or archive", True),
-    Field("year", {"type": "integer", "minimum": 1000, "maximum": 9999}, "four-digit integer", True),
-    Field("doi", {"type": "string", "pattern": "^10\\.[0-9]{4,9}/\\S+$"}, "a DOI such as `10.2307/2322189`"),
-    Field("url", {"type": "string", "pattern": "^[Hh][Tt][Tt][Pp][Ss]?://[^\\s/$.?#]\\S*$"}, "an `http` or `https` address"),
+    Field("authors", {"type": "array", "minItems": 1, "items": LINE}, "list of names", True, reads=Reads.LINES),
+    Field("title", LINE, "one line", True, reads=Reads.LINE),
+    Field("venue", LINE, "journal, volume and pages, publisher or archive", True, reads=Reads.LINE),
+    Field("year", {"type": "integer", "minimum": 1000, "maximum": 9999}, "four-digit integer", True, reads=Reads.INTEGER),
+    Field("doi", {"type": "string", "pattern": "^10\\.[0-9]{4,9}/\\S+$"}, "a DOI such as `10.2307/2322189`", reads=Reads.LINE),
+    Field("url", {"type": "string", "pattern": "^[Hh][Tt][Tt][Pp][Ss]?://[^\\s/$.?#]\\S*$"}, "an `http` or `https` address", reads=Reads.LINE),
     Field(
         "status", {"enum": list(REFERENCE_STATUSES)},
-        "how sure the record is of what it cites: `read`, `secondary` or `memory`",
+        "how sure the record is of what it cites: `read`, `secondary` or `memory`", reads=Reads.TEXT,
     ),
-    Field("note", TEXT, "one remark"),
+    Field("note", TEXT, "one remark", reads=Reads.TEXT),
 ))  # fmt: skip
 
 SHAPES: Mapping[str, Shape] = {

@@ -10,23 +10,20 @@ from builder.catalogue.fields import BRANCH, COVERAGE, COVERAGE_KINDS, MAP
 from builder.catalogue.files import RawFile
 from builder.catalogue.model import Coverage, MapEntry
 from builder.catalogue.nodes import Node, SequenceNode
-from builder.catalogue.reader import EntryReader, describe, short
+from builder.catalogue.reader import EntryReader, describe, open_entry, short
 from builder.errors import KeyPath, Problem
 
 __all__ = ["check_map"]
 
+
 def check_map(raw: RawFile, known: Collection[str] | None, problems: list[Problem]) -> MapEntry | None:
-    doc = EntryReader(raw.path, problems)
-    if raw.root is None:
+    """The verified map, or None after recording what is wrong with it."""
+    opened = open_entry(raw.path, raw.root, problems, MAP)
+    if opened is None:
         return None
-    f = doc.fields(raw.root, (), MAP)
-    if f is None:
-        return None
-    name = doc.text(f["name"], ("name",), one_line=True) if "name" in f else None
-    summary = doc.text(f["summary"], ("summary",), one_line=True) if "summary" in f else None
-    notes = doc.text(f["notes"], ("notes",)) if "notes" in f else None
-    refs = doc.reference_keys(f["references"], ("references",), known) if "references" in f else []
-    modulus = doc.integer(f["modulus"], ("modulus",)) if "modulus" in f else None
+    doc, f = opened
+    v = doc.values(f, MAP, known=known)
+    modulus = v.get("modulus")
     if modulus is not None and modulus < 2:
         doc.error(f["modulus"], ("modulus",), f"expected a modulus of at least 2, got {show(modulus)}")
         modulus = None
@@ -34,6 +31,7 @@ def check_map(raw: RawFile, known: Collection[str] | None, problems: list[Proble
     coverage = doc.listing(f["coverage"], ("coverage",), lambda n, p: _coverage(doc, n, p)) if "coverage" in f else []
     if doc.failed or branches is None or coverage is None:
         return None
+    name, summary, notes, refs = v.get("name"), v.get("summary"), v.get("notes"), v.get("references", [])
     assert name is not None and summary is not None and refs is not None and modulus is not None
     return MapEntry(raw.id, name, summary, notes, tuple(refs), AffineMap(modulus, branches), raw.path, tuple(coverage))
 
@@ -50,9 +48,8 @@ def _check_branches(doc: EntryReader, node: Node, modulus: int) -> tuple[tuple[i
         f = doc.fields(item, path, BRANCH)
         if f is None or len(f) < 3:
             continue
-        residue = doc.integer(f["residue"], path + ("residue",))
-        a = doc.integer(f["multiplier"], path + ("multiplier",))
-        b = doc.integer(f["increment"], path + ("increment",))
+        v = doc.values(f, BRANCH, path)
+        residue, a, b = v["residue"], v["multiplier"], v["increment"]
         if residue is None or a is None or b is None:
             continue
         if not 0 <= residue < modulus:
@@ -105,26 +102,17 @@ def _coverage(doc: EntryReader, node: Node, key_path: KeyPath) -> Coverage | Non
     if f is None or len(f) < 6:
         return None
     before = len(doc.problems)
-    kind = doc.text(f["kind"], key_path + ("kind",))
+    v = doc.values(f, COVERAGE, key_path)
+    kind = v["kind"]
     if kind is not None and kind not in COVERAGE_KINDS:
-        doc.error(
-            f["kind"], key_path + ("kind",), f"expected one of {', '.join(COVERAGE_KINDS)}, got '{short(kind)}'"
-        )
-    numbers = {}
+        message = f"expected one of {', '.join(COVERAGE_KINDS)}, got '{short(kind)}'"
+        doc.error(f["kind"], key_path + ("kind",), message)
     for name in ("bound", "max_steps", "max_bits"):
-        value = doc.integer(f[name], key_path + (name,))
+        value = v[name]
         if value is not None and value < (0 if name == "bound" else 1):
             doc.error(f[name], key_path + (name,), f"expected a positive integer, got {show(value)}")
-        numbers[name] = value
-    found_on = doc.date(f["found_on"], key_path + ("found_on",))
-    method = doc.text(f["method"], key_path + ("method",))
-    unresolved = (
-        doc.listing(f["unresolved"], key_path + ("unresolved",), doc.integer) if "unresolved" in f else []
-    )
     if len(doc.problems) > before:
         return None
+    found_on, method, unresolved = v["found_on"], v["method"], v.get("unresolved", [])
     assert kind is not None and found_on is not None and method is not None and unresolved is not None
-    return Coverage(
-        kind, numbers["bound"] or 0, found_on, method, numbers["max_steps"] or 1, numbers["max_bits"] or 1,
-        tuple(unresolved),
-    )  # fmt: skip
+    return Coverage(kind, v["bound"], found_on, method, v["max_steps"], v["max_bits"], tuple(unresolved))

@@ -13,17 +13,17 @@ import difflib
 import re
 from collections.abc import Callable, Collection
 from pathlib import Path
-from typing import TypeVar
+from typing import Any, TypeVar
 
 import yaml.resolver
 
 from builder.arith.integers import DECIMAL_INTEGER, parse_decimal, show
-from builder.catalogue.fields import Shape
+from builder.catalogue.fields import Reads, Shape
 from builder.catalogue.files import ID_PATTERN
 from builder.catalogue.nodes import MappingNode, Node, Scalar, SequenceNode
 from builder.errors import KeyPath, Position, Problem, Severity, format_key_path
 
-__all__ = ["EntryReader", "describe", "label", "short", "yaml_type"]
+__all__ = ["EntryReader", "describe", "label", "open_entry", "short", "yaml_type"]
 
 T = TypeVar("T")
 _RESOLVER = yaml.resolver.Resolver()
@@ -107,6 +107,39 @@ class EntryReader:
             if key not in found:
                 self.error(node, key_path, f"{what} is missing the required field '{key}'", "missing-field")
         return found
+
+    def values(
+        self, found: dict[str, Node], shape: Shape, key_path: KeyPath = (), known: Collection[str] | None = None
+    ) -> dict[str, Any]:
+        """Read every field the file gives whose table entry says how (the others are the kind's own to read).
+
+        A field the file gives maps to its value, or to None when the value is bad (a problem says why);
+        fields it does not give are absent.  ``known`` are the reference keys a list of keys may name.
+        """
+        out: dict[str, Any] = {}
+        for f in shape.fields:
+            if f.name in found and f.reads is not Reads.OWN:
+                out[f.name] = self.read(f.reads, found[f.name], key_path + (f.name,), known)
+        return out
+
+    def read(self, reads: Reads, node: Node, key_path: KeyPath, known: Collection[str] | None = None) -> Any:
+        """One value, read as the field table says."""
+        if reads is Reads.LINE:
+            return self.text(node, key_path, one_line=True)
+        if reads is Reads.TEXT:
+            return self.text(node, key_path)
+        if reads is Reads.DATE:
+            return self.date(node, key_path)
+        if reads is Reads.INTEGER:
+            return self.integer(node, key_path)
+        if reads is Reads.INTEGERS:
+            return self.listing(node, key_path, self.integer)
+        if reads is Reads.ID:
+            return self.ident(node, key_path)
+        if reads is Reads.KEYS:
+            return self.reference_keys(node, key_path, known)
+        assert reads is Reads.LINES, reads
+        return self.listing(node, key_path, lambda n, p: self.text(n, p, one_line=True))
 
     def integer(self, node: Node, key_path: KeyPath) -> int | None:
         if type(node) is Scalar and node.plain and DECIMAL_INTEGER.fullmatch(node.value):
@@ -244,3 +277,14 @@ class EntryReader:
 
 def label(key_path: KeyPath) -> str:
     return f"{format_key_path(key_path)}: " if key_path else ""
+
+
+def open_entry(
+    path: Path, root: Node | None, problems: list[Problem], shape: Shape
+) -> tuple[EntryReader, dict[str, Node]] | None:
+    """A reader for a file whose root is an entry of ``shape``, and its fields (None when there are none)."""
+    doc = EntryReader(path, problems)
+    if root is None:
+        return None
+    found = doc.fields(root, (), shape)
+    return None if found is None else (doc, found)

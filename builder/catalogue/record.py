@@ -9,7 +9,7 @@ from builder.catalogue.files import RawFile
 from builder.catalogue.licences import check_licence
 from builder.catalogue.model import Record
 from builder.catalogue.nodes import Node, Scalar
-from builder.catalogue.reader import EntryReader, describe, short, yaml_type
+from builder.catalogue.reader import EntryReader, describe, open_entry, short, yaml_type
 from builder.catalogue.versions import UNRELEASED, version_problem
 from builder.errors import Problem
 
@@ -20,15 +20,13 @@ _BASE_URL = re.compile(r"https?://[A-Za-z0-9.-]+(?::[0-9]{1,5})?(?:/[A-Za-z0-9._
 
 
 def check_record(raw: RawFile, problems: list[Problem]) -> Record | None:
-    doc = EntryReader(raw.path, problems)
-    if raw.root is None:
+    """The record's description, or None after recording what is wrong with it."""
+    opened = open_entry(raw.path, raw.root, problems, RECORD)
+    if opened is None:
         return None
-    f = doc.fields(raw.root, (), RECORD)
-    if f is None:
-        return None
-    title = doc.text(f["title"], ("title",), one_line=True) if "title" in f else None
-    description = doc.text(f["description"], ("description",)) if "description" in f else None
-    maintainers = doc.text(f["maintainers"], ("maintainers",), one_line=True) if "maintainers" in f else None
+    doc, f = opened
+    v = doc.values(f, RECORD)
+    title, description, maintainers = v.get("title"), v.get("description"), v.get("maintainers")
     licence = _record_licence(doc, f["licence"]) if "licence" in f else None
     base_url = _record_base_url(doc, f["base_url"]) if "base_url" in f else None
     version = _record_version(doc, f["version"]) if "version" in f else None
