@@ -33,55 +33,45 @@ except AttributeError:  # pragma: no cover - depends on the PyYAML build
 
 
 class Node:
-    """A YAML node with its 1-based position."""
+    """A YAML node with its 1-based position; ``KIND`` names it in messages."""
 
     __slots__ = ("line", "column")
+    KIND = "node"
     line: int
     column: int
-
-    def kind(self) -> str:
-        raise NotImplementedError
 
 
 class Scalar(Node):
     """A scalar's text, and whether it was written plain (unquoted, not a block)."""
 
     __slots__ = ("value", "plain")
+    KIND = "scalar"
 
     def __init__(self, value: str, plain: bool, line: int, column: int) -> None:
-        self.value = value
-        self.plain = plain
-        self.line = line
-        self.column = column
-
-    def kind(self) -> str:
-        return "scalar"
+        self.value, self.plain = value, plain
+        self.line, self.column = line, column
 
 
 class SequenceNode(Node):
+    """Items in document order."""
+
     __slots__ = ("items",)
+    KIND = "list"
 
     def __init__(self, line: int, column: int) -> None:
         self.items: list[Node] = []
-        self.line = line
-        self.column = column
-
-    def kind(self) -> str:
-        return "list"
+        self.line, self.column = line, column
 
 
 class MappingNode(Node):
     """Keys map to (key node, value node), in document order."""
 
     __slots__ = ("entries",)
+    KIND = "mapping"
 
     def __init__(self, line: int, column: int) -> None:
         self.entries: dict[str, tuple[Scalar, Node]] = {}
-        self.line = line
-        self.column = column
-
-    def kind(self) -> str:
-        return "mapping"
+        self.line, self.column = line, column
 
 
 def _problem(path: Path, line: int, column: int, message: str, code: str) -> Problem:
@@ -221,7 +211,7 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
                 if type(node) is not Scalar:
                     problems.append(
                         _problem(
-                            path, node.line, node.column, f"expected a plain text key, got a {node.kind()}", "yaml"
+                            path, node.line, node.column, f"expected a plain text key, got a {node.KIND}", "yaml"
                         )
                     )
                     key = Scalar("", True, node.line, node.column)
