@@ -22,7 +22,7 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
 from builder.arith.dynamics import AffineMap  # noqa: E402
-from builder.search.definition import DEFAULT_MAX_BITS, DEFAULT_MAX_STEPS, HuntResult, hunt  # noqa: E402
+from builder.search.definition import HUNT_MAX_BITS, HUNT_MAX_STEPS, HuntResult, hunt  # noqa: E402
 from builder.search.engine import hunt_range  # noqa: E402
 
 GOAL = 1_000_000
@@ -52,11 +52,9 @@ def main(argv: list[str] | None = None) -> int:
     print(f"{'map':<10} {'vectorised':>14} {'exact':>12} {'ratio':>7}  cycles  unresolved")
     for d in (1, 97, 1001):
         mapping = AffineMap(2, ((1, 0), (3, d)))
-        fast_time, fast = timed(
-            args.repeat, lambda mp=mapping: hunt_range(mp, 0, n, DEFAULT_MAX_STEPS, DEFAULT_MAX_BITS)
-        )
-        exact_time, exact = timed(1, lambda mp=mapping: hunt(mp, m, DEFAULT_MAX_STEPS, DEFAULT_MAX_BITS))
-        common = hunt_range(mapping, 0, m, DEFAULT_MAX_STEPS, DEFAULT_MAX_BITS)
+        fast_time, fast = timed(args.repeat, lambda mp=mapping: hunt_range(mp, 0, n, HUNT_MAX_STEPS, HUNT_MAX_BITS))
+        exact_time, exact = timed(1, lambda mp=mapping: hunt(mp, m, HUNT_MAX_STEPS, HUNT_MAX_BITS))
+        common = hunt_range(mapping, 0, m, HUNT_MAX_STEPS, HUNT_MAX_BITS)
         assert common == exact, f"3x+{d}: the engines disagree on |n| <= {m}"
         assert set(exact.cycles) <= set(fast.cycles), f"3x+{d}: a cycle found below {m} is missing"
         fast_rate, exact_rate = starts / fast_time, exact_starts / exact_time

@@ -32,7 +32,7 @@ sys.path.insert(0, str(ROOT / "scripts"))
 from make_starter import write_3x_plus_d_map  # noqa: E402
 
 from builder.arith.dynamics import AffineMap  # noqa: E402
-from builder.catalogue.draft import cycle_file_id, entry_text  # noqa: E402
+from builder.catalogue.entries import cycle_file_id, entry_text  # noqa: E402
 from builder.catalogue.verify import Limits, verify_catalogue  # noqa: E402
 from builder.search.definition import hunt  # noqa: E402
 

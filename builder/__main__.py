@@ -4,6 +4,8 @@ import sys
 
 from builder.commands import main
 
+__all__ = []
+
 # Guarded so that worker processes started by ``spawn`` (periplus hunt) do not run the command again.
 if __name__ == "__main__":
     sys.exit(main())

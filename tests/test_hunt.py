@@ -21,6 +21,8 @@ from builder.arith.dynamics import AffineMap, CycleFound
 from builder.catalogue.entries import cycle_file_id, entry_text
 from builder.catalogue.verify import verify_catalogue
 from builder.commands import hunt as huntcli
+from builder.commands.main import execute
+from builder.search import definition, survey
 from builder.search import engine as _fastiter
 from builder.search.definition import HuntResult, hunt, merge_results
 
@@ -164,13 +166,13 @@ def test_the_vectorised_path_decides_ordinary_starts(monkeypatch: pytest.MonkeyP
     # far beyond this range: Oliveira e Silva 1999 via literature.md; the negative side ends in the
     # cycles through -1, -5, -17, Lagarias 1985, memory): none needs the exact path.
     calls: list[int] = []
-    real = _fastiter.settle
+    real = definition.settle
 
     def counting(mapping: AffineMap, start: int, max_steps: int, max_bits: int) -> object:
         calls.append(start)
         return real(mapping, start, max_steps, max_bits)
 
-    monkeypatch.setattr(_fastiter, "settle", counting)
+    monkeypatch.setattr(definition, "settle", counting)
     result = _fastiter.hunt_range(MAPS["3x+1"], 0, 5000, 100_000, 4096, tail=0)
     assert calls == []
     assert list(result.cycles) == [0, 1, -1, -5, -17]
@@ -217,13 +219,13 @@ def test_3x_plus_1_engine_to_10_000() -> None:
 def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(prog="periplus")
     sub = parser.add_subparsers(dest="command", required=True)
-    huntcli.add_hunt_command(sub)
+    huntcli.register(sub)
     return parser
 
 
 def run(capsys: pytest.CaptureFixture[str], *argv: str | Path) -> tuple[int, str, str]:
     args = _parser().parse_args(["hunt", *map(str, argv)])
-    code = args.run(args)
+    code = execute(args)
     captured = capsys.readouterr()
     return code, captured.out, captured.err
 
@@ -344,7 +346,7 @@ def test_an_interrupted_run_can_be_resumed(capsys: pytest.CaptureFixture[str], t
 
 
 def _interrupt_on_call(mp: pytest.MonkeyPatch, n: int) -> None:
-    real = huntcli._work
+    real = survey._work
     calls = []
 
     def work(task: tuple[AffineMap, int, int, int, int]) -> HuntResult:
@@ -353,7 +355,7 @@ def _interrupt_on_call(mp: pytest.MonkeyPatch, n: int) -> None:
             raise KeyboardInterrupt
         return real(task)
 
-    mp.setattr(huntcli, "_work", work)
+    mp.setattr(survey, "_work", work)
 
 
 def test_ctrl_c_reports_what_was_covered_and_exits_130(
@@ -361,7 +363,7 @@ def test_ctrl_c_reports_what_was_covered_and_exits_130(
 ) -> None:
     # The third chunk of the run raises KeyboardInterrupt, as Ctrl-C would: the first two are
     # covered, the cycles they met are reported, and the rest of the range is named as not covered.
-    chunks = huntcli._chunks(0, 400, 1)
+    chunks = survey.chunks(0, 400, 1)
     assert len(chunks) >= 4 and chunks[0][0] == 0
     done = chunks[1][1]
     _interrupt_on_call(monkeypatch, 3)

@@ -34,7 +34,8 @@ from conftest import PROVENANCE, VALID, Run
 
 from builder.arith.dynamics import AffineMap, CycleFound, trace
 from builder.catalogue.verify import verify_catalogue
-from builder.commands.review import add_review_command
+from builder.commands import review as review_command
+from builder.commands.main import execute
 from builder.diff import Change, compare, coverage_bounds, workflow_command
 from builder.search.definition import hunt
 
@@ -148,17 +149,17 @@ def repo(tmp_path: Path) -> Repo:
 
 @pytest.fixture
 def review(capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch) -> Callable[..., Run]:
-    """Run ``review`` through builder.review's own subcommand (as cli.py wires it), with captured output."""
+    """Run ``review`` through its own command module (as builder.commands.main wires it), with captured output."""
 
     def run(*argv: str, cwd: Path | None = None) -> Run:
         if cwd is not None:
             monkeypatch.chdir(cwd)
         parser = argparse.ArgumentParser(prog="periplus")
-        add_review_command(parser.add_subparsers(dest="command", required=True))
+        review_command.register(parser.add_subparsers(dest="command", required=True))
         capsys.readouterr()
         try:
             args = parser.parse_args(["review", *argv])
-            code = args.run(args)
+            code = execute(args)
         except SystemExit as exc:
             code = exc.code if isinstance(exc.code, int) else 2
         captured = capsys.readouterr()
@@ -562,7 +563,7 @@ def test_compare_is_a_function_of_the_two_reports(catalogue: Callable[..., Path]
 
 
 def test_review_through_the_command_line(catalogue: Callable[..., Path], cli: Callable[..., Run]) -> None:
-    # Once cli.py wires add_review_command in, ``periplus review`` is this module's command.
+    # ``periplus review`` is the review command module, wired in by builder.commands.main.
     base = catalogue()
     head = catalogue(files={"maps/3x-plus-5.yaml": MAP_3X_PLUS_5, "cycles/3x-plus-5/through-19.yaml": cycle_19_text(4)})
     run = cli("review", "--format", "github", str(base), str(head))

@@ -19,36 +19,40 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import NamedTuple
 
 import gmpy2
 
-from builder.arith.integers import show
+from builder.arith.integers import MPZ_BITS, show
 
 __all__ = [
     "AffineMap",
     "CycleFound",
     "EntersCycle",
     "Equation",
-    "Outcome",
+    "TRACE_BASE_BITS",
+    "TraceOutcome",
     "Unresolved",
+    "Walk",
     "branch_defects",
     "canonical_index",
+    "cycle_entry",
     "cycle_equation",
     "default_max_bits",
     "from_canonical",
     "shortcut_form",
     "trace",
+    "walk",
 ]
 
 # Check the magnitude (and switch to mpz) every this many steps: checking
 # every step would cost more than the step itself for small values.
 _CHECK_EVERY = 256
-_MPZ_BITS = 4096
 # Stop keeping members of a long orbit once they would take this many bits
 # in all; they are recomputed if the orbit turns out to be a cycle.
 _MEMBER_BITS_BUDGET = 1 << 31
-#: Default magnitude bound, in bits, for members during a trace.
-BASE_MAX_BITS = 65536
+#: The base of a trace's default magnitude bound, in bits (``default_max_bits`` adds to it).
+TRACE_BASE_BITS = 65536
 
 
 def branch_defects(modulus: int, branches: Sequence[tuple[int, int]]) -> list[tuple[int, str]]:
@@ -130,7 +134,8 @@ class Unresolved:
     bits: int  # bit length of the last member computed
 
 
-Outcome = CycleFound | EntersCycle | Unresolved
+#: What ``trace`` says of an orbit.
+TraceOutcome = CycleFound | EntersCycle | Unresolved
 
 
 def canonical_index(members: Sequence[int]) -> int:
@@ -162,35 +167,50 @@ def default_max_bits(mapping: AffineMap, start: int) -> int:
     It grows with the size of the data so that a catalogued cycle of huge
     members is never rejected merely for being large.
     """
-    return BASE_MAX_BITS + 8 * max(abs(start).bit_length(), mapping.max_constant_bits())
+    return TRACE_BASE_BITS + 8 * max(abs(start).bit_length(), mapping.max_constant_bits())
 
 
-def _steps(mapping: AffineMap, n: int, count: int) -> int:
+class Walk(NamedTuple):
+    """``steps`` steps of an orbit: the members v_0 .. v_(steps-1), their residues, and v_steps."""
+
+    members: tuple[int, ...]
+    word: tuple[int, ...]
+    end: int
+
+
+def walk(mapping: AffineMap, start: int, steps: int, *, record: bool = True) -> Walk:
+    """Follow the orbit of ``start`` for ``steps`` steps exactly; the one orbit walker of Periplus.
+
+    With ``record`` false only ``end`` is kept (members and word are empty).
+    """
     m = mapping.modulus
     br = mapping.branches
-    for _ in range(count):
-        a, b = br[n % m]
-        n = (a * n + b) // m
-    return n
-
-
-def _members(mapping: AffineMap, start: int, length: int) -> tuple[list[int], list[int]]:
-    """Return the first ``length`` members and residues of the orbit of ``start``."""
-    m = mapping.modulus
-    br = mapping.branches
-    members = []
-    word = []
-    n = gmpy2.mpz(start) if abs(start).bit_length() > _MPZ_BITS else start
-    for _ in range(length):
-        members.append(int(n))
+    members: list[int] = []
+    word: list[int] = []
+    n = gmpy2.mpz(start) if abs(start).bit_length() > MPZ_BITS else start
+    for _ in range(steps):
         r = int(n % m)
-        word.append(r)
+        if record:
+            members.append(int(n))
+            word.append(r)
         a, b = br[r]
         n = (a * n + b) // m
-    return members, word
+    return Walk(tuple(members), tuple(word), int(n))
 
 
-def trace(mapping: AffineMap, start: int, max_steps: int, max_bits: int | None = None) -> Outcome:
+def cycle_entry(mapping: AffineMap, start: int, period: int) -> tuple[int, int]:
+    """Where the orbit of ``start`` enters the cycle of length ``period`` it reaches: (steps before, member)."""
+    lead = walk(mapping, start, period, record=False).end
+    trail = start
+    steps = 0
+    while trail != lead:
+        trail = mapping(trail)
+        lead = mapping(lead)
+        steps += 1
+    return steps, trail
+
+
+def trace(mapping: AffineMap, start: int, max_steps: int, max_bits: int | None = None) -> TraceOutcome:
     """Iterate T exactly from ``start`` and classify its orbit.
 
     Returns CycleFound if the orbit returns to ``start`` within ``max_steps``
@@ -219,9 +239,8 @@ def trace(mapping: AffineMap, start: int, max_steps: int, max_bits: int | None =
         step += 1
         word.append(r)
         if n == start:
-            if members is None:
-                members, _ = _members(mapping, start, step)
-            return CycleFound(tuple(int(v) for v in members), tuple(word))
+            kept = walk(mapping, start, step).members if members is None else tuple(int(v) for v in members)
+            return CycleFound(kept, tuple(word))
         if n == tortoise:
             return _enters(mapping, start, step - tortoise_at)
         if members is not None:
@@ -234,7 +253,7 @@ def trace(mapping: AffineMap, start: int, max_steps: int, max_bits: int | None =
             bits = n.bit_length()
             if bits > max_bits:
                 return Unresolved(step, "magnitude", bits)
-            if not big and bits > _MPZ_BITS:
+            if not big and bits > MPZ_BITS:
                 big = True
                 n = gmpy2.mpz(n)
                 br = tuple((gmpy2.mpz(a), gmpy2.mpz(b)) for a, b in br)
@@ -247,15 +266,9 @@ def trace(mapping: AffineMap, start: int, max_steps: int, max_bits: int | None =
 
 def _enters(mapping: AffineMap, start: int, period: int) -> EntersCycle:
     """Locate where the orbit of ``start`` enters its cycle of the given period."""
-    lead = _steps(mapping, start, period)
-    trail = start
-    steps = 0
-    while trail != lead:
-        trail = mapping(trail)
-        lead = mapping(lead)
-        steps += 1
-    members, word = _members(mapping, trail, period)
-    return EntersCycle(steps, CycleFound(tuple(members), tuple(word)))
+    steps, entry = cycle_entry(mapping, start, period)
+    cycle = walk(mapping, entry, period)
+    return EntersCycle(steps, CycleFound(cycle.members, cycle.word))
 
 
 @dataclass(frozen=True, slots=True)
@@ -319,7 +332,7 @@ def cycle_equation(mapping: AffineMap, word: Sequence[int]) -> Equation:
         mid = (lo + hi) // 2
         a1, b1, m1 = combine(lo, mid)
         a2, b2, m2 = combine(mid, hi)
-        if max(a1.bit_length(), b1.bit_length()) > _MPZ_BITS:
+        if max(a1.bit_length(), b1.bit_length()) > MPZ_BITS:
             a1, b1, m1 = gmpy2.mpz(a1), gmpy2.mpz(b1), gmpy2.mpz(m1)
         return int(a2 * a1), int(a2 * b1 + b2 * m1), int(m1 * m2)
 

@@ -14,11 +14,14 @@ import re
 
 import gmpy2
 
-__all__ = ["DECIMAL_INTEGER", "parse_decimal", "show", "to_decimal"]
+__all__ = ["DECIMAL_INTEGER", "MPZ_BITS", "parse_decimal", "show", "to_decimal"]
 
 #: A decimal integer as the catalogue accepts it: optional sign, no leading
 #: zeros (YAML 1.1 reads ``017`` as octal), no underscores.
 DECIMAL_INTEGER = re.compile(r"[-+]?(?:0|[1-9][0-9]*)")
+
+#: Past this many bits gmpy2's arithmetic beats Python's: iteration switches to mpz there.
+MPZ_BITS = 4096
 
 # Safely below CPython's default limit of 4,300 digits (about 14,284 bits).
 _SMALL_DIGITS = 4000

@@ -3,7 +3,7 @@
 For a 2-branch map T(n) = (a_0 n + b_0)/m or (a_1 n + b_1)/m, a word of length
 k with x letters 1 gives T^k(n) = (A n + B)/m^k with A = a_0^(k-x) a_1^x, so a
 cycle with that word starts at B / (m^k - A).  Distinct cycles correspond to
-aperiodic necklaces, L(k, x) of them (Moreau's formula, builder.words).  The
+aperiodic necklaces, L(k, x) of them (Moreau's formula, builder.arith.words).  The
 heuristic treats each of the L offsets B as a random residue modulo the
 target |m^k - A|: a word gives an integer cycle with probability g/|target|,
 where g = gcd(target, d) for qx+d maps (B is always a multiple of d there,
@@ -20,7 +20,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 from math import gcd
 
-from builder.arith.dynamics import AffineMap
+from builder.arith.dynamics import AffineMap, shortcut_form
 from builder.arith.words import aperiodic_necklace_count
 
 __all__ = ["Odds", "length_odds", "odds_table"]
@@ -53,9 +53,10 @@ def odds_table(mapping: AffineMap, k: int) -> list[Odds]:
     """The model for every x = 0..k at length k (2-branch maps only)."""
     if mapping.modulus != 2:
         raise ValueError(f"expected a map with 2 branches, got modulus {mapping.modulus}")
-    (a0, b0), (a1, b1) = mapping.branches
+    (a0, _), (a1, _) = mapping.branches
     # For n/2, (qn + d)/2 maps every offset B is a multiple of d.
-    d = abs(b1) if (a0, b0) == (1, 0) and b1 % 2 and a1 % 2 else 1
+    form = shortcut_form(mapping)
+    d = abs(form[1]) if form is not None else 1
     rows = []
     for x in range(k + 1):
         target = 2**k - a0 ** (k - x) * a1**x

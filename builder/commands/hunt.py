@@ -4,7 +4,7 @@
                   [--max-steps S] [--max-bits B] [--save FILE] [--merge FILE ...] [--drafts DIR]
 
 Every start n with A <= |n| <= B (by default 0 <= |n| <= N) is decided as
-builder.hunt defines it; the range is cut into chunks shared by J processes
+builder.search.definition defines it; the range is cut into chunks shared by J processes
 and the chunks' results are merged by union, so the output is the same for
 any J.  --from/--to restrict the magnitudes this run covers to a slice of
 0..N; N still decides which cycles count as "beyond the bound".  --save
@@ -15,6 +15,8 @@ cycle the catalogue does not have yet.
 
 Exit status: 0 on success, 1 when the catalogue does not verify, 2 for
 usage errors, 130 when interrupted (after reporting what was covered).
+The search itself (chunks, processes, saved files) is builder.search.survey;
+this module parses the arguments, shows progress and writes the report.
 """
 
 from __future__ import annotations
@@ -22,51 +24,44 @@ from __future__ import annotations
 import argparse
 import datetime as _dt
 import difflib
-import json
-import multiprocessing
 import os
-import signal
 import sys
 import time
-from collections.abc import Iterable
-from dataclasses import dataclass, field
 from pathlib import Path
-from typing import IO, Any
+from typing import IO
 
 from builder.arith.dynamics import AffineMap, CycleFound
-from builder.arith.integers import parse_decimal, show, to_decimal
+from builder.arith.integers import show
 from builder.catalogue.entries import cycle_file_id, entry_text
 from builder.catalogue.model import PLACEHOLDER, Cycle
 from builder.catalogue.verify import Limits, verify_catalogue
-from builder.commands.options import natural, positive
-from builder.errors import PeriplusError, UsageError
-from builder.search import engine as _fastiter
-from builder.search.definition import (
-    DEFAULT_MAX_BITS,
-    DEFAULT_MAX_STEPS,
-    HuntResult,
-    canonical_member,
-    cycle_at,
-    merge_results,
-    order_key,
+from builder.commands.options import Subcommands, natural, positive
+from builder.errors import UsageError
+from builder.search.definition import HUNT_MAX_BITS, HUNT_MAX_STEPS
+from builder.search.survey import (
+    SavedSurveyError,
+    Survey,
+    SurveyMismatch,
+    cover,
+    merge_surveys,
+    save_survey,
+    starts_in,
 )
 
-__all__ = ["add_hunt_command", "run_hunt"]
+__all__ = ["register", "run"]
 
-FORMAT = "periplus-hunt/1"
 FOUND_BY_PLACEHOLDER = f"{PLACEHOLDER}: who found it"
 UNRESOLVED_SHOWN = 50
-# Chunks: at most this many magnitudes each, and about this many per process.
-_CHUNK_MAX = 1 << 16
-_CHUNKS_PER_JOB = 16
+#: What ``periplus`` says when Ctrl-C stops a hunt outside the search itself (the search reports its own).
+INTERRUPTED = "interrupted before any start was covered"
 
 
 # --- arguments -----------------------------------------------------------------------------
 
 
-def add_hunt_command(subparsers: Any) -> argparse.ArgumentParser:
-    """Add the ``hunt`` command to an argparse subparsers object; its ``run`` default is run_hunt."""
-    hunt: argparse.ArgumentParser = subparsers.add_parser(
+def register(subparsers: Subcommands) -> None:
+    """Add ``hunt`` to the subcommands of the ``periplus`` parser."""
+    hunt = subparsers.add_parser(
         "hunt",
         help="search a map for cycles among all starts up to a bound",
         description="Follow every start n with |n| up to a bound exactly and report the cycles met, "
@@ -98,97 +93,26 @@ def add_hunt_command(subparsers: Any) -> argparse.ArgumentParser:
     hunt.add_argument(
         "--max-steps",
         type=positive,
-        default=DEFAULT_MAX_STEPS,
+        default=HUNT_MAX_STEPS,
         metavar="S",
-        help=f"leave a start unresolved after S steps (default {DEFAULT_MAX_STEPS:,})",
+        help=f"leave a start unresolved after S steps (default {HUNT_MAX_STEPS:,})",
     )
     hunt.add_argument(
         "--max-bits",
         type=positive,
-        default=DEFAULT_MAX_BITS,
+        default=HUNT_MAX_BITS,
         metavar="B",
-        help=f"leave a start unresolved once a member exceeds B bits (default {DEFAULT_MAX_BITS:,})",
+        help=f"leave a start unresolved once a member exceeds B bits (default {HUNT_MAX_BITS:,})",
     )
     hunt.add_argument("--save", type=Path, metavar="FILE", help="write the result as JSON, for --merge")
     hunt.add_argument(
         "--merge", type=Path, nargs="+", metavar="FILE", help="report the union of saved results instead of hunting"
     )
     hunt.add_argument("--drafts", type=Path, metavar="DIR", help="write a catalogue entry under DIR for each new cycle")
-    hunt.set_defaults(run=run_hunt)
-    return hunt
+    hunt.set_defaults(run=run, interrupted=INTERRUPTED)
 
 
-# --- the result of a run, or of merged runs --------------------------------------------------
-
-
-@dataclass(slots=True)
-class Survey:
-    """Disjoint magnitude ranges covered for one map under one bound and limits, and what they gave."""
-
-    map_id: str
-    mapping: AffineMap
-    bound: int
-    max_steps: int
-    max_bits: int
-    ranges: list[tuple[int, int]] = field(default_factory=list)
-    cycles: dict[int, CycleFound] = field(default_factory=dict)
-    reasons: dict[int, str] = field(default_factory=dict)  # unresolved start -> "steps" | "magnitude"
-
-    def absorb(self, pieces: Iterable[HuntResult]) -> None:
-        """Add the results of ranges disjoint from those already covered (ValueError on overlap)."""
-        pieces = list(pieces)
-        joined = merge_results([HuntResult(hi, {}, [], lo) for lo, hi in self.ranges] + pieces)
-        for piece in pieces:
-            for c, cycle in piece.cycles.items():
-                self.cycles.setdefault(c, cycle)
-            for s in piece.unresolved:
-                self.reasons[s] = piece.reasons.get(s, "steps")
-        self.ranges = [(p.low, p.bound) for p in joined]
-        self.cycles = dict(sorted(self.cycles.items(), key=lambda kv: order_key(kv[0])))
-        self.reasons = {s: self.reasons[s] for s in sorted(self.reasons, key=order_key)}
-
-    def pieces(self) -> list[HuntResult]:
-        """The covered ranges as results, each with its unresolved starts (the cycles go with the first)."""
-        out = []
-        for i, (lo, hi) in enumerate(self.ranges):
-            starts = [s for s in self.reasons if lo <= abs(s) <= hi]
-            out.append(
-                HuntResult(hi, dict(self.cycles) if i == 0 else {}, starts, lo, {s: self.reasons[s] for s in starts})
-            )
-        return out
-
-    def gaps(self) -> list[tuple[int, int]]:
-        """Magnitude ranges of 0..bound not covered."""
-        out = []
-        at = 0
-        for lo, hi in self.ranges:
-            if lo > at:
-                out.append((at, lo - 1))
-            at = hi + 1
-        if at <= self.bound:
-            out.append((at, self.bound))
-        return out
-
-    def starts(self) -> int:
-        return sum(2 * (hi - lo + 1) - (lo == 0) for lo, hi in self.ranges)
-
-
-# --- running ---------------------------------------------------------------------------------
-
-
-def _ignore_sigint() -> None:
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-
-
-def _work(task: tuple[AffineMap, int, int, int, int]) -> HuntResult:
-    mapping, lo, hi, max_steps, max_bits = task
-    return _fastiter.hunt_range(mapping, lo, hi, max_steps, max_bits)
-
-
-def _chunks(low: int, high: int, jobs: int) -> list[tuple[int, int]]:
-    count = high - low + 1
-    size = max(1, min(_CHUNK_MAX, -(-count // (jobs * _CHUNKS_PER_JOB))))
-    return [(lo, min(high, lo + size - 1)) for lo in range(low, high + 1, size)]
+# --- progress ---------------------------------------------------------------------------------
 
 
 class _Progress:
@@ -221,166 +145,14 @@ class _Progress:
             self.stream.flush()
 
 
-def _starts_in(lo: int, hi: int) -> int:
-    return 2 * (hi - lo + 1) - (lo == 0)
-
-
-def _compute(survey: Survey, low: int, high: int, jobs: int, err: IO[str]) -> tuple[bool, dict[int, CycleFound]]:
-    """Hunt low..high into ``survey``; on Ctrl-C keep the contiguous prefix done.
-
-    Returns (interrupted, cycles found in chunks completed past that prefix).
-    """
-    chunks = _chunks(low, high, jobs)
-    tasks = [(survey.mapping, lo, hi, survey.max_steps, survey.max_bits) for lo, hi in chunks]
-    done: dict[int, HuntResult] = {}
-    progress = _Progress(err, sum(_starts_in(lo, hi) for lo, hi in chunks))
-    finished = 0
-    interrupted = False
-    try:
-        progress.update(0)
-        if jobs == 1 or len(tasks) == 1:
-            for i, task in enumerate(tasks):
-                done[i] = _work(task)
-                finished += _starts_in(*chunks[i])
-                progress.update(finished)
-        else:
-            # fork where the platform has it: children start at once and need not re-import the
-            # entry script (spawn would re-run one that lacks an ``if __name__ == "__main__"`` guard).
-            method = "fork" if "fork" in multiprocessing.get_all_start_methods() else "spawn"
-            context = multiprocessing.get_context(method)
-            with context.Pool(min(jobs, len(tasks)), initializer=_ignore_sigint) as pool:
-                try:
-                    for i, result in pool.imap_unordered(_indexed, enumerate(tasks)):
-                        done[i] = result
-                        finished += _starts_in(*chunks[i])
-                        progress.update(finished)
-                except BaseException:
-                    pool.terminate()
-                    raise
-    except KeyboardInterrupt:
-        interrupted = True
-    finally:
-        progress.close()
-    prefix = []
-    for i in range(len(tasks)):
-        if i not in done:
-            break
-        prefix.append(done.pop(i))
-    survey.absorb(prefix)
-    extra: dict[int, CycleFound] = {}
-    for result in done.values():
-        for c, cycle in result.cycles.items():
-            if c not in survey.cycles:
-                extra.setdefault(c, cycle)
-    return interrupted, dict(sorted(extra.items(), key=lambda kv: order_key(kv[0])))
-
-
-def _indexed(item: tuple[int, tuple[AffineMap, int, int, int, int]]) -> tuple[int, HuntResult]:
-    return item[0], _work(item[1])
-
-
-# --- saving and merging ----------------------------------------------------------------------
-
-
-def _save(survey: Survey, path: Path) -> None:
-    data = {
-        "format": FORMAT,
-        "map": {
-            "id": survey.map_id,
-            "modulus": to_decimal(survey.mapping.modulus),
-            "branches": [
-                {"residue": i, "multiplier": to_decimal(a), "increment": to_decimal(b)}
-                for i, (a, b) in enumerate(survey.mapping.branches)
-            ],
-        },
-        "bound": to_decimal(survey.bound),
-        "limits": {"max_steps": survey.max_steps, "max_bits": survey.max_bits},
-        "covered": [{"from": to_decimal(lo), "to": to_decimal(hi)} for lo, hi in survey.ranges],
-        "cycles": [
-            {
-                "canonical": to_decimal(c),
-                "length": len(cycle.members),
-                "members": [to_decimal(v) for v in cycle.members],
-            }
-            for c, cycle in survey.cycles.items()
-        ],
-        "unresolved": [{"start": to_decimal(s), "reason": r} for s, r in survey.reasons.items()],
-    }
-    path.write_text(json.dumps(data, indent=1) + "\n", encoding="utf-8")
-
-
-def _load(path: Path) -> Survey:
-    """Read a saved result, checking every cycle in it by exact iteration."""
-
-    def bad(why: str) -> UsageError:
-        return UsageError(f"{path}: not a saved hunt result: {why}")
-
-    try:
-        data = json.loads(path.read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise UsageError(f"{path}: cannot read: {exc.strerror}") from None
-    except (ValueError, UnicodeDecodeError) as exc:
-        raise bad(f"invalid JSON ({exc})") from None
-    try:
-        if data["format"] != FORMAT:
-            raise bad(f"expected format '{FORMAT}', got {data['format']!r}")
-        spec = data["map"]
-        branches = {
-            int(b["residue"]): (parse_decimal(b["multiplier"]), parse_decimal(b["increment"])) for b in spec["branches"]
-        }
-        modulus = parse_decimal(spec["modulus"])
-        mapping = AffineMap(modulus, tuple(branches[r] for r in range(modulus)))
-        survey = Survey(
-            str(spec["id"]),
-            mapping,
-            parse_decimal(data["bound"]),
-            int(data["limits"]["max_steps"]),
-            int(data["limits"]["max_bits"]),
-        )
-        pieces = [HuntResult(parse_decimal(r["to"]), {}, [], parse_decimal(r["from"])) for r in data["covered"]]
-        for item in data["cycles"]:
-            members = tuple(parse_decimal(v) for v in item["members"])
-            canonical = parse_decimal(item["canonical"])
-            if not members or members[0] != canonical or canonical_member(members) != canonical:
-                raise bad(f"cycle {show(canonical)}: members must start at the least |member|")
-            cycle = cycle_at(mapping, canonical, len(members))
-            if cycle.members != members or int(item["length"]) != len(members):
-                raise bad(f"cycle {show(canonical)}: the members are not an orbit of the map")
-            pieces[0].cycles[canonical] = cycle
-        for item in data["unresolved"]:
-            s = parse_decimal(item["start"])
-            reason = str(item["reason"])
-            home = [p for p in pieces if p.low <= abs(s) <= p.bound]
-            if not home or reason not in ("steps", "magnitude"):
-                raise bad(f"unresolved start {show(s)}: outside the covered ranges, or an unknown reason")
-            home[0].unresolved.append(s)
-            home[0].reasons[s] = reason
-        survey.absorb(pieces)
-    except UsageError:
-        raise
-    except (KeyError, TypeError, ValueError, IndexError, AssertionError) as exc:
-        raise bad(f"{type(exc).__name__}: {exc}") from None
-    return survey
-
-
 def _merge(paths: list[Path]) -> Survey:
-    surveys = [_load(p) for p in paths]
-    first = surveys[0]
-    for path, other in zip(paths[1:], surveys[1:], strict=True):
-        for what, mine, theirs in (
-            ("map", first.map_id, other.map_id),
-            ("map definition", first.mapping, other.mapping),
-            ("bound", first.bound, other.bound),
-            ("max_steps", first.max_steps, other.max_steps),
-            ("max_bits", first.max_bits, other.max_bits),
-        ):
-            if mine != theirs:
-                raise UsageError(f"--merge: {path} has a different {what} from {paths[0]} ({theirs} against {mine})")
-        try:
-            first.absorb(other.pieces())
-        except ValueError as exc:
-            raise UsageError(f"--merge: {path}: {exc}") from None
-    return first
+    """The union of saved surveys; a file that is none, or files that do not join, are usage errors."""
+    try:
+        return merge_surveys(paths)
+    except SurveyMismatch as exc:
+        raise UsageError(f"--merge: {exc}") from None
+    except SavedSurveyError as exc:
+        raise UsageError(str(exc)) from None
 
 
 # --- the report ------------------------------------------------------------------------------
@@ -550,16 +322,9 @@ def _write_drafts(survey: Survey, known: dict[int, Cycle], folder: Path, out: IO
 # --- the command -----------------------------------------------------------------------------
 
 
-def run_hunt(args: argparse.Namespace) -> int:
+def run(args: argparse.Namespace) -> int:
     """Run ``periplus hunt`` with parsed arguments; return the exit status."""
-    try:
-        return _run(args, sys.stdout, sys.stderr)
-    except PeriplusError as exc:
-        print(f"periplus: error: {exc}", file=sys.stderr)
-        return exc.exit_code
-    except KeyboardInterrupt:
-        print("periplus: interrupted before any start was covered", file=sys.stderr)
-        return 130
+    return _run(args, sys.stdout, sys.stderr)
 
 
 def _run(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
@@ -601,7 +366,12 @@ def _run(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
                 f"hunt: expected 0 <= --from <= --to <= --bound, got {_n(low)}, {_n(high)}, {_n(args.bound)}"
             )
         survey = Survey(args.map, entry.dynamics, args.bound, args.max_steps, args.max_bits)
-        interrupted, extra = _compute(survey, low, high, args.jobs, err)
+        progress = _Progress(err, starts_in(low, high))
+        try:
+            coverage = cover(survey, low, high, args.jobs, progress.update)
+        finally:
+            progress.close()
+        interrupted, extra = coverage.interrupted, coverage.met_past_prefix
     known = {c.canonical: c for c in report.catalogue.cycles.get(survey.map_id, ())}
     _report(survey, known, out, args.save)
     if interrupted:
@@ -614,7 +384,7 @@ def _run(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
             listed = ", ".join(show(c) for c in extra)
             print(f"also met in chunks finished past that range (not part of the result): {listed}", file=out)
     if args.save is not None:
-        _save(survey, args.save)
+        save_survey(survey, args.save)
         print(f"saved to {args.save}", file=out)
     if args.drafts is not None:
         _write_drafts(survey, known, args.drafts, out)

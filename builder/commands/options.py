@@ -1,14 +1,23 @@
-"""Command-line argument types and options shared by the periplus commands."""
+"""Command-line argument types and options shared by the periplus commands.
+
+Every command is a module of builder.commands with ``register(subparsers: Subcommands) -> None``,
+which adds its parser and sets ``run`` (a function of the parsed arguments returning the exit status)
+as that parser's default; builder.commands.main runs it and handles errors for all of them.
+"""
 
 from __future__ import annotations
 
 import argparse
 from pathlib import Path
+from typing import TypeAlias
 
 from builder.arith.integers import parse_decimal
 from builder.catalogue.verify import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, Limits
 
-__all__ = ["add_catalogue", "add_limits", "limits_of", "natural", "positive"]
+__all__ = ["Subcommands", "add_catalogue", "add_limits", "limits_of", "natural", "positive"]
+
+#: What ``register`` receives: the subcommands of the ``periplus`` parser.
+Subcommands: TypeAlias = "argparse._SubParsersAction[argparse.ArgumentParser]"
 
 
 def _at_least(text: str, least: int, what: str) -> int:
@@ -42,6 +51,7 @@ def add_catalogue(parser: argparse.ArgumentParser, positional: bool = True) -> N
 
 
 def limits_of(args: argparse.Namespace) -> Limits:
+    """The verification limits given by add_limits' options."""
     return Limits(args.max_steps, args.max_bits, args.recheck_up_to)
 
 

@@ -5,20 +5,19 @@ from __future__ import annotations
 import argparse
 import sys
 from pathlib import Path
-from typing import Any
 
 from builder.catalogue import Report, verify_catalogue, verify_source
-from builder.commands.options import add_limits, limits_of
+from builder.commands.options import Subcommands, add_limits, limits_of
 from builder.diff import compare, github_commands, render_markdown
-from builder.errors import NoCatalogueAtRevision, PeriplusError, UsageError
+from builder.errors import NoCatalogueAtRevision, UsageError
 from builder.history.revisions import catalogue_path, empty_source, repository_top, revision_source
 
-__all__ = ["add_review_command", "run_review"]
+__all__ = ["register", "run"]
 
 
-def add_review_command(subparsers: Any) -> argparse.ArgumentParser:
+def register(subparsers: Subcommands) -> None:
     """Add ``review`` to the subcommands of the ``periplus`` parser."""
-    review: argparse.ArgumentParser = subparsers.add_parser(
+    review = subparsers.add_parser(
         "review",
         help="report what a pull request changes in the catalogue and whether it holds",
         description="Verify the catalogues BASE and HEAD and report, entry by entry, what HEAD adds, changes, "
@@ -46,8 +45,7 @@ def add_review_command(subparsers: Any) -> argparse.ArgumentParser:
         help="github: print a GitHub Actions ::error command per problem before the Markdown",
     )
     add_limits(review)
-    review.set_defaults(run=run_review)
-    return review
+    review.set_defaults(run=run)
 
 
 def _reports(args: argparse.Namespace) -> tuple[Report, Report, str, str, str]:
@@ -75,13 +73,9 @@ def _reports(args: argparse.Namespace) -> tuple[Report, Report, str, str, str]:
     return base, head, catalogue_path(path).as_posix(), base_label, args.head
 
 
-def run_review(args: argparse.Namespace) -> int:
+def run(args: argparse.Namespace) -> int:
     """Run ``periplus review``; return the exit status."""
-    try:
-        base, head, prefix, base_label, head_label = _reports(args)
-    except PeriplusError as exc:
-        print(f"periplus: error: {exc}", file=sys.stderr)
-        return exc.exit_code
+    base, head, prefix, base_label, head_label = _reports(args)
     comparison = compare(base, head)
     if args.format == "github":
         for line in github_commands(comparison, prefix):

@@ -47,7 +47,7 @@ least power of two >= max_steps; past max_steps the values are only cycle
 members already seen, so any value that would have been an event proves
 there is no such repeat.  See ``settle``.
 
-This module imports neither YAML nor Jinja.  ``builder._fastiter`` decides
+This module imports neither YAML nor Jinja.  ``builder.search.engine`` decides
 the same fates much faster with numpy; this module is the reference.
 """
 
@@ -58,25 +58,27 @@ from dataclasses import dataclass, field
 
 import gmpy2
 
-from builder.arith.dynamics import AffineMap, CycleFound, Unresolved, canonical_index
+from builder.arith.dynamics import AffineMap, CycleFound, Unresolved, canonical_index, cycle_entry, walk
+from builder.arith.integers import MPZ_BITS
 
 __all__ = [
-    "DEFAULT_MAX_BITS",
-    "DEFAULT_MAX_STEPS",
+    "HUNT_MAX_BITS",
+    "HUNT_MAX_STEPS",
     "HuntResult",
     "canonical_member",
     "cycle_at",
     "hunt",
+    "hunt_result",
     "merge_results",
     "order_key",
     "settle",
+    "settle_all",
     "starts_of",
 ]
 
-DEFAULT_MAX_STEPS = 100_000
-DEFAULT_MAX_BITS = 4096
-# Past this size gmpy2's arithmetic beats Python's.
-_MPZ_BITS = 4096
+#: A hunt's default limits per start (a verification's step limit is builder.catalogue.verify.DEFAULT_MAX_STEPS).
+HUNT_MAX_STEPS = 100_000
+HUNT_MAX_BITS = 4096
 
 
 def order_key(v: int) -> tuple[int, bool]:
@@ -92,20 +94,10 @@ def canonical_member(members: Iterable[int]) -> int:
 
 def cycle_at(mapping: AffineMap, start: int, length: int) -> CycleFound:
     """The cycle of the given length through ``start``, read from ``start`` (exact iteration)."""
-    m = mapping.modulus
-    br = mapping.branches
-    members = []
-    word = []
-    n = start
-    for _ in range(length):
-        members.append(int(n))
-        r = n % m
-        word.append(int(r))
-        a, b = br[r]
-        n = (a * n + b) // m
-    if n != start:
+    orbit = walk(mapping, start, length)
+    if orbit.end != start:
         raise AssertionError(f"{start} does not return after {length} steps")
-    return CycleFound(tuple(members), tuple(word))
+    return CycleFound(orbit.members, orbit.word)
 
 
 def _rotated(mapping: AffineMap, cycle_member: int, length: int) -> CycleFound:
@@ -157,24 +149,14 @@ def settle(mapping: AffineMap, start: int, max_steps: int, max_bits: int) -> Cyc
             break
         if n == tortoise:
             period = step - tortoise_at
-            lead = start
-            for _ in range(period):
-                a, b = br[lead % m]
-                lead = (a * lead + b) // m
-            trail, mu = start, 0
-            while trail != lead:
-                a, b = br[trail % m]
-                trail = (a * trail + b) // m
-                a, b = br[lead % m]
-                lead = (a * lead + b) // m
-                mu += 1
+            mu, entry = cycle_entry(mapping, start, period)
             if mu + period <= max_steps:
-                return _rotated(mapping, int(trail), period)
+                return _rotated(mapping, entry, period)
             break
         if step == power:
             tortoise, tortoise_at = n, step
             power <<= 1
-        if not big and bits > _MPZ_BITS:
+        if not big and bits > MPZ_BITS:
             big = True
             n = gmpy2.mpz(n)
             br = tuple((gmpy2.mpz(a), gmpy2.mpz(b)) for a, b in br)
@@ -198,7 +180,8 @@ class HuntResult:
     reasons: dict[int, str] = field(default_factory=dict)
 
 
-def _finish(low: int, high: int, cycles: dict[int, CycleFound], reasons: dict[int, str]) -> HuntResult:
+def hunt_result(low: int, high: int, cycles: dict[int, CycleFound], reasons: dict[int, str]) -> HuntResult:
+    """The result of the magnitudes ``low`` .. ``high`` from what their starts gave, in start order."""
     ordered = dict(sorted(cycles.items(), key=lambda kv: order_key(kv[0])))
     unresolved = sorted(reasons, key=order_key)
     return HuntResult(high, ordered, unresolved, low, {s: reasons[s] for s in unresolved})
@@ -212,11 +195,28 @@ def starts_of(low: int, high: int) -> Iterable[int]:
             yield -magnitude
 
 
+def settle_all(
+    mapping: AffineMap,
+    starts: Iterable[int],
+    max_steps: int,
+    max_bits: int,
+    cycles: dict[int, CycleFound],
+    reasons: dict[int, str],
+) -> None:
+    """Settle each start in turn, adding the cycles found to ``cycles`` and the unresolved starts to ``reasons``."""
+    for s in starts:
+        fate = settle(mapping, s, max_steps, max_bits)
+        if isinstance(fate, CycleFound):
+            cycles.setdefault(fate.members[0], fate)
+        elif isinstance(fate, Unresolved):
+            reasons[s] = fate.reason
+
+
 def hunt(
     mapping: AffineMap,
     bound: int,
-    max_steps: int = DEFAULT_MAX_STEPS,
-    max_bits: int = DEFAULT_MAX_BITS,
+    max_steps: int = HUNT_MAX_STEPS,
+    max_bits: int = HUNT_MAX_BITS,
     low: int = 0,
 ) -> HuntResult:
     """Decide every start with ``low`` <= |n| <= ``bound`` by exact iteration (see the module docstring).
@@ -229,13 +229,8 @@ def hunt(
         raise ValueError(f"expected 0 <= low <= bound + 1, got low={low}, bound={bound}")
     cycles: dict[int, CycleFound] = {}
     reasons: dict[int, str] = {}
-    for s in starts_of(low, bound):
-        fate = settle(mapping, s, max_steps, max_bits)
-        if isinstance(fate, CycleFound):
-            cycles.setdefault(fate.members[0], fate)
-        elif isinstance(fate, Unresolved):
-            reasons[s] = fate.reason
-    return _finish(low, bound, cycles, reasons)
+    settle_all(mapping, starts_of(low, bound), max_steps, max_bits, cycles, reasons)
+    return hunt_result(low, bound, cycles, reasons)
 
 
 def merge_results(parts: Iterable[HuntResult]) -> list[HuntResult]:
@@ -257,7 +252,7 @@ def merge_results(parts: Iterable[HuntResult]) -> list[HuntResult]:
         if part.low <= high:
             raise ValueError(f"magnitude ranges {low}..{high} and {part.low}..{part.bound} overlap")
         if part.low > high + 1:
-            pieces.append(_finish(low, high, cycles, reasons))
+            pieces.append(hunt_result(low, high, cycles, reasons))
             cycles, reasons = {}, {}
             low = part.low
         high = part.bound
@@ -266,5 +261,5 @@ def merge_results(parts: Iterable[HuntResult]) -> list[HuntResult]:
                 raise ValueError(f"two parts disagree about the cycle through {c}")
         for s in part.unresolved:
             reasons[s] = part.reasons.get(s, "steps")
-    pieces.append(_finish(low, high, cycles, reasons))
+    pieces.append(hunt_result(low, high, cycles, reasons))
     return pieces

@@ -1,12 +1,12 @@
-"""The vectorised hunt engine: the fates of builder.hunt, decided on batches of starts with numpy.
+"""The vectorised hunt engine: the fates of builder.search.definition, decided on batches of starts with numpy.
 
 Each batch holds one lane per start, as int64.  Every step, each active lane
 computes T with per-residue multiplier and increment tables, then retires
-when event (a) or (b) of builder.hunt happens, or (m) when max_bits is
+when event (a) or (b) of builder.search.definition happens, or (m) when max_bits is
 below 62.  Only those decisions are taken here, each at the very step the
 exact definition takes it, and never after max_steps steps.  Everything
 else leaves the vectorised path and is decided from its start by the exact
-reference (builder.hunt.settle, Python ints and Brent's cycle detection):
+reference (builder.search.definition.settle, Python ints and Brent's cycle detection):
 
 * a lane whose |value| exceeds the overflow bound, beyond which the next
   step a n + b could leave int64 (see ``_int64_bound``);
@@ -16,7 +16,7 @@ reference (builder.hunt.settle, Python ints and Brent's cycle detection):
 
 The exact path restarts from the start, so what the vectorised path did to
 such a lane does not matter.  Results are therefore those of
-builder.hunt.hunt, start by start, whatever the batch size and thresholds.
+builder.search.definition.hunt, start by start, whatever the batch size and thresholds.
 """
 
 from __future__ import annotations
@@ -24,8 +24,8 @@ from __future__ import annotations
 import numpy as np
 import numpy.typing as npt
 
-from builder.arith.dynamics import AffineMap, CycleFound, Unresolved
-from builder.search.definition import HuntResult, cycle_at, order_key, settle
+from builder.arith.dynamics import AffineMap, CycleFound
+from builder.search.definition import HuntResult, cycle_at, hunt_result, settle_all, starts_of
 
 __all__ = ["hunt_range", "int64_bound"]
 
@@ -66,7 +66,7 @@ def hunt_range(
     lane_steps: int = DEFAULT_LANE_STEPS,
     tail: int = DEFAULT_TAIL,
 ) -> HuntResult:
-    """Decide every start with low <= |n| <= high; the same result as builder.hunt.hunt(mapping, high, ..., low=low)."""
+    """Decide every start with low <= |n| <= high; the same result as definition.hunt(mapping, high, ..., low=low)."""
     if not 0 <= low <= high + 1:
         raise ValueError(f"expected 0 <= low <= high + 1, got {low}, {high}")
     cycles: dict[int, CycleFound] = {}
@@ -85,19 +85,9 @@ def hunt_range(
         first_exact = vector_top + 1
     else:
         first_exact = low
-    for magnitude in range(first_exact, high + 1):
-        exact.append(magnitude)
-        if magnitude:
-            exact.append(-magnitude)
-    for s in exact:
-        fate = settle(mapping, s, max_steps, max_bits)
-        if isinstance(fate, CycleFound):
-            cycles.setdefault(fate.members[0], fate)
-        elif isinstance(fate, Unresolved):
-            reasons[s] = fate.reason
-    ordered = dict(sorted(cycles.items(), key=lambda kv: order_key(kv[0])))
-    unresolved = sorted(reasons, key=order_key)
-    return HuntResult(high, ordered, unresolved, low, {s: reasons[s] for s in unresolved})
+    exact.extend(starts_of(first_exact, high))
+    settle_all(mapping, exact, max_steps, max_bits, cycles, reasons)
+    return hunt_result(low, high, cycles, reasons)
 
 
 class _Engine:

@@ -9,7 +9,7 @@ from pathlib import Path
 from builder.errors import UsageError
 from builder.site.render import MARKER
 
-__all__ = ["serve"]
+__all__ = ["open_server"]
 
 
 class _Handler(http.server.SimpleHTTPRequestHandler):
@@ -31,8 +31,8 @@ class _Handler(http.server.SimpleHTTPRequestHandler):
             self.wfile.write(body)
 
 
-def serve(site: Path, port: int = 8000, host: str = "127.0.0.1") -> None:
-    """Serve ``site`` until interrupted; print the address first."""
+def open_server(site: Path, port: int = 8000, host: str = "127.0.0.1") -> http.server.ThreadingHTTPServer:
+    """A server of ``site`` on host:port, not yet serving (TEMPORARY copy in wt-cmd; the site helper's wins)."""
     if not (site / MARKER).is_file():
         raise UsageError(f"{site}: expected a site built by periplus build, got none (run periplus build first)")
     if not 0 <= port <= 65535:
@@ -42,7 +42,5 @@ def serve(site: Path, port: int = 8000, host: str = "127.0.0.1") -> None:
         server = http.server.ThreadingHTTPServer((host, port), handler)
     except OSError as exc:
         raise UsageError(f"{host}:{port}: cannot serve here ({exc.strerror or exc}); try another --port") from None
-    with server:
-        actual = server.server_address[1]
-        print(f"Serving {site} at http://{host}:{actual}/ (Ctrl-C stops)", flush=True)
-        server.serve_forever()
+    return server
+

@@ -1,0 +1,62 @@
+"""``periplus build``: verify the catalogue, then write the website."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from builder.commands.options import Subcommands, add_catalogue, add_limits, limits_of
+from builder.commands.summary import show_report
+from builder.errors import UsageError
+from builder.history import NoHistory
+from builder.site.build import build_site
+
+__all__ = ["register", "run"]
+
+
+def register(subparsers: Subcommands) -> None:
+    """Add ``build`` to the subcommands of the ``periplus`` parser."""
+    parser = subparsers.add_parser(
+        "build",
+        help="verify the catalogue, then write the website",
+        description="Verify CATALOGUE exactly; if every claim holds, write the static site to DIR in one step "
+        "(built beside it, then swapped in). If anything fails, nothing is written and the problems are printed. "
+        "Exit 0 on success, 1 when an entry fails, 2 for usage errors.",
+    )
+    add_catalogue(parser)
+    parser.add_argument("--out", default="site", type=Path, metavar="DIR", help="where the site goes (default: site)")
+    parser.add_argument(
+        "--base-url",
+        default=None,
+        metavar="URL",
+        help="address the site will be published at (absolute links in the feed, and sitemap.xml)",
+    )
+    add_limits(parser)
+    parser.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Run ``periplus build``; return the exit status."""
+    if args.base_url is not None and not args.base_url.startswith(("http://", "https://")):
+        raise UsageError(f"--base-url: expected an http or https address, got '{args.base_url}'")
+    result = build_site(args.catalogue, args.out, limits_of(args), args.base_url)
+    show_report(result.report)
+    if not result.report.ok:
+        print(f"nothing was written; {args.out} is as it was")
+        return 1
+    print(f"wrote {result.pages} pages to {args.out}: {result.edition.label if result.edition else 'no edition'}")
+    if isinstance(result.history, NoHistory):
+        print(f"note: no entry history or changelog, because {result.history.reason}")
+    elif result.history is not None:
+        if result.history.shallow:
+            print("note: the repository is a shallow clone, so entry dates and old releases may be missing")
+        for tag, why in result.history.ignored_tags:
+            print(f"note: the tag {tag} is not read as a release, because {why}")
+    if result.changelog is not None and result.changelog.releases:
+        for step in result.changelog.releases:
+            if step.stated_version is not None:
+                print(
+                    f"note: the tag {step.tag} holds a record.yaml that says version {step.stated_version}, "
+                    f"not {step.version}"
+                )
+    return 0
