@@ -210,9 +210,7 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
             elif key is None:
                 if type(node) is not Scalar:
                     problems.append(
-                        _problem(
-                            path, node.line, node.column, f"expected a plain text key, got a {node.KIND}", "yaml"
-                        )
+                        _problem(path, node.line, node.column, f"expected a plain text key, got a {node.KIND}", "yaml")
                     )
                     key = Scalar("", True, node.line, node.column)
                     drop = True

@@ -125,7 +125,9 @@ def _field_changes(
         return (FieldChange("(the whole file: it cannot be read as an entry)", None, None),)
     names = sorted(set(base) | set(head), key=lambda n: (_order(n), n))
     return tuple(
-        FieldChange(n, _describe(base.get(n)), _describe(head.get(n)), _is_scalar(base.get(n)) and _is_scalar(head.get(n)))
+        FieldChange(
+            n, _describe(base.get(n)), _describe(head.get(n)), _is_scalar(base.get(n)) and _is_scalar(head.get(n))
+        )
         for n in names
         if base.get(n) != head.get(n)
     )
@@ -175,9 +177,7 @@ def _changed(b_side: _Side, h_side: _Side, b: WrittenEntry, h: WrittenEntry) -> 
     return Change(h.kind, h.key, ChangeKind.UNCHANGED, h.path, check=check) if worse else None
 
 
-def _renames(
-    b_side: _Side, h_side: _Side, removed: list[WrittenEntry], added: list[WrittenEntry]
-) -> list[Change]:
+def _renames(b_side: _Side, h_side: _Side, removed: list[WrittenEntry], added: list[WrittenEntry]) -> list[Change]:
     """A removed and an added cycle with the same fingerprint (the same map definition and canonical
     member, whatever the files and the map are called): the same cycle under a new name.
 
@@ -199,7 +199,18 @@ def _renames(
         fields = _field_changes(b.fields, match.fields)
         check = _check(h_side, match)
         renamed.append(
-            Change("cycle", match.key, ChangeKind.RENAMED, match.path, b.path, b.key, fields, False, Identity.RENAMED_CYCLE, check)
+            Change(
+                "cycle",
+                match.key,
+                ChangeKind.RENAMED,
+                match.path,
+                b.path,
+                b.key,
+                fields,
+                False,
+                Identity.RENAMED_CYCLE,
+                check,
+            )
         )
     return renamed
 
