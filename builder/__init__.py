@@ -1,8 +1,10 @@
 """Periplus: verify a record of cycles of Collatz-type maps exactly, and publish it.
 
-The stages are separate modules: ``load`` (YAML to positioned nodes),
-``verify`` (fields, exact re-derivation, the model), with the number theory
-in ``dynamics`` and ``words`` (which import neither YAML nor Jinja).
+One subpackage per stage, lowest first: ``arith`` (exact integers, words, maps and the cycle
+equation), ``search`` (exhaustive hunts), ``catalogue`` (YAML files to the verified record),
+``diff`` (comparing two verified catalogues), ``history`` (git: releases, entry history, the
+changelog), ``site`` (pages and exports) and ``commands`` (the ``periplus`` command line).
+This module re-exports the names most scripts need.
 """
 
 __version__ = "0.1.0"

@@ -19,7 +19,7 @@ from collections.abc import Iterator
 from dataclasses import dataclass, field
 from math import gcd
 
-from builder.arith.dynamics import AffineMap, canonical_index
+from builder.arith.dynamics import AffineMap, canonical_index, shortcut_form
 from builder.arith.words import least_rotation_index, rotate
 from builder.catalogue.model import Catalogue, Cycle, MapEntry
 
@@ -30,12 +30,7 @@ CycleKey = tuple[str, str]  # (map id, cycle id)
 
 def qx_plus_d(entry: MapEntry) -> tuple[int, int] | None:
     """(q, d) when the map is n/2 for even n and (q n + d)/2 for odd n with q, d odd."""
-    if entry.modulus != 2 or entry.branches[0] != (1, 0):
-        return None
-    q, d = entry.branches[1]
-    if q % 2 and d % 2:
-        return q, d
-    return None
+    return shortcut_form(entry.dynamics)
 
 
 def _members_gcd(cycle: Cycle) -> int:
