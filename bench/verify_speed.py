@@ -61,7 +61,7 @@ def parse_floor(root: Path) -> Callable[[], None]:
 
 def generate(target: int) -> Path:
     """Write (once) a catalogue of at least ``target`` cycles of 3x+d maps, |d| > 100."""
-    marker = GENERATED / f".complete-v2-{target}"
+    marker = GENERATED / f".complete-v3-{target}"
     if marker.exists():
         return GENERATED
     if GENERATED.exists():
@@ -86,8 +86,9 @@ def generate(target: int) -> Path:
                 (folder / f"{cycle_file_id(canonical)}.yaml").write_text(text, encoding="utf-8")
             total += len(result.cycles)
         d += 2
-    # The map notes cite a reference; give the generated catalogue the same file.
-    (GENERATED / "references.yaml").write_text((ROOT / "catalogue" / "references.yaml").read_text())
+    # The map notes cite a reference, and every catalogue has a record.yaml: the shipped ones will do.
+    for name in ("references.yaml", "record.yaml"):
+        (GENERATED / name).write_text((ROOT / "catalogue" / name).read_text())
     marker.touch()
     return GENERATED
 
@@ -104,6 +105,7 @@ def long_cycle(folder: Path) -> Path:
         f"map: x-plus-p\nstart: 1\nlength: {p - 1}\n"
         "provenance: {found_by: benchmark, found_on: 2026-12-01, method: 2 is a primitive root mod 100003}\n"
     )
+    (folder / "record.yaml").write_text((ROOT / "catalogue" / "record.yaml").read_text())
     return folder
 
 

@@ -15,7 +15,7 @@ import re
 from collections.abc import Iterable, Iterator, Mapping
 from dataclasses import dataclass, field
 from enum import StrEnum
-from pathlib import Path, PurePosixPath
+from pathlib import Path
 from typing import Protocol
 
 from builder.catalogue.nodes import Node, parse_yaml
@@ -48,20 +48,20 @@ class PathKind(StrEnum):
 
 
 class Source(Protocol):
-    """Where a catalogue's files come from; paths are relative to the catalogue root, POSIX style."""
+    """Where a catalogue's files come from; paths are relative to the catalogue root, POSIX style ("." for the root)."""
 
     @property
     def root(self) -> Path:
         """The catalogue root, as problems name it."""
         ...
 
-    def kind(self, rel: PurePosixPath) -> PathKind: ...
+    def kind(self, rel: str) -> PathKind: ...
 
-    def listing(self, rel: PurePosixPath) -> list[tuple[str, PathKind]]:
+    def listing(self, rel: str) -> list[tuple[str, PathKind]]:
         """The names in a folder with their kinds, sorted by name."""
         ...
 
-    def read(self, rel: PurePosixPath) -> bytes:
+    def read(self, rel: str) -> bytes:
         """A file's bytes; raises OSError when it cannot be read."""
         ...
 
@@ -72,20 +72,21 @@ class FolderSource:
 
     root: Path
 
-    def kind(self, rel: PurePosixPath) -> PathKind:
-        if not rel.parts:  # the root itself may be reached through a link
+    def kind(self, rel: str) -> PathKind:
+        if rel == ".":  # the root itself may be reached through a link
             if self.root.is_dir():
                 return PathKind.FOLDER
             return PathKind.FILE if self.root.exists() else PathKind.MISSING
-        return _kind_on_disk(self.root.joinpath(*rel.parts))
+        return _kind_on_disk(self.root / rel)
 
-    def listing(self, rel: PurePosixPath) -> list[tuple[str, PathKind]]:
-        with os.scandir(self.root.joinpath(*rel.parts)) as entries:
+    def listing(self, rel: str) -> list[tuple[str, PathKind]]:
+        with os.scandir(self.root / rel) as entries:
             found = sorted(entries, key=lambda e: e.name)
         return [(e.name, _kind_of_entry(e)) for e in found]
 
-    def read(self, rel: PurePosixPath) -> bytes:
-        return self.root.joinpath(*rel.parts).read_bytes()
+    def read(self, rel: str) -> bytes:
+        with open(os.path.join(self.root, rel), "rb") as f:
+            return f.read()
 
 
 def _kind_on_disk(path: Path) -> PathKind:
@@ -116,33 +117,37 @@ class TreeSource:
     def __init__(
         self,
         root: Path,
-        files: Mapping[PurePosixPath, bytes],
-        links: Iterable[PurePosixPath] = (),
-        folders: Iterable[PurePosixPath] = (),
+        files: Mapping[str, bytes],
+        links: Iterable[str] = (),
+        folders: Iterable[str] = (),
     ) -> None:
         self._root = root
         self._files = dict(files)
-        self._kinds: dict[PurePosixPath, PathKind] = {}
-        self._children: dict[PurePosixPath, set[str]] = {}
+        self._kinds: dict[str, PathKind] = {}
+        self._children: dict[str, set[str]] = {}
         for paths, kind in ((self._files, PathKind.FILE), (links, PathKind.LINK), (folders, PathKind.FOLDER)):
             for path in paths:
                 self._kinds[path] = kind
-                for parent in path.parents:
+                child = path
+                while child != ".":
+                    parent, _, name = child.rpartition("/")
+                    parent = parent or "."
                     self._kinds.setdefault(parent, PathKind.FOLDER)
-                    self._children.setdefault(parent, set()).add(path.relative_to(parent).parts[0])
-        self._kinds.setdefault(PurePosixPath("."), PathKind.FOLDER)
+                    self._children.setdefault(parent, set()).add(name)
+                    child = parent
+        self._kinds.setdefault(".", PathKind.FOLDER)
 
     @property
     def root(self) -> Path:
         return self._root
 
-    def kind(self, rel: PurePosixPath) -> PathKind:
+    def kind(self, rel: str) -> PathKind:
         return self._kinds.get(rel, PathKind.MISSING)
 
-    def listing(self, rel: PurePosixPath) -> list[tuple[str, PathKind]]:
-        return [(name, self.kind(rel / name)) for name in sorted(self._children.get(rel, ()))]
+    def listing(self, rel: str) -> list[tuple[str, PathKind]]:
+        return [(name, self.kind(_join(rel, name))) for name in sorted(self._children.get(rel, ()))]
 
-    def read(self, rel: PurePosixPath) -> bytes:
+    def read(self, rel: str) -> bytes:
         try:
             return self._files[rel]
         except KeyError:
@@ -162,6 +167,7 @@ class RawFile:
     kind: str  # "record", "references", "map" or "cycle"
     id: str
     folder: str | None  # for cycles, the map folder the file sits in
+    rel: str = ""  # the path from the catalogue root, POSIX style
     root: Node | None = None
     problems: list[Problem] | None = None
     digest: bytes | None = None
@@ -190,9 +196,6 @@ class RawCatalogue:
     def of_kind(self, kind: str) -> Iterator[RawFile]:
         return (f for f in self.files if f.kind == kind)
 
-    def relative(self, file: RawFile) -> PurePosixPath:
-        return PurePosixPath(file.path.relative_to(self.root).as_posix())
-
 
 def _problem(path: Path, message: str, code: str, line: int = 0, column: int = 0) -> Problem:
     return Problem(Position(path, line, column), message, code)
@@ -220,9 +223,9 @@ def read_file(raw: RawCatalogue, file: RawFile) -> RawFile:
     if file.problems is not None:
         return file
     problems: list[Problem] = []
-    parsed = RawFile(file.path, file.kind, file.id, file.folder, None, problems)
+    parsed = RawFile(file.path, file.kind, file.id, file.folder, file.rel, None, problems)
     try:
-        data = raw.source.read(raw.relative(file))
+        data = raw.source.read(file.rel)
     except OSError as exc:
         problems.append(_problem(file.path, f"cannot read the file: {exc.strerror}", "unreadable"))
         return parsed
@@ -234,13 +237,17 @@ def read_file(raw: RawCatalogue, file: RawFile) -> RawFile:
     return parsed
 
 
-def _entry_files(raw: RawCatalogue, folder: PurePosixPath, what: str) -> Iterator[tuple[str, Path]]:
+def _join(folder: str, name: str) -> str:
+    return name if folder == "." else f"{folder}/{name}"
+
+
+def _entry_files(raw: RawCatalogue, folder: str, what: str) -> Iterator[tuple[str, Path]]:
     """Yield (id, path) for each ``<id>.yaml`` in folder, reporting anything else there."""
     problems = raw.layout_problems
     for name, kind in raw.source.listing(folder):
         if name.startswith("."):
             continue  # .gitkeep and editor files
-        path = raw.root.joinpath(*folder.parts, name)
+        path = raw.root / folder / name
         if kind is PathKind.LINK:
             problems.append(_problem(path, "expected a regular file, got a symbolic link", "layout"))
             continue
@@ -266,24 +273,23 @@ def scan_source(source: Source) -> RawCatalogue:
     problem with the layout (bad names, links, stray folders) is collected.
     """
     root = source.root
-    here = PurePosixPath(".")
-    top = source.kind(here)
+    top = source.kind(".")
     if top is not PathKind.FOLDER:
         got = "nothing" if top is PathKind.MISSING else "a file"
         raise CatalogueUnreadable(root, f"expected a catalogue directory, got {got}")
-    if source.kind(PurePosixPath("maps")) is not PathKind.FOLDER:
+    if source.kind("maps") is not PathKind.FOLDER:
         raise CatalogueUnreadable(root, "expected a catalogue directory with a maps/ folder, got none")
     raw = RawCatalogue(source)
     problems = raw.layout_problems
     for kind in ("record", "references"):
-        found = source.kind(PurePosixPath(f"{kind}.yaml"))
+        found = source.kind(f"{kind}.yaml")
         if found is PathKind.LINK:
             problems.append(_problem(root / f"{kind}.yaml", "expected a regular file, got a symbolic link", "layout"))
         elif found is PathKind.FILE:
-            raw.files.append(RawFile(root / f"{kind}.yaml", kind, kind, None))
-    for map_id, path in _entry_files(raw, PurePosixPath("maps"), "map"):
-        raw.files.append(RawFile(path, "map", map_id, None))
-    cycles = PurePosixPath("cycles")
+            raw.files.append(RawFile(root / f"{kind}.yaml", kind, kind, None, f"{kind}.yaml"))
+    for map_id, path in _entry_files(raw, "maps", "map"):
+        raw.files.append(RawFile(path, "map", map_id, None, f"maps/{map_id}.yaml"))
+    cycles = "cycles"
     found = source.kind(cycles)
     if found is PathKind.LINK:
         problems.append(_problem(root / "cycles", "expected a folder, got a symbolic link", "layout"))
@@ -299,8 +305,8 @@ def scan_source(source: Source) -> RawCatalogue:
             if ID_PATTERN.fullmatch(name) is None:
                 problems.append(_problem(folder, f"expected a folder named after a map id, got '{name}'", "bad-id"))
                 continue
-            for cycle_id, path in _entry_files(raw, cycles / name, "cycle"):
-                raw.files.append(RawFile(path, "cycle", cycle_id, name))
+            for cycle_id, path in _entry_files(raw, f"cycles/{name}", "cycle"):
+                raw.files.append(RawFile(path, "cycle", cycle_id, name, f"cycles/{name}/{cycle_id}.yaml"))
     return raw
 
 

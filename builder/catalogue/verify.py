@@ -85,7 +85,7 @@ class _Verification:
             # No YAML document at all (empty, or only comments): it must not pass unnoticed.
             message = f"expected {_WHAT[file.kind]}, got an empty file"
             self.problems.append(Problem(Position(file.path), message, "empty-file"))
-        rel = self.raw.relative(file).as_posix()
+        rel = file.rel
         key = file.id if file.kind in ("record", "map", "references") else f"{file.folder}/{file.id}"
         for entry in written_entries(file.kind, key, rel, file.root, file.digest):
             self.written[entry.kind, entry.key] = entry

@@ -11,9 +11,9 @@ references an entry cites, the map a cycle names, the bounds of a map's coverage
 from __future__ import annotations
 
 import hashlib
-from collections.abc import Iterator, Mapping
+from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, NamedTuple, cast
 
 from builder.arith.integers import DECIMAL_INTEGER, parse_decimal
 from builder.catalogue.nodes import MappingNode, Node, Scalar, SequenceNode
@@ -22,11 +22,11 @@ from builder.errors import KeyPath
 __all__ = ["WrittenEntry", "WrittenValue", "coverage_bounds", "plain_data", "written_entries"]
 
 
-@dataclass(frozen=True, slots=True)
-class WrittenValue:
+class WrittenValue(NamedTuple):
     """One field as written: a scalar's text and whether it was plain, or a list's or mapping's size and digest.
 
     Two values are equal exactly when they were written the same way (a mapping's keys in any order).
+    A named tuple rather than a dataclass: verification makes one per field of every entry.
     """
 
     kind: str  # "scalar", "list" or "mapping"
@@ -76,7 +76,17 @@ def _feed(node: Node, h: Any) -> None:
         h.update(b"s%d:%d:" % (node.plain, len(data)) + data)
     elif isinstance(node, SequenceNode):
         h.update(b"l%d:" % len(node.items))
-        for item in node.items:
+        items = node.items
+        if all(type(item) is Scalar for item in items):
+            # The common case, a list of numbers, in one piece: every length, then every text, then
+            # every plainness flag, which keeps the serialisation unambiguous.
+            scalars = cast("list[Scalar]", items)
+            texts = [s.value for s in scalars]
+            h.update(",".join([str(len(text)) for text in texts]).encode() + b";")
+            h.update("".join(texts).encode("utf-8", "surrogatepass"))
+            h.update(bytes([s.plain for s in scalars]))
+            return
+        for item in items:
             _feed(item, h)
     elif isinstance(node, MappingNode):
         h.update(b"m%d:" % len(node.entries))
@@ -92,9 +102,9 @@ def _value(node: Node) -> WrittenValue:
     h = hashlib.sha256()
     _feed(node, h)
     if isinstance(node, SequenceNode):
-        return WrittenValue("list", size=len(node.items), digest=h.digest())
+        return WrittenValue("list", None, False, len(node.items), h.digest())
     assert isinstance(node, MappingNode), node
-    return WrittenValue("mapping", size=len(node.entries), digest=h.digest())
+    return WrittenValue("mapping", None, False, len(node.entries), h.digest())
 
 
 def _flatten(node: Node, prefix: str = "") -> dict[str, WrittenValue]:
@@ -110,17 +120,24 @@ def _flatten(node: Node, prefix: str = "") -> dict[str, WrittenValue]:
     return out
 
 
-def _positions(node: Node, path: KeyPath = ()) -> Iterator[tuple[KeyPath, tuple[int, int]]]:
-    """Positions of every value of a mapping and every mapping in a list (not of list items otherwise)."""
+def _positions(node: Node, path: KeyPath, out: dict[KeyPath, tuple[int, int]]) -> None:
+    """Positions of every value of a mapping and of every mapping or list in a list (not of other items)."""
     if isinstance(node, MappingNode):
         for key, (_, value) in node.entries.items():
-            yield path + (key,), (value.line, value.column)
-            yield from _positions(value, path + (key,))
+            out[path + (key,)] = (value.line, value.column)
+            if type(value) is not Scalar:
+                _positions(value, path + (key,), out)
     elif isinstance(node, SequenceNode):
         for i, item in enumerate(node.items):
-            if isinstance(item, MappingNode | SequenceNode):
-                yield path + (i,), (item.line, item.column)
-                yield from _positions(item, path + (i,))
+            if type(item) is not Scalar:
+                out[path + (i,)] = (item.line, item.column)
+                _positions(item, path + (i,), out)
+
+
+def _positions_of(node: Node) -> dict[KeyPath, tuple[int, int]]:
+    out: dict[KeyPath, tuple[int, int]] = {}
+    _positions(node, (), out)
+    return out
 
 
 def plain_data(node: Node | None) -> Any:
@@ -167,7 +184,7 @@ def written_entries(kind: str, key: str, path: str, root: Node | None, digest: b
         if not isinstance(root, MappingNode):
             return []
         return [
-            WrittenEntry("reference", ref, path, _flatten(value), None, positions=dict(_positions(value)))
+            WrittenEntry("reference", ref, path, _flatten(value), None, positions=_positions_of(value))
             for ref, (_, value) in root.entries.items()
         ]
     if not isinstance(root, MappingNode):
@@ -179,6 +196,6 @@ def written_entries(kind: str, key: str, path: str, root: Node | None, digest: b
     return [
         WrittenEntry(
             kind, key, path, _flatten(root), digest, cites, names if isinstance(names, str) else None,
-            tuple(bounds), dict(_positions(root)),
+            tuple(bounds), _positions_of(root),
         )
     ]  # fmt: skip

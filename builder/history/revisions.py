@@ -46,7 +46,7 @@ def repository_top(repo: Path) -> Path:
 def empty_source(label: str) -> TreeSource:
     """A catalogue with no entries: it stands for a revision from before the catalogue existed, so that
     comparing with it lists every entry of the other side as added."""
-    return TreeSource(Path(label), {}, folders=[PurePosixPath("maps")])
+    return TreeSource(Path(label), {}, folders=["maps"])
 
 
 def revision_source(repo: Path, revision: str, path: str) -> TreeSource:
@@ -68,7 +68,7 @@ def revision_source(repo: Path, revision: str, path: str) -> TreeSource:
         if record:
             meta, _, raw_name = record.partition(b"\t")
             mode, kind, obj = meta.split(b" ")
-            items.append((mode, kind, obj, PurePosixPath(os.fsdecode(raw_name)).relative_to(pure)))
+            items.append((mode, kind, obj, PurePosixPath(os.fsdecode(raw_name)).relative_to(pure).as_posix()))
     if not items:
         raise NoCatalogueAtRevision(revision, str(pure))
     blobs = [obj for mode, kind, obj, _ in items if kind == b"blob" and mode != _LINK_MODE]
