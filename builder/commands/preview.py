@@ -6,7 +6,7 @@ import argparse
 from pathlib import Path
 
 from builder.commands.options import Subcommands
-from builder.site.preview import open_server
+from builder.site.preview import open_server, serving_text
 
 __all__ = ["register", "run"]
 
@@ -27,6 +27,6 @@ def run(args: argparse.Namespace) -> int:
     """Run ``periplus preview`` until Ctrl-C (which the shared handler turns into exit status 130)."""
     server = open_server(args.site, args.port, HOST)
     with server:
-        print(f"Serving {args.site} at http://{HOST}:{server.server_address[1]}/ (Ctrl-C stops)", flush=True)
+        print(serving_text(args.site, HOST, server), flush=True)
         server.serve_forever()
     return 0

@@ -1,6 +1,8 @@
 """Machine-readable exports of the verified record: JSON, CSV, the search index, Atom, sitemap.
 
-Every text is produced deterministically (sorted keys, fixed formatting, no
+Each export is written here from the typed records of builder.site.records, which the pages
+read too: the JSON field names, the CSV columns and the feed's entries are spelled in this
+module alone.  Every text is produced deterministically (sorted keys, fixed formatting, no
 build time): the same catalogue always gives the same bytes.
 """
 
@@ -13,19 +15,120 @@ import uuid
 from typing import Any
 from xml.sax.saxutils import escape, quoteattr
 
+from builder.arith.fingerprint import FINGERPRINT_DIGITS, FINGERPRINT_HEADER
+from builder.catalogue.model import Reference
+from builder.site.records import AboutRecord, CycleRecord, HistoryRecord, MapRecord
 from builder.site.views import SiteViews
 
-__all__ = ["CSV_COLUMNS", "atom_feed", "cycles_csv", "json_text", "search_index_js", "sitemap_xml"]
+__all__ = [
+    "CSV_COLUMNS",
+    "FINGERPRINT_NOTE",
+    "atom_feed",
+    "catalogue_json",
+    "cycles_csv",
+    "json_text",
+    "map_json",
+    "search_index_js",
+    "sitemap_xml",
+]
 
 CSV_COLUMNS = (
     "map", "id", "fingerprint", "canonical", "length", "word", "residue_counts", "min", "max", "A", "B", "target",
     "standard_length", "found_by", "found_on", "url",
 )  # fmt: skip
 _FEED_NAMESPACE = uuid.UUID("6f1e3a52-8d1b-4c55-9a53-5c2f0e9b7d11")  # fixed, so entry ids never change
+#: The search index lists up to this many members of each cycle.
+SEARCH_MEMBERS = 1000
+#: How exports describe the fingerprint recipe (catalogue/README.md, "Fingerprints", has it in full).
+FINGERPRINT_NOTE = (
+    f"SHA-256 of the ASCII lines '{FINGERPRINT_HEADER}', the modulus m, 'a_i b_i' for each residue i = 0..m-1, "
+    f"and the canonical member, each ended by a line feed; the first {FINGERPRINT_DIGITS} hexadecimal digits"
+)
 
 
 def json_text(data: Any) -> str:
     return json.dumps(data, ensure_ascii=False, indent=1, sort_keys=True) + "\n"
+
+
+def _pick(obj: object, names: str, **renamed: str) -> dict[str, Any]:
+    """The attributes ``names`` (space-separated) of ``obj`` under their own names, and each attribute
+    named in ``renamed`` under its JSON key (a tuple is written as a JSON array, as a list is)."""
+    out = {name: getattr(obj, name) for name in names.split()}
+    out.update({key: getattr(obj, name) for key, name in renamed.items()})
+    return out
+
+
+def _about(about: AboutRecord) -> dict[str, Any]:
+    return _pick(
+        about, "title description maintainers licence licence_url base_url version edition release_status commit"
+    )
+
+
+def _reference(ref: Reference) -> dict[str, Any]:
+    return _pick(ref, "key authors title venue year doi url status note")
+
+
+def _history(past: HistoryRecord | None) -> dict[str, Any] | None:
+    if past is None:
+        return None
+    out = _pick(past, "file added added_commit changed changed_commit uncommitted")
+    if past.names:
+        out.update(_pick(past, "added_by changed_by"))
+    return out
+
+
+def _cycle(c: CycleRecord) -> dict[str, Any]:
+    prov = c.provenance
+    return {
+        **_pick(
+            c,
+            "id fingerprint url canonical length word members residue_counts target standard_length",
+            map="map_id",
+            min="minimum",
+            max="maximum",
+            A="multiplier",
+            B="offset",
+            shared_factor_with_increment="shared_factor",
+            start_in_entry="start",
+        ),
+        "provenance": {**_pick(prov, "found_by method references notes"), "found_on": prov.found_on.isoformat()},
+        "history": _history(c.history),
+    }
+
+
+def _map(m: MapRecord) -> dict[str, Any]:
+    """A map's fields without its cycles and the record (catalogue.json lists those once)."""
+    coverage = [
+        _pick(claim, "kind bound found_on method max_steps max_bits unresolved", rechecked_by_this_build="rechecked")
+        for claim in m.coverage
+    ]
+    branches = [{"residue": i, "multiplier": a, "increment": b} for i, (a, b) in enumerate(m.branches)]
+    return {
+        **_pick(m, "id name url modulus summary notes references mirror_map"),
+        "branches": branches,
+        "coverage": coverage,
+        "history": _history(m.history),
+    }
+
+
+def catalogue_json(views: SiteViews) -> str:
+    """data/catalogue.json: the whole verified record."""
+    whole = {
+        "format": "periplus-record",
+        "format_version": 2,
+        "record": _about(views.about),
+        "note": "Every integer that belongs to a cycle is a decimal string; JSON numbers lose precision.",
+        "fingerprint_recipe": FINGERPRINT_NOTE,
+        "maps": [_map(m) for m in views.maps.values()],
+        "cycles": [_cycle(c) for c in views.cycles],
+        "references": {key: _reference(ref) for key, ref in views.references.items()},
+    }
+    return json_text(whole)
+
+
+def map_json(m: MapRecord) -> str:
+    """data/maps/<id>.json: one map with its cycles in full and the record it belongs to."""
+    return json_text({**_map(m), "cycles": [_cycle(c) for c in m.cycles], "record": _about(m.about)})
 
 
 def _cell(text: str) -> str:
@@ -45,13 +148,13 @@ def cycles_csv(views: SiteViews) -> str:
     out.write("# " + " ".join(header.split()) + "\n")
     writer = csv.writer(out, lineterminator="\n")
     writer.writerow(CSV_COLUMNS)
-    for r in views.cycle_records:
+    for c in views.cycles:
         writer.writerow(
             [
-                r["map"], r["id"], r["fingerprint"], r["canonical"], r["length"], r["word"],
-                " ".join(map(str, r["residue_counts"])), r["min"], r["max"], r["A"], r["B"], r["target"],
-                "" if r["standard_length"] is None else r["standard_length"],
-                _cell(r["provenance"]["found_by"]), r["provenance"]["found_on"], r["url"],
+                c.map_id, c.id, c.fingerprint, c.canonical, c.length, c.word,
+                " ".join(map(str, c.residue_counts)), c.minimum, c.maximum, c.multiplier, c.offset, c.target,
+                "" if c.standard_length is None else c.standard_length,
+                _cell(c.provenance.found_by), c.provenance.found_on.isoformat(), c.url,
             ]
         )  # fmt: skip
     return out.getvalue()
@@ -59,7 +162,26 @@ def cycles_csv(views: SiteViews) -> str:
 
 def search_index_js(views: SiteViews) -> str:
     """The search index as a script (pages opened from disk cannot fetch JSON)."""
-    data = json.dumps(views.search_index, ensure_ascii=True, sort_keys=True, separators=(",", ":"))
+    maps = views.maps
+    index = {
+        "cycles": [
+            {
+                "map": c.map_id,
+                "map_name": maps[c.map_id].name,
+                "cycle": c.id,
+                "fingerprint": c.fingerprint,
+                "url": c.url,
+                "length": c.length,
+                "canonical": c.canonical,
+                "word": c.word,
+                "modulus": maps[c.map_id].modulus,
+                "members": c.members[:SEARCH_MEMBERS],
+                "members_truncated": len(c.members) > SEARCH_MEMBERS,
+            }
+            for c in views.cycles
+        ]
+    }
+    data = json.dumps(index, ensure_ascii=True, sort_keys=True, separators=(",", ":"))
     # No data may close the script element or open a comment inside it.
     data = data.replace("<", "\\u003c").replace(">", "\\u003e").replace("&", "\\u0026")
     return f"window.PERIPLUS_SEARCH = {data};\n"
@@ -71,9 +193,9 @@ def _entry_id(*parts: str) -> str:
 
 def atom_feed(views: SiteViews) -> str:
     """An Atom feed (RFC 4287) of the cycles by found_on, newest first; entry ids follow fingerprints."""
-    entries = views.feed_entries
+    entries = sorted(views.cycles, key=lambda c: (c.provenance.found_on, c.map_id, c.id), reverse=True)
     record = views.record
-    updated = f"{entries[0]['found_on']}T00:00:00Z" if entries else "1970-01-01T00:00:00Z"
+    updated = f"{entries[0].provenance.found_on.isoformat()}T00:00:00Z" if entries else "1970-01-01T00:00:00Z"
     rights = f"Data licence {record.licence} ({record.licence_url}); {views.edition.label}"
     lines = [
         '<?xml version="1.0" encoding="utf-8"?>',
@@ -87,15 +209,20 @@ def atom_feed(views: SiteViews) -> str:
         f"  <author><name>{escape(record.maintainers)}</name></author>",
         '  <generator uri="https://pypi.org/project/periplus/">Periplus</generator>',
     ]
-    for e in entries:
+    for c in entries:
+        name, found_by = views.maps[c.map_id].name, c.provenance.found_by
+        summary = (
+            f"A cycle of length {c.length} of {name}, least |member| {c.canonical}; found by {found_by}; "
+            f"fingerprint {c.fingerprint}."
+        )
         lines += [
             "  <entry>",
-            f"    <title>{escape(e['title'])}</title>",
-            f"    <id>{_entry_id('cycle', e['fingerprint'])}</id>",
-            f"    <updated>{e['found_on']}T00:00:00Z</updated>",
-            f'    <link rel="alternate" type="text/html" href={quoteattr(e["url"])}/>',
-            f"    <author><name>{escape(e['found_by'])}</name></author>",
-            f"    <summary>{escape(e['summary'])}</summary>",
+            f"    <title>{escape(f'{name}: cycle through {c.canonical}')}</title>",
+            f"    <id>{_entry_id('cycle', c.fingerprint)}</id>",
+            f"    <updated>{c.provenance.found_on.isoformat()}T00:00:00Z</updated>",
+            f'    <link rel="alternate" type="text/html" href={quoteattr(c.url)}/>',
+            f"    <author><name>{escape(found_by)}</name></author>",
+            f"    <summary>{escape(summary)}</summary>",
             "  </entry>",
         ]
     lines.append("</feed>")

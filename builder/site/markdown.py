@@ -66,4 +66,4 @@ def render_notes(text: str | None) -> Markup:
         link_rel="nofollow noopener noreferrer",
         strip_comments=True,
     )
-    return Markup(_outline(clean))  # noqa: S704 - sanitised just above
+    return Markup(_outline(clean))  # sanitised just above

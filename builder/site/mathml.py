@@ -1,14 +1,17 @@
 """MathML Core markup for map definitions and cycle equations.
 
 Only numbers and fixed symbols go into the markup; numbers are written by
-``builder.integers`` (any size) and every text node is escaped, so nothing
-from an entry's free text can reach it.
+``builder.arith.integers`` (any size) and every text node is escaped, so nothing
+from an entry's free text can reach it.  The functions that make a whole
+formula return it as ``markupsafe.Markup``, safe to place in a page as it is.
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
 from html import escape
+
+from markupsafe import Markup
 
 from builder.arith.integers import to_decimal
 
@@ -19,14 +22,14 @@ __all__ = ["cycle_equation_mathml", "map_definition_mathml", "number"]
 FULL_DIGITS = 2000
 
 
-def number(n: int) -> str:
+def number(n: int) -> Markup:
     """A signed integer as MathML (a minus sign operator before the digits)."""
     text = to_decimal(abs(n))
     if len(text) > FULL_DIGITS:
         body = f"<mtext>{text[:24]}…{text[-12:]} ({len(text):,} digits)</mtext>"
     else:
         body = f"<mn>{text}</mn>"
-    return f"<mrow><mo>−</mo>{body}</mrow>" if n < 0 else body
+    return Markup(f"<mrow><mo>−</mo>{body}</mrow>" if n < 0 else body)
 
 
 def _affine(a: int, b: int) -> str:
@@ -43,7 +46,7 @@ def _affine(a: int, b: int) -> str:
     return f"<mrow>{head}<mo>{sign}</mo>{number(abs(b))}</mrow>"
 
 
-def map_definition_mathml(modulus: int, branches: Sequence[tuple[int, int]], name: str) -> str:
+def map_definition_mathml(modulus: int, branches: Sequence[tuple[int, int]], name: str) -> Markup:
     """T(n) as cases, one per residue class: (a_i n + b_i)/m if n = i (mod m)."""
     rows = []
     for i, (a, b) in enumerate(branches):
@@ -55,14 +58,14 @@ def map_definition_mathml(modulus: int, branches: Sequence[tuple[int, int]], nam
             "</mtd></mtr>"
         )
     label = escape(f"Definition of {name}", quote=True)
-    return (
+    return Markup(
         f'<math display="block" aria-label="{label}"><mrow><mi>T</mi><mo>(</mo><mi>n</mi><mo>)</mo><mo>=</mo>'
         f'<mrow><mo>{{</mo><mtable columnalign="left">{"".join(rows)}</mtable></mrow></mrow></math>'
     )
 
 
 def _power(base: int, exponent: int) -> str:
-    body = number(base)
+    body: str = number(base)
     if base < 0:
         body = f"<mrow><mo>(</mo>{body}<mo>)</mo></mrow>"
     return body if exponent == 1 else f"<msup>{body}<mn>{exponent}</mn></msup>"
@@ -75,7 +78,7 @@ def cycle_equation_mathml(
     offset: int,
     target: int,
     start: int,
-) -> str:
+) -> Markup:
     """n = B / (m^k - A) = B / (m^k - a^c ...) = B / target = n, with this cycle's numbers.
 
     ``factors`` are (multiplier, count) pairs whose product of powers is A.
@@ -85,8 +88,10 @@ def cycle_equation_mathml(
     specific = f"<mfrac>{number(offset)}<mrow>{_power(modulus, length)}<mo>−</mo>{product}</mrow></mfrac>"
     if target == 0:
         tail = "<mtext>&#xa0;(m^k = A: the equation is satisfied by every start following the word, as B = 0)</mtext>"
-        return f'<math display="block"><mrow><mi>n</mi><mo>=</mo>{general}<mo>=</mo>{specific}{tail}</mrow></math>'
-    return (
+        return Markup(
+            f'<math display="block"><mrow><mi>n</mi><mo>=</mo>{general}<mo>=</mo>{specific}{tail}</mrow></math>'
+        )
+    return Markup(
         '<math display="block"><mrow><mi>n</mi><mo>=</mo>'
         f"{general}<mo>=</mo>{specific}<mo>=</mo><mfrac>{number(offset)}{number(target)}</mfrac>"
         f"<mo>=</mo>{number(start)}</mrow></math>"

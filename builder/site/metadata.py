@@ -20,9 +20,12 @@ from datetime import date, datetime
 from typing import Any
 from urllib.parse import quote
 
+from markupsafe import Markup
+
 from builder.catalogue.entries import yaml_string
 from builder.catalogue.model import Record
 from builder.site.cff_licences import CFF_LICENCES
+from builder.wording import count
 
 __all__ = [
     "KEYWORDS",
@@ -79,14 +82,10 @@ def _check_keywords(keywords: Sequence[str]) -> None:
     assert all(keywords) and len(set(keywords)) == len(keywords), f"expected distinct keywords, got {keywords!r}"
 
 
-def _count(n: int, one: str, many: str) -> str:
-    assert n >= 0, n
-    return f"{n} {one if n == 1 else many}"
-
-
 def size_text(*, cycles: int, maps: int) -> str:
     """The record's size in words, e.g. ``"702 cycles of 70 maps"`` (singular for 1)."""
-    return f"{_count(cycles, 'cycle', 'cycles')} of {_count(maps, 'map', 'maps')}"
+    assert cycles >= 0 and maps >= 0, (cycles, maps)
+    return f"{count(cycles, 'cycle')} of {count(maps, 'map')}"
 
 
 def dataset_jsonld(
@@ -147,14 +146,15 @@ def dataset_jsonld(
 _SCRIPT_UNSAFE = {ord(c): f"\\u{ord(c):04x}" for c in "<>&\u2028\u2029"}
 
 
-def jsonld_script(data: Mapping[str, Any]) -> str:
+def jsonld_script(data: Mapping[str, Any]) -> Markup:
     """``<script type="application/ld+json">`` holding ``data`` as JSON (sorted keys, indented).
 
     Whatever the strings hold, the text cannot end the script element or open a comment: ``<``, ``>``,
-    ``&``, U+2028 and U+2029 are written as ``\\u`` escapes, which every JSON parser reads back unchanged.
+    ``&``, U+2028 and U+2029 are written as ``\\u`` escapes, which every JSON parser reads back unchanged;
+    so the text is returned as ``markupsafe.Markup``, safe to place in a page as it is.
     """
     text = json.dumps(data, ensure_ascii=False, sort_keys=True, indent=1, allow_nan=False)
-    return f'<script type="application/ld+json">\n{text.translate(_SCRIPT_UNSAFE)}\n</script>'
+    return Markup(f'<script type="application/ld+json">\n{text.translate(_SCRIPT_UNSAFE)}\n</script>')
 
 
 def citation_cff(

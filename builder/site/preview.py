@@ -1,4 +1,8 @@
-"""``periplus preview``: serve a built site on localhost for reading."""
+"""``periplus preview``: a local web server for reading a built site, answering missing pages with its 404 page.
+
+``open_server`` checks the site and the port and binds the server; the preview command
+(builder.commands) says where it listens and serves until interrupted.  Nothing here prints.
+"""
 
 from __future__ import annotations
 
@@ -9,11 +13,11 @@ from pathlib import Path
 from builder.errors import UsageError
 from builder.site.render import MARKER
 
-__all__ = ["open_server"]
+__all__ = ["open_server", "serving_text"]
 
 
 class _Handler(http.server.SimpleHTTPRequestHandler):
-    def log_message(self, format: str, *args: object) -> None:  # noqa: A002 - the base class's name
+    def log_message(self, format: str, *args: object) -> None:
         pass  # quiet: the address printed at start is what a reader needs
 
     def send_error(self, code: int, message: str | None = None, explain: str | None = None) -> None:
@@ -32,15 +36,21 @@ class _Handler(http.server.SimpleHTTPRequestHandler):
 
 
 def open_server(site: Path, port: int = 8000, host: str = "127.0.0.1") -> http.server.ThreadingHTTPServer:
-    """A server of ``site`` on host:port, not yet serving (TEMPORARY copy in wt-cmd; the site helper's wins)."""
+    """A server for ``site`` bound to ``host``:``port`` (0 picks a free port), not yet serving.
+
+    The caller serves it (``serve_forever``) and closes it (it is a context manager).
+    """
     if not (site / MARKER).is_file():
         raise UsageError(f"{site}: expected a site built by periplus build, got none (run periplus build first)")
     if not 0 <= port <= 65535:
         raise UsageError(f"--port: expected a port from 0 to 65535 (0 picks a free one), got {port}")
     handler = functools.partial(_Handler, directory=str(site))
     try:
-        server = http.server.ThreadingHTTPServer((host, port), handler)
+        return http.server.ThreadingHTTPServer((host, port), handler)
     except OSError as exc:
         raise UsageError(f"{host}:{port}: cannot serve here ({exc.strerror or exc}); try another --port") from None
-    return server
 
+
+def serving_text(site: Path, host: str, server: http.server.ThreadingHTTPServer) -> str:
+    """What the preview command says once ``server`` is open: the site and its address, with the port it got."""
+    return f"Serving {site} at http://{host}:{server.server_address[1]}/ (Ctrl-C stops)"

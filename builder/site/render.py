@@ -1,8 +1,9 @@
-"""Stage 4: write the site's files from the view objects into a directory.
+"""Stage 4: write the site's files from the pages and typed records into a directory.
 
 Templates are Jinja with autoescaping on for every template; the only
-pre-made markup they receive is sanitised notes, MathML and SVG built by
-Periplus from numbers.  Every output path is checked to stay inside the
+pre-made markup they receive is sanitised notes, the JSON-LD script, and
+MathML and SVG built by Periplus from numbers, each returned as Markup by
+the module that escapes it.  Every output path is checked to stay inside the
 output directory, whatever the ids (they are validated long before, this is
 a second line of defence).
 """
@@ -17,23 +18,15 @@ from pathlib import Path
 import jinja2
 
 from builder import __version__
-from builder.site.exports import atom_feed, cycles_csv, json_text, search_index_js, sitemap_xml
+from builder.site.exports import atom_feed, catalogue_json, cycles_csv, map_json, search_index_js, sitemap_xml
 from builder.site.metadata import citation_cff, robots_txt
+from builder.site.pages import NAV
 from builder.site.views import SiteViews
 
-__all__ = ["MARKER", "NAV", "render_site", "template_dir"]
+__all__ = ["MARKER", "render_site", "template_dir"]
 
 #: Written at the top of every built site, so a later build knows the folder is its own to replace.
 MARKER = ".periplus-site"
-NAV = (
-    ("home", "Record", "index.html"),
-    ("maps", "Maps", "maps/index.html"),
-    ("lengths", "Lengths", "lengths/index.html"),
-    ("references", "References", "references/index.html"),
-    ("search", "Search", "search/index.html"),
-    ("data", "Data", "data/index.html"),
-    ("changes", "Changes", "changes/index.html"),
-)
 
 
 def template_dir() -> Path:
@@ -71,10 +64,10 @@ def render_site(views: SiteViews, out: Path) -> list[str]:
         html = template.render(page=page, root=page.root, about=views.record, edition=views.edition, **page.context)
         _write(out, page.path, html)
         pages.append(page.path)
-    _write(out, "data/catalogue.json", json_text(views.records))
+    _write(out, "data/catalogue.json", catalogue_json(views))
     _write(out, "data/cycles.csv", cycles_csv(views))
-    for map_id, record in views.map_records.items():
-        _write(out, f"data/maps/{map_id}.json", json_text(record))
+    for map_id, record in views.maps.items():
+        _write(out, f"data/maps/{map_id}.json", map_json(record))
     _write(out, "data/search-index.js", search_index_js(views))
     _write(out, "feed.xml", atom_feed(views))
     _write(out, "sitemap.xml", sitemap_xml([p for p in pages if p != "404.html"], views.base_url))

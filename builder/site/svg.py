@@ -2,7 +2,8 @@
 
 Coordinates are plotting only (floats never decide anything about a
 cycle); every number is formatted with a fixed precision so the output is
-byte-identical from build to build.
+byte-identical from build to build.  Every text is escaped here, and each
+picture is returned as ``markupsafe.Markup``, safe to place in a page as it is.
 """
 
 from __future__ import annotations
@@ -10,6 +11,8 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from html import escape
+
+from markupsafe import Markup
 
 __all__ = ["odds_chart", "orbit_plot", "word_strip"]
 
@@ -30,7 +33,7 @@ def _fmt(v: float) -> str:
     return f"{v:.1f}"
 
 
-def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> str:
+def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> Markup:
     """The size of each member, step by step, back to the start: a polyline on a log2 scale."""
     values = [_log_size(n) for n in members] + [_log_size(members[0])]
     steps = len(values) - 1
@@ -72,7 +75,7 @@ def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> str:
     marker = ""
     if len(points) <= 200:
         marker = "".join(f'<circle cx="{_fmt(x(i))}" cy="{_fmt(y(v))}" r="2.2" fill="#c0692b"/>' for i, v in points)
-    return (
+    return Markup(
         f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {WIDTH} {HEIGHT}" width="{WIDTH}" height="{HEIGHT}" '
         f'role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
         f'<title id="{svg_id}-t">{escape(title)}</title><desc id="{svg_id}-d">{escape(desc)}</desc>'
@@ -85,7 +88,7 @@ def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> str:
     )
 
 
-def word_strip(word: Sequence[int], modulus: int, title: str, svg_id: str) -> str:
+def word_strip(word: Sequence[int], modulus: int, title: str, svg_id: str) -> Markup:
     """The word as a row of coloured cells, one per step (the first STRIP_CELLS steps)."""
     shown = word[:STRIP_CELLS]
     cell = max(2.0, min(24.0, 640 / max(len(shown), 1)))
@@ -98,14 +101,14 @@ def word_strip(word: Sequence[int], modulus: int, title: str, svg_id: str) -> st
     )
     more = f" (the first {len(shown)} of {len(word)} steps)" if len(word) > len(shown) else ""
     desc = f"One cell per step, coloured by the residue mod {modulus} of the member{more}."
-    return (
+    return Markup(
         f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {_fmt(width)} {height}" width="{_fmt(width)}" '
         f'height="{height}" role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
         f'<title id="{svg_id}-t">{escape(title)}</title><desc id="{svg_id}-d">{escape(desc)}</desc>{rects}</svg>'
     )
 
 
-def odds_chart(rows: Sequence[tuple[int, float, int]], title: str, svg_id: str) -> str:
+def odds_chart(rows: Sequence[tuple[int, float, int]], title: str, svg_id: str) -> Markup:
     """Bars: the heuristic chance of an integer cycle at each length k; dots: catalogued cycles of that length."""
     plot_w = WIDTH - LEFT - RIGHT
     plot_h = HEIGHT - TOP - BOTTOM
@@ -139,7 +142,7 @@ def odds_chart(rows: Sequence[tuple[int, float, int]], title: str, svg_id: str) 
         if rows
         else "No lengths."
     )
-    return (
+    return Markup(
         f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {WIDTH} {HEIGHT}" width="{WIDTH}" height="{HEIGHT}" '
         f'role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
         f'<title id="{svg_id}-t">{escape(title)}</title><desc id="{svg_id}-d">{escape(desc)}</desc>'

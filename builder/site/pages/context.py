@@ -1,0 +1,221 @@
+"""What every page kind reads: the verified catalogue, its records, and the pieces several pages share.
+
+``SiteContext`` is built once per build from the verified catalogue and its typed records.
+Besides the data it holds the pieces more than one page kind shows: links to cycles and
+references, the rows of the cycle and map tables, the badges of a cycle, and what an entry
+page says of the entry's history.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+
+from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Reference
+from builder.catalogue.relations import Relations, qx_plus_d
+from builder.history import Changelog, Edition, NoHistory, RepoHistory
+from builder.site.pages.common import Link
+from builder.site.paths import map_url, reference_url
+from builder.site.records import CycleRecord, HistoryRecord, MapRecord
+
+__all__ = [
+    "CycleRow",
+    "HistoryView",
+    "MapRow",
+    "ReferenceLink",
+    "SiteContext",
+    "counts_text",
+    "reference_href",
+    "reference_label",
+]
+
+
+@dataclass(frozen=True, slots=True)
+class ReferenceLink:
+    """A cited source as an entry page lists it: a short label, its place on the references page, where to read it."""
+
+    label: str
+    url: str
+    title: str
+    doi: str | None
+    href: str | None
+    status: str | None
+
+
+@dataclass(frozen=True, slots=True)
+class CycleRow:
+    """One row of a table of cycles."""
+
+    url: str
+    map_name: str
+    map_url: str
+    canonical: str
+    length: int
+    counts: str
+    counts_key: int  # what the counts column sorts by
+    minimum: str
+    maximum: str
+    marks: tuple[str, ...]
+    with_map: bool  # whether the table has a column for the map
+
+
+@dataclass(frozen=True, slots=True)
+class MapRow:
+    """One row of a table of maps."""
+
+    url: str
+    name: str
+    summary: str
+    modulus: int
+    cycles: int
+    coprime: int | None  # cycles whose members are coprime to d, for qx+d maps with |d| > 1
+
+
+@dataclass(frozen=True, slots=True)
+class HistoryView:
+    """What an entry page says of the entry's history: the dates and commits, or why there are none."""
+
+    past: HistoryRecord | None
+    unavailable: str | None
+    shallow: bool  # read from a shallow clone: the entry may be older than it says
+
+
+def _surname(author: str) -> str:
+    """The name without initials or a role: "T. Oliveira e Silva" -> "Oliveira e Silva"."""
+    words = [w for w in author.split() if not (w.endswith(".") and len(w) <= 3) and not w.startswith("(")]
+    return " ".join(words) or author
+
+
+def reference_label(ref: Reference) -> str:
+    """A short label for a source: "Ames (1985)", "Ames and Bell (2001)", "Ames et al. (2010)"."""
+    names = [_surname(a) for a in ref.authors]
+    who = names[0] if len(names) == 1 else (" and ".join(names) if len(names) == 2 else f"{names[0]} et al.")
+    return f"{who} ({ref.year})"
+
+
+def reference_href(ref: Reference) -> str | None:
+    """Where a reader finds a source: its DOI resolved, else its URL."""
+    return f"https://doi.org/{ref.doi}" if ref.doi else ref.url
+
+
+def counts_text(entry: MapEntry, cycle: Cycle) -> str:
+    """How often each residue occurs in the cycle's word: "3 odd, 5 even", or "0: 2, 2: 1" for m > 2."""
+    counts = cycle.residue_counts
+    if entry.modulus == 2:
+        return f"{counts[1]} odd, {counts[0]} even"
+    return ", ".join(f"{r}: {c}" for r, c in enumerate(counts) if c)
+
+
+def _display_order(entry: MapEntry) -> tuple[int, int, int, bool, str]:
+    """qx+d maps by q, then |d| (d before -d); every other map after them, by name."""
+    form = qx_plus_d(entry)
+    if form is None:
+        return (1, 0, 0, False, entry.name)
+    q, d = form
+    return (0, q, abs(d), d < 0, entry.name)
+
+
+class SiteContext:
+    """The verified catalogue with its records, and the site's shared pieces of pages."""
+
+    def __init__(
+        self,
+        catalogue: Catalogue,
+        rel: Relations,
+        maps: Mapping[str, MapRecord],
+        cycles: Iterable[CycleRecord],
+        *,
+        base_url: str,
+        fixed_root: str | None,
+        edition: Edition,
+        changelog: Changelog,
+        history: RepoHistory | NoHistory,
+    ) -> None:
+        assert catalogue.record is not None
+        self.record: Record = catalogue.record
+        self.cat = catalogue
+        self.rel = rel
+        self.maps = maps
+        self.references: Mapping[str, Reference] = catalogue.references
+        self.base_url = base_url
+        self.fixed_root = fixed_root  # the 404 page's root: the base URL given to this build, if any
+        self.edition = edition
+        self.changelog = changelog
+        self.history = history
+        # In the catalogue's order of cycles, which the lengths pages keep for cycles of equal |member|.
+        self.records: dict[tuple[str, str], CycleRecord] = {(c.map_id, c.id): c for c in cycles}
+        self.cycles: dict[tuple[str, str], Cycle] = {
+            (m, c.id): c for m, cycles in catalogue.cycles.items() for c in cycles
+        }
+        self.map_order = sorted(catalogue.maps, key=lambda map_id: _display_order(catalogue.maps[map_id]))
+
+    def cycle_link(self, key: tuple[str, str], note: str = "") -> Link:
+        record = self.records[key]
+        name = self.cat.maps[key[0]].name
+        return Link(f"{name}: cycle through {record.canonical}", record.url, note)
+
+    def reference_links(self, keys: Iterable[str]) -> list[ReferenceLink]:
+        out = []
+        for key in keys:
+            ref = self.references[key]
+            out.append(
+                ReferenceLink(
+                    reference_label(ref), reference_url(key), ref.title, ref.doi, reference_href(ref), ref.status
+                )
+            )
+        return out
+
+    def marks(self, key: tuple[str, str]) -> tuple[str, ...]:
+        """The badges of a cycle: a scaled copy, or members sharing a factor with d."""
+        scaling = self.rel.scaled_from.get(key)
+        if scaling is not None:
+            return (f"{scaling.factor} × a cycle of {self.cat.maps[scaling.base[0]].name}",)
+        if self.rel.shared_factor.get(key, 1) > 1:
+            return (f"members share the factor {self.rel.shared_factor[key]} with d",)
+        return ()
+
+    def cycle_rows(self, keys: Iterable[tuple[str, str]], with_map: bool = False) -> list[CycleRow]:
+        rows = []
+        for key in keys:
+            r = self.records[key]
+            entry = self.cat.maps[key[0]]
+            rows.append(
+                CycleRow(
+                    r.url,
+                    entry.name,
+                    map_url(entry.id),
+                    r.canonical,
+                    r.length,
+                    counts_text(entry, self.cycles[key]),
+                    r.residue_counts[1] if entry.modulus == 2 else r.length,
+                    r.minimum,
+                    r.maximum,
+                    self.marks(key),
+                    with_map,
+                )
+            )
+        return rows
+
+    def coprime_count(self, map_id: str) -> int | None:
+        """How many cycles of a qx+d map with |d| > 1 have members coprime to d (None for other maps)."""
+        form = qx_plus_d(self.cat.maps[map_id])
+        if form is None or abs(form[1]) <= 1:
+            return None
+        return sum(1 for c in self.cat.cycles.get(map_id, ()) if self.rel.shared_factor.get((map_id, c.id)) == 1)
+
+    def map_rows(self) -> list[MapRow]:
+        rows = []
+        for map_id in self.map_order:
+            entry = self.cat.maps[map_id]
+            count = len(self.cat.cycles.get(map_id, ()))
+            rows.append(
+                MapRow(map_url(map_id), entry.name, entry.summary, entry.modulus, count, self.coprime_count(map_id))
+            )
+        return rows
+
+    def history_view(self, past: HistoryRecord | None) -> HistoryView:
+        if past is None:
+            assert isinstance(self.history, NoHistory)
+            return HistoryView(None, self.history.reason, False)
+        shallow = isinstance(self.history, RepoHistory) and self.history.shallow
+        return HistoryView(past, None, shallow)

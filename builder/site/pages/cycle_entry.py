@@ -1,0 +1,188 @@
+"""Each cycle's page: members, word, cycle equation, orbit, provenance, related cycles, how to cite it.
+
+Long cycles show their first and last members and the start of their word (the map's data
+file has every one); the equation is shown in MathML and in plain text.
+"""
+
+from __future__ import annotations
+
+import posixpath
+from dataclasses import dataclass
+
+from builder.arith.integers import show
+from builder.catalogue.model import Cycle, MapEntry
+from builder.site.markdown import render_notes
+from builder.site.mathml import cycle_equation_mathml
+from builder.site.pages.common import Link, Page, PageKind
+from builder.site.pages.context import SiteContext, counts_text
+from builder.site.pages.maps_index import MAPS_CRUMBS, SECTION
+from builder.site.paths import cycle_url, length_url, map_url
+from builder.site.records import CycleRecord
+from builder.site.svg import orbit_plot, word_strip
+
+__all__ = ["KIND", "MEMBERS_ON_PAGE", "RelatedGroup"]
+
+#: Cycles up to this length show every member on their page; longer ones their first and last.
+MEMBERS_ON_PAGE = 1000
+HEAD_MEMBERS, TAIL_MEMBERS = 500, 100
+WORD_ON_PAGE = 4000
+SAME_WORD_SHOWN = 12
+
+
+@dataclass(frozen=True, slots=True)
+class RelatedGroup:
+    """Cycles related to this one in one way (its mirror, scaled copies, the same word elsewhere)."""
+
+    kind: str
+    links: list[Link]
+
+
+def _factors(entry: MapEntry, cycle: Cycle) -> list[tuple[int, int]]:
+    """A = product of a_r^count_r, with equal multipliers merged, in order of residue."""
+    merged: dict[int, int] = {}
+    for (a, _), count in zip(entry.branches, cycle.residue_counts, strict=True):
+        if count:
+            merged[a] = merged.get(a, 0) + count
+    return list(merged.items())
+
+
+def _equation_text(entry: MapEntry, cycle: Cycle) -> str:
+    """The cycle equation in plain text, for print and for readers without MathML."""
+    eq = cycle.equation
+    powers = [
+        f"({show(a)})^{c}" if a < 0 else (f"{show(a)}^{c}" if c > 1 else show(a))
+        for a, c in _factors(entry, cycle)
+        if a != 1
+    ]
+    product = " · ".join(powers) or "1"
+    head = f"n = B / ({entry.modulus}^{cycle.length} − {product})"
+    if eq.target == 0:
+        return f"{head}: here {entry.modulus}^k = A and B = 0, so every start following the word is periodic"
+    return f"{head} = {show(eq.offset)} / {show(eq.target)} = {show(cycle.canonical)}"
+
+
+def _bibtex(text: str) -> str:
+    """Escape the characters BibTeX and LaTeX treat specially."""
+    out = []
+    for ch in text:
+        if ch in "{}":
+            out.append("\\" + ch)
+        elif ch in "\\":
+            out.append("\\textbackslash{}")
+        elif ch in "%&#$_":
+            out.append("\\" + ch)
+        elif ch in "^~":
+            out.append("\\" + ch + "{}")
+        else:
+            out.append(ch)
+    return "".join(out)
+
+
+def _related(site: SiteContext, key: tuple[str, str], length: int) -> list[RelatedGroup]:
+    """The cycle's mirror, what it is a scaled copy of, its scaled copies, and the same word in other maps."""
+    related: list[RelatedGroup] = []
+    mirror = site.rel.mirror.get(key)
+    if mirror is not None:
+        related.append(RelatedGroup("Mirror", [site.cycle_link(mirror, "the negated cycle of the mirror map")]))
+    scaled = site.rel.scaled_from.get(key)
+    if scaled is not None:
+        related.append(RelatedGroup("Scaled copy of", [site.cycle_link(scaled.base, f"times {scaled.factor}")]))
+    copies = site.rel.scaled_to.get(key, ())
+    if copies:
+        related.append(RelatedGroup("Scaled copies", [site.cycle_link(s.copy, f"times {s.factor}") for s in copies]))
+    listed = {mirror, scaled.base if scaled else None, *(s.copy for s in copies)}
+    same = [k for k in site.rel.same_word.get(key, ()) if k not in listed]
+    if same:
+        links = [site.cycle_link(k) for k in same[:SAME_WORD_SHOWN]]
+        if len(same) > SAME_WORD_SHOWN:
+            more = len(same) - SAME_WORD_SHOWN
+            links.append(Link(f"{more} more cycles of length {length}", length_url(length)))
+        related.append(RelatedGroup("Same word in other maps", links))
+    return related
+
+
+def _citations(site: SiteContext, entry: MapEntry, cycle: Cycle, title: str, permalink: str) -> tuple[str, str]:
+    """The entry's citation as a line of text and as a BibTeX entry."""
+    prov = cycle.provenance
+    record, edition = site.record, site.edition
+    where = f"entry {entry.id}/{cycle.id}, fingerprint {cycle.fingerprint}"
+    cite = (
+        f"{title} (length {cycle.length}). {record.title}, {edition.label}, {where}, "
+        f"{permalink}. Found by {prov.found_by}, {prov.found_on.isoformat()}. "
+        f"Data licence: {record.licence}."
+    )
+    bibtex = (
+        f"@misc{{periplus:{entry.id}/{cycle.id},\n"
+        f"  title        = {{{_bibtex(title)}}},\n"
+        f"  howpublished = {{{_bibtex(record.title)}, {_bibtex(edition.label)}, {_bibtex(where)}}},\n"
+        f"  author       = {{{{{_bibtex(record.maintainers)}}}}},\n"
+        f"  note         = {{Cycle of length {cycle.length}; found by {_bibtex(prov.found_by)}, "
+        f"{prov.found_on.isoformat()}; data licence {_bibtex(record.licence)}}},\n"
+        f"  url          = {{{_bibtex(permalink)}}},\n"
+        f"  year         = {{{prov.found_on.year}}}\n}}"
+    )
+    return cite, bibtex
+
+
+def _members(r: CycleRecord) -> dict[str, object]:
+    """The members the page lists: all of them, or the first and the last with a count of those left out."""
+    members = r.members
+    tail: tuple[str, ...] = ()
+    if len(members) <= MEMBERS_ON_PAGE:
+        head, hidden = members, 0
+    else:
+        head, tail = members[:HEAD_MEMBERS], members[-TAIL_MEMBERS:]
+        hidden = len(members) - HEAD_MEMBERS - TAIL_MEMBERS
+    word = r.word if len(r.word) <= WORD_ON_PAGE else r.word[:WORD_ON_PAGE]
+    return {
+        "head": head,
+        "tail": tail,
+        "hidden": hidden,
+        "tail_start": len(members) - len(tail) + 1,
+        "word": word,
+        "word_cut": len(r.word) - len(word),
+    }
+
+
+def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle) -> Page:
+    key = (entry.id, cycle.id)
+    r = site.records[key]
+    title = f"{entry.name}: cycle through {r.canonical}"
+    svg_id = f"c-{entry.id}-{cycle.id}"
+    # The pretty address (absolute with a base URL); links on the page use index.html.
+    permalink = site.base_url + posixpath.dirname(r.url) + "/"
+    cite, bibtex = _citations(site, entry, cycle, title, permalink)
+    eq = cycle.equation
+    context = {
+        "map": entry,
+        "map_url": map_url(entry.id),
+        "record": r,
+        **_members(r),
+        "export": f"data/maps/{entry.id}.json",
+        "word_svg": word_strip(cycle.canonical_word, entry.modulus, f"Word of {title}", svg_id + "-w"),
+        "plot_svg": orbit_plot(cycle.canonical_members, f"Orbit of {title}", svg_id + "-p"),
+        "equation": cycle_equation_mathml(
+            entry.modulus, cycle.length, _factors(entry, cycle), eq.offset, eq.target, cycle.canonical
+        ),
+        "equation_text": _equation_text(entry, cycle),
+        "counts_text": counts_text(entry, cycle),
+        "length_url": length_url(cycle.length),
+        "notes": render_notes(cycle.provenance.notes),
+        "references": site.reference_links(cycle.provenance.references),
+        "related": _related(site, key, cycle.length),
+        "marks": site.marks(key),
+        "cite": cite,
+        "bibtex": bibtex,
+        "permalink": permalink,
+        "history": site.history_view(r.history),
+    }
+    crumbs = (*MAPS_CRUMBS, Link(entry.name, map_url(entry.id)))
+    return Page(cycle_url(entry.id, cycle.id), "cycle.html", title, SECTION, context, crumbs)
+
+
+def cycle_pages(site: SiteContext, map_id: str) -> list[Page]:
+    entry = site.cat.maps[map_id]
+    return [cycle_page(site, entry, cycle) for cycle in site.cat.cycles.get(map_id, ())]
+
+
+KIND = PageKind("cycle", map_pages=cycle_pages)

@@ -1,0 +1,226 @@
+"""The verified model as typed records: what the site publishes of each map, cycle, claim and reference.
+
+Each record is built once from the verified catalogue, with every number that belongs to a cycle
+already written as decimal text (any size, through builder.arith.integers) and every date of git
+history as an ISO date.  The pages read these records' attributes and the exports
+(builder.site.exports) turn the same records into JSON, CSV and Atom, so a page and a data file
+can never disagree.  What the model already holds as text (a reference, a cycle's provenance) is
+published as the model's own frozen type (builder.catalogue.model), not copied into another.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from builder.arith.integers import to_decimal
+from builder.arith.words import word_text
+from builder.catalogue.model import Coverage, Cycle, MapEntry, Provenance, Record
+from builder.catalogue.relations import Relations
+from builder.history import Edition, FileHistory, NoHistory, RepoHistory
+from builder.site.paths import cycle_url, map_url
+
+__all__ = [
+    "AboutRecord",
+    "CoverageRecord",
+    "CycleRecord",
+    "HistoryRecord",
+    "MapRecord",
+]
+
+
+@dataclass(frozen=True, slots=True)
+class AboutRecord:
+    """The record's own description, as every export carries it: what it is, its licence, this edition."""
+
+    title: str
+    description: str
+    maintainers: str
+    licence: str
+    licence_url: str
+    base_url: str  # absolute, ending in "/"
+    version: str
+    edition: str  # the edition's label
+    release_status: str
+    commit: str | None
+
+    @classmethod
+    def of(cls, record: Record, edition: Edition, base_url: str) -> AboutRecord:
+        return cls(
+            record.title,
+            record.description,
+            record.maintainers,
+            record.licence,
+            record.licence_url,
+            base_url,
+            record.version,
+            edition.label,
+            edition.status,
+            edition.commit,
+        )
+
+
+@dataclass(frozen=True, slots=True)
+class HistoryRecord:
+    """When an entry's file was first added and last changed, from git: ISO dates and full commit ids.
+
+    The committers' names are published only when the record credits committers (``names``).
+    """
+
+    file: str  # the entry's path inside the catalogue, POSIX
+    added: str | None
+    added_commit: str | None
+    added_by: str | None
+    changed: str | None
+    changed_commit: str | None
+    changed_by: str | None
+    uncommitted: bool
+    names: bool
+
+    @classmethod
+    def of(cls, history: RepoHistory | NoHistory, rel: str, names: bool) -> HistoryRecord | None:
+        """The history of the file ``rel``; None outside a repository."""
+        if isinstance(history, NoHistory):
+            return None
+        found: FileHistory = history.of(rel)
+        added, changed = found.added, found.changed
+        return cls(
+            rel,
+            added.date.isoformat() if added else None,
+            added.id if added else None,
+            added.committer if added and names else None,
+            changed.date.isoformat() if changed else None,
+            changed.id if changed else None,
+            changed.committer if changed and names else None,
+            found.uncommitted,
+            names,
+        )
+
+    @property
+    def added_short(self) -> str | None:
+        return self.added_commit[:12] if self.added_commit else None
+
+    @property
+    def changed_short(self) -> str | None:
+        return self.changed_commit[:12] if self.changed_commit else None
+
+
+@dataclass(frozen=True, slots=True)
+class CycleRecord:
+    """One verified cycle: its members and word read from the canonical member, its equation, provenance."""
+
+    map_id: str
+    id: str
+    fingerprint: str
+    url: str  # its page, relative to the site root
+    canonical: str
+    length: int
+    word: str
+    members: tuple[str, ...]  # from the canonical member, in the order the map visits them
+    residue_counts: tuple[int, ...]
+    minimum: str
+    maximum: str
+    multiplier: str  # A in the cycle equation
+    offset: str  # B in the cycle equation
+    target: str  # m^k - A
+    standard_length: int | None
+    shared_factor: int | None  # the factor its members share with the increment, for qx+d maps
+    start: str  # the member the entry starts from
+    provenance: Provenance
+    history: HistoryRecord | None
+
+    @classmethod
+    def of(cls, entry: MapEntry, cycle: Cycle, rel: Relations, history: HistoryRecord | None) -> CycleRecord:
+        eq = cycle.equation
+        return cls(
+            entry.id,
+            cycle.id,
+            cycle.fingerprint,
+            cycle_url(entry.id, cycle.id),
+            to_decimal(cycle.canonical),
+            cycle.length,
+            word_text(cycle.canonical_word, entry.modulus),
+            tuple(to_decimal(n) for n in cycle.canonical_members),
+            tuple(cycle.residue_counts),
+            to_decimal(cycle.minimum),
+            to_decimal(cycle.maximum),
+            to_decimal(eq.multiplier),
+            to_decimal(eq.offset),
+            to_decimal(eq.target),
+            cycle.standard_length,
+            rel.shared_factor.get((entry.id, cycle.id)),
+            to_decimal(cycle.start),
+            cycle.provenance,
+            history,
+        )
+
+
+@dataclass(frozen=True, slots=True)
+class CoverageRecord:
+    """A completeness claim: every start up to ``bound`` in absolute value was followed under the map."""
+
+    kind: str
+    bound: str
+    found_on: str  # ISO date
+    method: str
+    max_steps: int
+    max_bits: int
+    unresolved: tuple[str, ...]  # the starts whose orbits were not resolved within the limits
+    rechecked: bool  # whether this build followed every start again
+
+    @classmethod
+    def of(cls, claim: Coverage) -> CoverageRecord:
+        return cls(
+            claim.kind,
+            to_decimal(claim.bound),
+            claim.found_on.isoformat(),
+            claim.method,
+            claim.max_steps,
+            claim.max_bits,
+            tuple(to_decimal(n) for n in claim.unresolved),
+            claim.rechecked,
+        )
+
+
+@dataclass(frozen=True, slots=True)
+class MapRecord:
+    """One map with its definition, claims and cycles, and the record it belongs to."""
+
+    id: str
+    name: str
+    url: str  # its page, relative to the site root
+    modulus: int
+    branches: tuple[tuple[str, str], ...]  # (multiplier, increment) for each residue 0..m-1
+    summary: str
+    notes: str | None
+    references: tuple[str, ...]
+    mirror_map: str | None  # the map of n -> -T(-n), when the record has it
+    coverage: tuple[CoverageRecord, ...]
+    history: HistoryRecord | None
+    cycles: tuple[CycleRecord, ...]  # in order of canonical member
+    about: AboutRecord
+
+    @classmethod
+    def of(
+        cls,
+        entry: MapEntry,
+        cycles: tuple[CycleRecord, ...],
+        rel: Relations,
+        history: HistoryRecord | None,
+        about: AboutRecord,
+    ) -> MapRecord:
+        branches = tuple((to_decimal(a), to_decimal(b)) for a, b in entry.branches)
+        return cls(
+            entry.id,
+            entry.name,
+            map_url(entry.id),
+            entry.modulus,
+            branches,
+            entry.summary,
+            entry.notes,
+            tuple(entry.references),
+            rel.mirror_map.get(entry.id),
+            tuple(CoverageRecord.of(c) for c in entry.coverage),
+            history,
+            cycles,
+            about,
+        )
