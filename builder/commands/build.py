@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from builder.commands.options import Subcommands, add_catalogue, add_limits, limits_of
+from builder.commands.options import Subcommands, add_catalogue, add_command, add_limits, limits_of
 from builder.commands.summary import show_report
 from builder.errors import UsageError
 from builder.history import NoHistory
@@ -13,16 +13,17 @@ from builder.site.build import build_site
 
 __all__ = ["register", "run"]
 
+HELP = "verify the catalogue, then write the website"
+DESCRIPTION = (
+    "Verify CATALOGUE exactly; if every claim holds, write the static site to DIR in one step "
+    "(built beside it, then swapped in). If anything fails, nothing is written and the problems are printed. "
+    "Exit 0 on success, 1 when an entry fails, 2 for usage errors."
+)
+
 
 def register(subparsers: Subcommands) -> None:
     """Add ``build`` to the subcommands of the ``periplus`` parser."""
-    parser = subparsers.add_parser(
-        "build",
-        help="verify the catalogue, then write the website",
-        description="Verify CATALOGUE exactly; if every claim holds, write the static site to DIR in one step "
-        "(built beside it, then swapped in). If anything fails, nothing is written and the problems are printed. "
-        "Exit 0 on success, 1 when an entry fails, 2 for usage errors.",
-    )
+    parser = add_command(subparsers, "build", HELP, DESCRIPTION)
     add_catalogue(parser)
     parser.add_argument("--out", default="site", type=Path, metavar="DIR", help="where the site goes (default: site)")
     parser.add_argument(

@@ -6,22 +6,23 @@ import argparse
 import sys
 
 from builder.catalogue.draft import draft_cycle
-from builder.commands.options import Subcommands, add_catalogue, add_limits, limits_of
+from builder.commands.options import Subcommands, add_catalogue, add_command, add_limits, limits_of
 from builder.commands.summary import verified_entries
 from builder.errors import UsageError
 
 __all__ = ["register", "run"]
 
+HELP = "derive a cycle from a start or a word and print its catalogue entry"
+DESCRIPTION = (
+    "Derive the cycle of MAP through --start N (or following --word W) exactly and print a complete "
+    "entry with every claim filled in and the provenance left for you. Exit 0 with an entry, 1 when there is "
+    "none (not a cycle, already catalogued), 2 for usage errors."
+)
+
 
 def register(subparsers: Subcommands) -> None:
     """Add ``draft`` to the subcommands of the ``periplus`` parser."""
-    parser = subparsers.add_parser(
-        "draft",
-        help="derive a cycle from a start or a word and print its catalogue entry",
-        description="Derive the cycle of MAP through --start N (or following --word W) exactly and print a complete "
-        "entry with every claim filled in and the provenance left for you. Exit 0 with an entry, 1 when there is "
-        "none (not a cycle, already catalogued), 2 for usage errors.",
-    )
+    parser = add_command(subparsers, "draft", HELP, DESCRIPTION)
     parser.add_argument("map", metavar="MAP", help="a map id of the catalogue")
     source = parser.add_mutually_exclusive_group(required=True)
     source.add_argument("--start", metavar="N", help="any member of the cycle")

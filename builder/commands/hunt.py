@@ -35,7 +35,7 @@ from builder.arith.integers import show
 from builder.catalogue.entries import cycle_file_id, entry_text
 from builder.catalogue.model import PLACEHOLDER, Cycle
 from builder.catalogue.verify import Limits, verify_catalogue
-from builder.commands.options import Subcommands, natural, positive
+from builder.commands.options import Subcommands, add_command, natural, positive
 from builder.errors import UsageError
 from builder.search.definition import HUNT_MAX_BITS, HUNT_MAX_STEPS
 from builder.search.survey import (
@@ -58,16 +58,17 @@ INTERRUPTED = "interrupted before any start was covered"
 
 # --- arguments -----------------------------------------------------------------------------
 
+HELP = "search a map for cycles among all starts up to a bound"
+DESCRIPTION = (
+    "Follow every start n with |n| up to a bound exactly and report the cycles met, "
+    "marked as catalogued or new, and every start whose orbit was not decided within the limits. "
+    "Exit 0 on success, 1 when the catalogue does not verify, 2 for usage errors, 130 when interrupted."
+)
+
 
 def register(subparsers: Subcommands) -> None:
     """Add ``hunt`` to the subcommands of the ``periplus`` parser."""
-    hunt = subparsers.add_parser(
-        "hunt",
-        help="search a map for cycles among all starts up to a bound",
-        description="Follow every start n with |n| up to a bound exactly and report the cycles met, "
-        "marked as catalogued or new, and every start whose orbit was not decided within the limits. "
-        "Exit 0 on success, 1 when the catalogue does not verify, 2 for usage errors, 130 when interrupted.",
-    )
+    hunt = add_command(subparsers, "hunt", HELP, DESCRIPTION)
     hunt.add_argument(
         "map", nargs="?", metavar="MAP", help="id of a map in the catalogue (from the saved files with --merge)"
     )

@@ -6,23 +6,24 @@ import argparse
 
 from builder.arith.integers import show
 from builder.arith.odds import length_odds, odds_table
-from builder.commands.options import Subcommands, add_catalogue
+from builder.commands.options import Subcommands, add_catalogue, add_command
 from builder.commands.summary import verified_entries
 from builder.errors import UsageError
 
 __all__ = ["register", "run"]
 
+HELP = "the heuristic chance of an integer cycle at each length, beside the catalogue's count"
+DESCRIPTION = (
+    "For each length k and count x of letters 1 (odd steps), the number L(k, x) of aperiodic "
+    "necklaces, the target m^k - A and the heuristic chance 1 - (1 - g/|target|)^L that one of the L words "
+    "gives an integer cycle; beside it, how many catalogued cycles have that length and x. A model, not a "
+    "theorem: see DEVELOPERS.md."
+)
+
 
 def register(subparsers: Subcommands) -> None:
     """Add ``odds`` to the subcommands of the ``periplus`` parser."""
-    parser = subparsers.add_parser(
-        "odds",
-        help="the heuristic chance of an integer cycle at each length, beside the catalogue's count",
-        description="For each length k and count x of letters 1 (odd steps), the number L(k, x) of aperiodic "
-        "necklaces, the target m^k - A and the heuristic chance 1 - (1 - g/|target|)^L that one of the L words "
-        "gives an integer cycle; beside it, how many catalogued cycles have that length and x. A model, not a "
-        "theorem: see DEVELOPERS.md.",
-    )
+    parser = add_command(subparsers, "odds", HELP, DESCRIPTION)
     parser.add_argument("map", metavar="MAP", help="a map id of the catalogue (2 branches)")
     parser.add_argument("--lengths", required=True, metavar="K1..K2", help="the lengths to show, e.g. 1..20 or 11")
     add_catalogue(parser, positional=False)

@@ -14,7 +14,7 @@ from typing import TypeAlias
 from builder.arith.integers import parse_decimal
 from builder.catalogue.verify import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, Limits
 
-__all__ = ["Subcommands", "add_catalogue", "add_limits", "limits_of", "natural", "positive"]
+__all__ = ["Subcommands", "add_catalogue", "add_command", "add_limits", "limits_of", "natural", "positive"]
 
 #: What ``register`` receives: the subcommands of the ``periplus`` parser.
 Subcommands: TypeAlias = "argparse._SubParsersAction[argparse.ArgumentParser]"
@@ -80,3 +80,8 @@ def add_limits(parser: argparse.ArgumentParser) -> None:
         help="re-run every coverage claim whose bound is at most N; larger ones are shown as attested "
         f"(default {DEFAULT_RECHECK_UP_TO:,})",
     )
+
+
+def add_command(subparsers: Subcommands, name: str, help_text: str, description: str) -> argparse.ArgumentParser:
+    """A command's parser: its one-line help for ``periplus --help`` and its description for its own."""
+    return subparsers.add_parser(name, help=help_text, description=description)

@@ -7,25 +7,26 @@ import sys
 from pathlib import Path
 
 from builder.catalogue import Report, verify_catalogue, verify_source
-from builder.commands.options import Subcommands, add_limits, limits_of
+from builder.commands.options import Subcommands, add_command, add_limits, limits_of
 from builder.diff import compare, github_commands, render_markdown
 from builder.errors import NoCatalogueAtRevision, UsageError
 from builder.history.revisions import catalogue_path, empty_source, repository_top, revision_source
 
 __all__ = ["register", "run"]
 
+HELP = "report what a pull request changes in the catalogue and whether it holds"
+DESCRIPTION = (
+    "Verify the catalogues BASE and HEAD and report, entry by entry, what HEAD adds, changes, "
+    "renames and removes, with the verification result of every added or changed entry. BASE and HEAD are "
+    "catalogue directories, or with --git revisions of a git repository. Exit 1 when an added or changed "
+    "entry fails, or an untouched entry fails in HEAD although it held in BASE (a removal that breaks a "
+    "dependency); warnings alone exit 0; 2 for usage errors."
+)
+
 
 def register(subparsers: Subcommands) -> None:
     """Add ``review`` to the subcommands of the ``periplus`` parser."""
-    review = subparsers.add_parser(
-        "review",
-        help="report what a pull request changes in the catalogue and whether it holds",
-        description="Verify the catalogues BASE and HEAD and report, entry by entry, what HEAD adds, changes, "
-        "renames and removes, with the verification result of every added or changed entry. BASE and HEAD are "
-        "catalogue directories, or with --git revisions of a git repository. Exit 1 when an added or changed "
-        "entry fails, or an untouched entry fails in HEAD although it held in BASE (a removal that breaks a "
-        "dependency); warnings alone exit 0; 2 for usage errors.",
-    )
+    review = add_command(subparsers, "review", HELP, DESCRIPTION)
     review.add_argument("base", metavar="BASE", help="the catalogue before the change (a directory or a revision)")
     review.add_argument("head", metavar="HEAD", help="the catalogue after the change (a directory or a revision)")
     review.add_argument("--git", action="store_true", help="read BASE and HEAD as git revisions, without checkout")

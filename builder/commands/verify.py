@@ -5,20 +5,21 @@ from __future__ import annotations
 import argparse
 
 from builder.catalogue.verify import verify_catalogue
-from builder.commands.options import Subcommands, add_catalogue, add_limits, limits_of
+from builder.commands.options import Subcommands, add_catalogue, add_command, add_limits, limits_of
 from builder.commands.summary import show_report
 
 __all__ = ["register", "run"]
 
+HELP = "re-derive every entry of a catalogue exactly and report what does not hold"
+DESCRIPTION = (
+    "Re-derive every map and cycle of CATALOGUE with exact integer arithmetic. "
+    "Exit 0 when every claim holds, 1 when any entry fails, 2 for usage errors or an unreadable catalogue."
+)
+
 
 def register(subparsers: Subcommands) -> None:
     """Add ``verify`` to the subcommands of the ``periplus`` parser."""
-    parser = subparsers.add_parser(
-        "verify",
-        help="re-derive every entry of a catalogue exactly and report what does not hold",
-        description="Re-derive every map and cycle of CATALOGUE with exact integer arithmetic. "
-        "Exit 0 when every claim holds, 1 when any entry fails, 2 for usage errors or an unreadable catalogue.",
-    )
+    parser = add_command(subparsers, "verify", HELP, DESCRIPTION)
     add_catalogue(parser)
     add_limits(parser)
     parser.set_defaults(run=run)
