@@ -3,9 +3,9 @@
     python bench/hunt_speed.py [--bound N] [--exact-bound M] [--repeat R]
 
 For the shortcut maps 3x+1, 3x+97 and 3x+1001 it hunts every start with
-|n| <= N (default 10^6) in one process with builder._fastiter.hunt_range,
+|n| <= N (default 10^6) in one process with builder.search.engine.hunt_range,
 and, as the floor, every start with |n| <= M (default 20,000) with the plain
-exact iteration of builder.hunt.hunt.  It checks (asserts) that both give
+exact iteration of builder.search.definition.hunt.  It checks (asserts) that both give
 the same result on |n| <= M.  Goal: at least 1,000,000 starts per second
 per core for 3x+1.  Best of R runs; figures, not pass/fail: timings on a
 shared machine vary, so no test depends on them.

@@ -3,7 +3,7 @@
     python scripts/make_starter.py [CATALOGUE]
 
 For every map in the plan below, every start n with |n| <= its bound is
-followed exactly (builder._fastiter, the same engine as `periplus hunt`);
+followed exactly (builder.search.engine, the same engine as `periplus hunt`);
 each cycle found gets a file cycles/<map-id>/<canonical>.yaml, and the map
 file's `coverage:` block (its last field) is rewritten with the claims the
 search supports, unresolved starts included.  Map files other than 3x+d

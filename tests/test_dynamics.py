@@ -1,4 +1,4 @@
-"""Exact iteration, the cycle equation, limits and huge integers (builder.dynamics, builder.integers).
+"""Exact iteration, the cycle equation, limits and huge integers (builder.arith.dynamics, builder.arith.integers).
 
 Fixed values name their source beside them; "common practice, no source"
 marks facts of the trade that anyone can re-derive by hand.
@@ -150,7 +150,7 @@ def test_trace_of_a_start_on_a_cycle_is_cycle_found_from_that_start() -> None:
 
 def test_5x_plus_1_from_7_is_unresolved_under_default_limits() -> None:
     # 7 under 5x+1 is believed divergent (common practice, no source); with the default
-    # limits of `periplus verify` (1,000,000 steps, builder.verify.DEFAULT_MAX_STEPS, and
+    # limits of `periplus verify` (1,000,000 steps, builder.catalogue.limits.DEFAULT_MAX_STEPS, and
     # trace's own default magnitude bound) the trace must stop and say so.  Not timed, by design.
     max_steps = 1_000_000
     outcome = trace(SHORTCUT_5X1, 7, max_steps)

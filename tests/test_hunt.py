@@ -2,7 +2,7 @@
 
 Fixed values name their source beside them ("common practice, no source" for facts anyone can
 re-derive by hand, "from memory" for values recalled without a source at hand).  The reference
-implementation below is written directly from the definition in builder.hunt, with a dictionary of
+implementation below is written directly from the definition in builder.search.definition, with a dictionary of
 seen values in place of Brent's method, so that it shares no code with either engine.
 """
 
@@ -113,7 +113,7 @@ ENGINE_SETTINGS = [
 @pytest.mark.parametrize("name", sorted(MAPS))
 @pytest.mark.parametrize("max_steps, max_bits", LIMITS)
 def test_engines_agree_with_the_reference_start_by_start(name: str, max_steps: int, max_bits: int) -> None:
-    # The definition in builder.hunt, applied literally (see _reference_fate).
+    # The definition in builder.search.definition, applied literally (see _reference_fate).
     mapping = MAPS[name]
     high = 120
     expected = _reference_hunt(mapping, 0, high, max_steps, max_bits)

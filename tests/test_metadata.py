@@ -1,4 +1,4 @@
-"""builder.metadata: the Dataset JSON-LD, CITATION.cff and robots.txt, read back by tools made by others.
+"""builder.site.metadata: the Dataset JSON-LD, CITATION.cff and robots.txt, read back by tools made by others.
 
 Outside checks, named beside each assertion: schema.org's Dataset and DataDownload types
 (https://schema.org/Dataset, https://schema.org/DataDownload) read back by the general-purpose extractor

@@ -3,7 +3,7 @@
 Each test quotes, in its docstring, the rule it checks.  Random maps have a
 modulus 2..6, nonzero multipliers and increments chosen so that
 a_i * i + b_i = 0 (mod m), which is exactly what makes T send integers to
-integers (builder.dynamics.branch_defects).
+integers (builder.arith.dynamics.branch_defects).
 """
 
 from __future__ import annotations
@@ -39,7 +39,7 @@ def _gcd(a: int, b: int) -> int:
 
 
 def _iterate(mapping: AffineMap, n: int, k: int) -> tuple[int, list[int]]:
-    """Plain iteration, independent of builder.dynamics.trace: (T^k(n), residues on the way)."""
+    """Plain iteration, independent of builder.arith.dynamics.trace: (T^k(n), residues on the way)."""
     m = mapping.modulus
     residues = []
     for _ in range(k):

@@ -1,4 +1,4 @@
-"""Words, periods, rotations and necklace counts (builder.words), checked against sympy.
+"""Words, periods, rotations and necklace counts (builder.arith.words), checked against sympy.
 
 Every fixed value below names where it comes from.  "Common practice, no
 source" marks facts of the trade that anyone can re-derive by hand and that

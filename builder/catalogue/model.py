@@ -140,7 +140,7 @@ class Cycle:
     residue_counts: tuple[int, ...]  # how often each residue 0..m-1 occurs in the word
     standard_length: int | None  # for 2-branch n/2 maps: the length counting n -> qn+d and n/2 apart
     provenance: Provenance
-    fingerprint: str  # from the map's definition and the canonical member (builder.fingerprint)
+    fingerprint: str  # from the map's definition and the canonical member (builder.arith.fingerprint)
 
     @property
     def length(self) -> int:
