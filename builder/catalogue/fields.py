@@ -94,18 +94,21 @@ class Shape:
     what: str  # how messages name it: "a map entry"
     fields: tuple[Field, ...]
     rules: Mapping[str, Any] = field(default_factory=dict)  # JSON Schema keywords beyond the fields
+    # Derived once from ``fields`` (the reader consults them for every mapping of every file).
+    names: tuple[str, ...] = field(init=False)
+    required: tuple[str, ...] = field(init=False)
+    optional: tuple[str, ...] = field(init=False)
+    typed: tuple[Field, ...] = field(init=False)  # the fields the reader reads by their ``reads``
 
-    @property
-    def names(self) -> tuple[str, ...]:
-        return tuple(f.name for f in self.fields)
-
-    @property
-    def required(self) -> tuple[str, ...]:
-        return tuple(f.name for f in self.fields if f.required)
-
-    @property
-    def optional(self) -> tuple[str, ...]:
-        return tuple(f.name for f in self.fields if not f.required)
+    def __post_init__(self) -> None:
+        derived = {
+            "names": tuple(f.name for f in self.fields),
+            "required": tuple(f.name for f in self.fields if f.required),
+            "optional": tuple(f.name for f in self.fields if not f.required),
+            "typed": tuple(f for f in self.fields if f.reads is not Reads.OWN),
+        }
+        for name, value in derived.items():
+            object.__setattr__(self, name, value)
 
     def schema(self) -> dict[str, Any]:
         return {

@@ -117,8 +117,8 @@ class EntryReader:
         fields it does not give are absent.  ``known`` are the reference keys a list of keys may name.
         """
         out: dict[str, Any] = {}
-        for f in shape.fields:
-            if f.name in found and f.reads is not Reads.OWN:
+        for f in shape.typed:
+            if f.name in found:
                 out[f.name] = self.read(f.reads, found[f.name], key_path + (f.name,), known)
         return out
 

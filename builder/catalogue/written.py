@@ -13,7 +13,7 @@ from __future__ import annotations
 import hashlib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Any, NamedTuple, cast
+from typing import Any, NamedTuple
 
 from builder.arith.integers import DECIMAL_INTEGER, parse_decimal
 from builder.catalogue.nodes import MappingNode, Node, Scalar, SequenceNode
@@ -75,19 +75,19 @@ def _feed(node: Node, h: Any) -> None:
         data = node.value.encode("utf-8", "surrogatepass")
         h.update(b"s%d:%d:" % (node.plain, len(data)) + data)
     elif isinstance(node, SequenceNode):
-        h.update(b"l%d:" % len(node.items))
         items = node.items
-        if all(type(item) is Scalar for item in items):
+        h.update(b"l%d:" % len(items))
+        try:
             # The common case, a list of numbers, in one piece: every length, then every text, then
             # every plainness flag, which keeps the serialisation unambiguous.
-            scalars = cast("list[Scalar]", items)
-            texts = [s.value for s in scalars]
-            h.update(",".join([str(len(text)) for text in texts]).encode() + b";")
-            h.update("".join(texts).encode("utf-8", "surrogatepass"))
-            h.update(bytes([s.plain for s in scalars]))
+            texts = [item.value for item in items]  # type: ignore[attr-defined]
+        except AttributeError:  # a list that holds lists or mappings
+            for item in items:
+                _feed(item, h)
             return
-        for item in items:
-            _feed(item, h)
+        h.update(",".join([str(len(text)) for text in texts]).encode() + b";")
+        h.update("".join(texts).encode("utf-8", "surrogatepass"))
+        h.update(bytes([item.plain for item in items]))  # type: ignore[attr-defined]
     elif isinstance(node, MappingNode):
         h.update(b"m%d:" % len(node.entries))
         for key in sorted(node.entries):
@@ -107,37 +107,39 @@ def _value(node: Node) -> WrittenValue:
     return WrittenValue("mapping", None, False, len(node.entries), h.digest())
 
 
-def _flatten(node: Node, prefix: str = "") -> dict[str, WrittenValue]:
-    """Fields by dotted name, descending into mappings (``provenance.found_by``); lists are one field."""
+def _flatten(
+    node: Node, prefix: str, path: KeyPath, out: dict[str, WrittenValue], at: dict[KeyPath, tuple[int, int]]
+) -> None:
+    """Fields by dotted name, descending into mappings (``provenance.found_by``); lists are one field.
+
+    Also notes where each field is, and where each mapping or list inside a list is (a coverage claim).
+    """
     if not isinstance(node, MappingNode):
-        return {prefix: _value(node)}
-    out: dict[str, WrittenValue] = {}
+        out[prefix] = _value(node)
+        return
     if not node.entries and prefix:
         out[prefix] = _value(node)
     for key, (_, value) in node.entries.items():
         name = f"{prefix}.{key}" if prefix else key
-        out.update(_flatten(value, name) if isinstance(value, MappingNode) else {name: _value(value)})
-    return out
+        where = path + (key,)
+        at[where] = (value.line, value.column)
+        if type(value) is Scalar:
+            out[name] = WrittenValue("scalar", value.value, value.plain)
+        elif isinstance(value, MappingNode):
+            _flatten(value, name, where, out, at)
+        else:
+            assert isinstance(value, SequenceNode), value
+            out[name] = _value(value)
+            for i, item in enumerate(value.items):
+                if type(item) is not Scalar:
+                    at[where + (i,)] = (item.line, item.column)
 
 
-def _positions(node: Node, path: KeyPath, out: dict[KeyPath, tuple[int, int]]) -> None:
-    """Positions of every value of a mapping and of every mapping or list in a list (not of other items)."""
-    if isinstance(node, MappingNode):
-        for key, (_, value) in node.entries.items():
-            out[path + (key,)] = (value.line, value.column)
-            if type(value) is not Scalar:
-                _positions(value, path + (key,), out)
-    elif isinstance(node, SequenceNode):
-        for i, item in enumerate(node.items):
-            if type(item) is not Scalar:
-                out[path + (i,)] = (item.line, item.column)
-                _positions(item, path + (i,), out)
-
-
-def _positions_of(node: Node) -> dict[KeyPath, tuple[int, int]]:
-    out: dict[KeyPath, tuple[int, int]] = {}
-    _positions(node, (), out)
-    return out
+def _written(node: Node) -> tuple[dict[str, WrittenValue], dict[KeyPath, tuple[int, int]]]:
+    fields: dict[str, WrittenValue] = {}
+    positions: dict[KeyPath, tuple[int, int]] = {}
+    _flatten(node, "", (), fields, positions)
+    return fields, positions
 
 
 def plain_data(node: Node | None) -> Any:
@@ -183,19 +185,30 @@ def written_entries(kind: str, key: str, path: str, root: Node | None, digest: b
     if kind == "references":
         if not isinstance(root, MappingNode):
             return []
-        return [
-            WrittenEntry("reference", ref, path, _flatten(value), None, positions=_positions_of(value))
-            for ref, (_, value) in root.entries.items()
-        ]
+        entries = []
+        for ref, (_, value) in root.entries.items():
+            fields, positions = _written(value)
+            entries.append(WrittenEntry("reference", ref, path, fields, None, positions=positions))
+        return entries
     if not isinstance(root, MappingNode):
         return [WrittenEntry(kind, key, path, None, digest)]
     cited = plain_data(_field(root, "references") if kind == "map" else _field(root, "provenance", "references"))
     cites = tuple(k for k in cited if isinstance(k, str)) if isinstance(cited, list) and kind != "record" else ()
     names = plain_data(_field(root, "map")) if kind == "cycle" else None
-    bounds = coverage_bounds({"coverage": plain_data(_field(root, "coverage"))}) if kind == "map" else []
+    bounds = coverage_bounds({"coverage": _bounds_only(_field(root, "coverage"))}) if kind == "map" else []
+    fields, positions = _written(root)
     return [
         WrittenEntry(
-            kind, key, path, _flatten(root), digest, cites, names if isinstance(names, str) else None,
-            tuple(bounds), _positions_of(root),
+            kind, key, path, fields, digest, cites, names if isinstance(names, str) else None, tuple(bounds), positions
         )
-    ]  # fmt: skip
+    ]
+
+
+def _bounds_only(claims: Node | None) -> Any:
+    """The coverage claims as plain data, keeping of each claim only its bound (all ``coverage_bounds`` reads)."""
+    if not isinstance(claims, SequenceNode):
+        return None
+    return [
+        {"bound": plain_data(c.entries["bound"][1])} if isinstance(c, MappingNode) and "bound" in c.entries else None
+        for c in claims.items
+    ]
