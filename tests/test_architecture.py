@@ -161,3 +161,13 @@ def test_ruff_is_clean() -> None:
 def test_mypy_strict_is_clean() -> None:
     result = subprocess.run([sys.executable, "-m", "mypy"], cwd=ROOT, capture_output=True, text=True)
     assert result.returncode == 0, result.stdout + result.stderr
+
+
+def test_every_package_is_installed() -> None:
+    # pyproject.toml lists the packages explicitly (templates/ is installed as builder.templates),
+    # so a new subpackage must be listed there or a plain `pip install .` would leave it out.
+    import tomllib
+
+    listed = set(tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))["tool"]["setuptools"]["packages"])
+    found = {dotted(m) for m in MODULES if m.endswith("__init__.py")}
+    assert found <= listed, f"packages missing from pyproject.toml: {sorted(found - listed)}"

@@ -30,6 +30,7 @@ from builder.catalogue.model import Cycle, MapEntry, Provenance
 from builder.catalogue.nodes import Node, SequenceNode
 from builder.catalogue.reader import EntryReader, short
 from builder.errors import KeyPath
+from builder.wording import count
 
 __all__ = ["Claims", "WordStart", "derive_cycle", "solve_word"]
 
@@ -154,7 +155,7 @@ def _not_a_cycle(
             )  # fmt: skip
         return
     if outcome.reason == "steps":
-        steps = "1 step" if limits.max_steps == 1 else f"{limits.max_steps} steps"
+        steps = count(limits.max_steps, "step")
         why = f"did not return or repeat within {steps} (raise --max-steps to look further)"
     else:
         why = (
