@@ -4,7 +4,7 @@
 
 The fields of every kind of entry are declared once, in builder/catalogue/fields.py.  This
 rewrites CATALOGUE/schema/<kind>.schema.json and the marked tables of CATALOGUE/README.md
-(default: the shipped catalogue) from it; tests/test_schema.py fails when they differ.
+(default: the shipped catalogue) from it; tests/catalogue/test_schema.py fails when they differ.
 """
 
 from __future__ import annotations

@@ -26,7 +26,7 @@ from builder.search import definition, survey
 from builder.search import engine as _fastiter
 from builder.search.definition import HuntResult, hunt, merge_results
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = Path(__file__).resolve().parents[2]
 CATALOGUE = ROOT / "catalogue"
 
 

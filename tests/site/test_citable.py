@@ -25,7 +25,7 @@ from conftest import VALID
 from builder.site.build import build_site
 
 ATOM = "{http://www.w3.org/2005/Atom}"
-CFF_SCHEMA = Path(__file__).parent / "external" / "citation-file-format-1.2.0.schema.json"
+CFF_SCHEMA = Path(__file__).parent.parent / "external" / "citation-file-format-1.2.0.schema.json"
 BASE = "https://test.example.org/record/"
 
 

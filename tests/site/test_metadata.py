@@ -41,7 +41,7 @@ from builder.site.metadata import (
 )
 
 BASE = "https://test.example.org/record/"
-CFF_SCHEMA_PATH = Path(__file__).parent / "external" / "citation-file-format-1.2.0.schema.json"
+CFF_SCHEMA_PATH = Path(__file__).parent.parent / "external" / "citation-file-format-1.2.0.schema.json"
 
 # Test data: a record made for these tests.
 RECORD = Record(

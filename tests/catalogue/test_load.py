@@ -60,7 +60,7 @@ def test_mapping_keeps_document_order():
 
 
 def test_empty_document_has_no_root_and_no_problem_of_its_own():
-    # The loader reports nothing; verify reports the empty file (tests/test_cli.py, case empty-file).
+    # The loader reports nothing; verify reports the empty file (tests/commands/test_cli.py, case empty-file).
     assert parse("") == (None, [])
     assert parse("# only a comment\n") == (None, [])
 
