@@ -384,6 +384,20 @@ def test_ctrl_c_reports_what_was_covered_and_exits_130(
     assert err.strip() == "periplus: interrupted"
 
 
+def test_ctrl_c_before_the_first_start_says_nothing_was_covered(
+    capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # Ctrl-C while the catalogue is still being read: no start was covered, and the shared
+    # handler says so in the hunt's own words (common practice, no source: 130 = 128 + SIGINT).
+    def interrupted(*args: object, **kwargs: object) -> None:
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(huntcli, "verify_catalogue", interrupted)
+    code, out, err = run(capsys, "3x-plus-5", "--bound", "400", "--jobs", "1")
+    assert (code, out) == (130, "")
+    assert err == "periplus: interrupted before any start was covered\n"
+
+
 def test_no_progress_output_when_stderr_is_not_a_terminal(capsys: pytest.CaptureFixture[str]) -> None:
     code, _, err = run(capsys, "3x-plus-1", "--bound", "3000", "--jobs", "1")
     assert code == 0 and err == ""
