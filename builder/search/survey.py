@@ -27,7 +27,7 @@ from builder.search.engine import hunt_range
 
 __all__ = [
     "FORMAT",
-    "Coverage",
+    "CoverEnd",
     "SavedSurveyError",
     "Survey",
     "SurveyMismatch",
@@ -117,8 +117,8 @@ class Survey:
 
 
 @dataclass(frozen=True, slots=True)
-class Coverage:
-    """How ``cover`` ended.
+class CoverEnd:
+    """How ``cover`` ended (not to be confused with a coverage claim of the catalogue, which a survey may back).
 
     ``interrupted``: Ctrl-C stopped it, and the survey holds only the contiguous prefix of chunks done.
     ``met_past_prefix``: cycles met in chunks finished past that prefix (not part of the survey), in start order.
@@ -152,11 +152,11 @@ def chunks(low: int, high: int, jobs: int) -> list[tuple[int, int]]:
     return [(lo, min(high, lo + size - 1)) for lo in range(low, high + 1, size)]
 
 
-def cover(survey: Survey, low: int, high: int, jobs: int, progress: Callable[[int], None] | None = None) -> Coverage:
+def cover(survey: Survey, low: int, high: int, jobs: int, progress: Callable[[int], None] | None = None) -> CoverEnd:
     """Hunt the magnitudes low..high into ``survey`` with ``jobs`` processes; on Ctrl-C keep the chunks done.
 
     The range is cut into ``chunks``, whose results merge by union, so the survey does not depend on
-    ``jobs``.  On Ctrl-C only the contiguous prefix of finished chunks is kept (see Coverage).
+    ``jobs``.  On Ctrl-C only the contiguous prefix of finished chunks is kept (see CoverEnd).
     ``progress`` is called with the number of starts decided so far: 0 first, then after each chunk.
     """
     if progress is None:
@@ -200,7 +200,7 @@ def cover(survey: Survey, low: int, high: int, jobs: int, progress: Callable[[in
         for c, cycle in result.cycles.items():
             if c not in survey.cycles:
                 extra.setdefault(c, cycle)
-    return Coverage(interrupted, dict(sorted(extra.items(), key=lambda kv: order_key(kv[0]))))
+    return CoverEnd(interrupted, dict(sorted(extra.items(), key=lambda kv: order_key(kv[0]))))
 
 
 # --- saving and merging ----------------------------------------------------------------------
