@@ -13,11 +13,12 @@ from __future__ import annotations
 import hashlib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from operator import attrgetter
 from typing import Any, NamedTuple
 
 from builder.arith.integers import DECIMAL_INTEGER, parse_decimal
 from builder.catalogue.nodes import MappingNode, Node, Scalar, SequenceNode
-from builder.errors import KeyPath
+from builder.errors import KeyPath, format_key_path
 
 __all__ = ["WrittenEntry", "WrittenValue", "coverage_bounds", "plain_data", "written_entries"]
 
@@ -62,11 +63,16 @@ class WrittenEntry:
     cites: tuple[str, ...] = ()  # the reference keys a map or cycle cites
     names_map: str | None = None  # the map a cycle's ``map`` field names
     coverage_bounds: tuple[int, ...] = ()  # the bounds of a map's coverage claims
-    positions: Mapping[KeyPath, tuple[int, int]] = field(default_factory=dict)
+    positions: Mapping[str, tuple[int, int]] = field(default_factory=dict)  # by dotted path, "coverage[0]"
 
     def position(self, key_path: KeyPath) -> tuple[int, int]:
         """Line and column of the value at ``key_path`` (0, 0 when the file does not have it)."""
-        return self.positions.get(key_path, (0, 0))
+        return self.positions.get(format_key_path(key_path), (0, 0))
+
+
+_TEXT, _PLAIN = attrgetter("value"), attrgetter("plain")
+#: Makes a WrittenValue without the named tuple's Python-level constructor (one per field of every entry).
+_new = tuple.__new__
 
 
 def _feed(node: Node, h: Any) -> None:
@@ -78,16 +84,15 @@ def _feed(node: Node, h: Any) -> None:
         items = node.items
         h.update(b"l%d:" % len(items))
         try:
-            # The common case, a list of numbers, in one piece: every length, then every text, then
-            # every plainness flag, which keeps the serialisation unambiguous.
-            texts = [item.value for item in items]  # type: ignore[attr-defined]
+            # The common case, a list of numbers, in one piece: the texts (their repr is unambiguous),
+            # then every plainness flag.
+            texts = list(map(_TEXT, items))
         except AttributeError:  # a list that holds lists or mappings
             for item in items:
                 _feed(item, h)
             return
-        h.update(",".join([str(len(text)) for text in texts]).encode() + b";")
-        h.update("".join(texts).encode("utf-8", "surrogatepass"))
-        h.update(bytes([item.plain for item in items]))  # type: ignore[attr-defined]
+        h.update(repr(texts).encode("utf-8", "surrogatepass"))
+        h.update(bytes(map(_PLAIN, items)))
     elif isinstance(node, MappingNode):
         h.update(b"m%d:" % len(node.entries))
         for key in sorted(node.entries):
@@ -107,12 +112,10 @@ def _value(node: Node) -> WrittenValue:
     return WrittenValue("mapping", None, False, len(node.entries), h.digest())
 
 
-def _flatten(
-    node: Node, prefix: str, path: KeyPath, out: dict[str, WrittenValue], at: dict[KeyPath, tuple[int, int]]
-) -> None:
+def _flatten(node: Node, prefix: str, out: dict[str, WrittenValue], at: dict[str, tuple[int, int]]) -> None:
     """Fields by dotted name, descending into mappings (``provenance.found_by``); lists are one field.
 
-    Also notes where each field is, and where each mapping or list inside a list is (a coverage claim).
+    Also notes where each field is, and where each mapping or list inside a list is (``coverage[0]``).
     """
     if not isinstance(node, MappingNode):
         out[prefix] = _value(node)
@@ -121,24 +124,23 @@ def _flatten(
         out[prefix] = _value(node)
     for key, (_, value) in node.entries.items():
         name = f"{prefix}.{key}" if prefix else key
-        where = path + (key,)
-        at[where] = (value.line, value.column)
+        at[name] = (value.line, value.column)
         if type(value) is Scalar:
-            out[name] = WrittenValue("scalar", value.value, value.plain)
+            out[name] = _new(WrittenValue, ("scalar", value.value, value.plain, 0, b""))
         elif isinstance(value, MappingNode):
-            _flatten(value, name, where, out, at)
+            _flatten(value, name, out, at)
         else:
             assert isinstance(value, SequenceNode), value
             out[name] = _value(value)
             for i, item in enumerate(value.items):
                 if type(item) is not Scalar:
-                    at[where + (i,)] = (item.line, item.column)
+                    at[f"{name}[{i}]"] = (item.line, item.column)
 
 
-def _written(node: Node) -> tuple[dict[str, WrittenValue], dict[KeyPath, tuple[int, int]]]:
+def _written(node: Node) -> tuple[dict[str, WrittenValue], dict[str, tuple[int, int]]]:
     fields: dict[str, WrittenValue] = {}
-    positions: dict[KeyPath, tuple[int, int]] = {}
-    _flatten(node, "", (), fields, positions)
+    positions: dict[str, tuple[int, int]] = {}
+    _flatten(node, "", fields, positions)
     return fields, positions
 
 
