@@ -9,6 +9,7 @@ from __future__ import annotations
 import functools
 import http.server
 from pathlib import Path
+from typing import Any
 
 from builder.errors import UsageError
 from builder.site.render import MARKER
@@ -19,6 +20,18 @@ __all__ = ["open_server", "serving_text"]
 class _Handler(http.server.SimpleHTTPRequestHandler):
     def log_message(self, format: str, *args: object) -> None:
         pass  # quiet: the address printed at start is what a reader needs
+
+    def send_head(self) -> Any:
+        """As a static host: a path that names no file (a NUL byte in it, say) is a bad request, not a crash."""
+        try:
+            return super().send_head()
+        except ValueError:
+            self.send_error(400, "Bad request path")
+            return None
+
+    def list_directory(self, path: Any) -> None:
+        """A folder without an index page is not listed: it is missing, as on a static host."""
+        self.send_error(404)
 
     def send_error(self, code: int, message: str | None = None, explain: str | None = None) -> None:
         """Answer a missing page with the site's own 404 page, as a static host would."""

@@ -605,3 +605,36 @@ def test_preview_refuses_a_bad_or_busy_port(cli, tmp_path: Path) -> None:
         )
     assert proc.returncode == 2, proc.stderr
     assert f"127.0.0.1:{port}" in proc.stderr and "Traceback" not in proc.stderr
+
+
+def test_preview_lists_no_folder_and_answers_a_nul_path_with_400(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # A static host neither lists folders nor crashes on a path it cannot map to a file; RFC 9110
+    # section 15.5.1: 400 Bad Request for a request the server cannot process (common practice, no source).
+    import threading
+    import urllib.error
+
+    from builder.site.preview import open_server
+
+    out = tmp_path / "site"
+    assert build_site(VALID, out).pages > 0
+    server = open_server(out, 0)
+    thread = threading.Thread(target=server.serve_forever, daemon=True)
+    thread.start()
+    port = server.server_address[1]
+    try:
+        with pytest.raises(urllib.error.HTTPError) as listing:
+            urllib.request.urlopen(f"http://127.0.0.1:{port}/static/", timeout=30)
+        with listing.value:
+            assert listing.value.code == 404
+            assert listing.value.read() == (out / "404.html").read_bytes()
+        with pytest.raises(urllib.error.HTTPError) as nul:
+            urllib.request.urlopen(f"http://127.0.0.1:{port}/%00", timeout=30)
+        with nul.value:
+            assert nul.value.code == 400
+    finally:
+        server.shutdown()
+        server.server_close()
+        thread.join(timeout=30)
+    assert "Traceback" not in capsys.readouterr().err
