@@ -131,10 +131,25 @@ def map_json(m: MapRecord) -> str:
     return json_text({**_map(m), "cycles": [_cycle(c) for c in m.cycles], "record": _about(m.about)})
 
 
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+
 def _cell(text: str) -> str:
     """Free text for a CSV cell: a leading = + - @ would be read as a formula by spreadsheets
     (OWASP, "CSV Injection"), so such text gets a leading apostrophe."""
-    return "'" + text if text[:1] in ("=", "+", "-", "@", "\t", "\r") else text
+    return "'" + text if text[:1] in _FORMULA_START else text
+
+
+def _comment(text: str) -> str:
+    """Free text for the comment line, which a spreadsheet reads as cells split at commas: each piece
+    whose text (after spaces and an opening quote) would start a formula gets the apostrophe too."""
+    pieces = []
+    for piece in text.split(","):
+        body = piece.lstrip(" ")
+        if body.lstrip('"')[:1] in _FORMULA_START:
+            piece = piece[: len(piece) - len(body)] + "'" + body
+        pieces.append(piece)
+    return ",".join(pieces)
 
 
 def cycles_csv(views: SiteViews) -> str:
@@ -145,7 +160,7 @@ def cycles_csv(views: SiteViews) -> str:
         f"{record.title}, {edition.label}; data licence {record.licence} ({record.licence_url}); every verified "
         f"cycle, one per row; members are in data/catalogue.json"
     )
-    out.write("# " + " ".join(header.split()) + "\n")
+    out.write("# " + _comment(" ".join(header.split())) + "\n")
     writer = csv.writer(out, lineterminator="\n")
     writer.writerow(CSV_COLUMNS)
     for c in views.cycles:

@@ -9,6 +9,7 @@ holds the attacks; that text makes no claim.
 
 from __future__ import annotations
 
+import csv
 import hashlib
 import json
 import os
@@ -487,3 +488,23 @@ def test_reference_keys_cannot_repeat_an_id(catalogue, tmp_path: Path, key: str)
     assert build_site(cat, out).pages > 0
     site = parse_site(out)
     check_structure("references/index.html", site.page("references/index.html"))
+
+
+def test_the_csv_comment_line_starts_no_formula(tmp_path: Path) -> None:
+    # OWASP, "CSV Injection": a cell that starts with = + - @ is a formula in spreadsheets. The comment
+    # line holds the record's title and is read as cells split at commas (Python's csv module, the
+    # reference reader here), so no cell of it may start a formula, quoted or not.
+    catalogue = tmp_path / "catalogue"
+    shutil.copytree(VALID, catalogue)
+    record = catalogue / "record.yaml"
+    title = 'Cycles, =HYPERLINK("https://example.org"),"=1+2", +3, -4, @SUM(A1)'
+    text = record.read_text(encoding="utf-8")
+    record.write_text(re.sub(r"(?m)^title: .*$", "title: " + json.dumps(title), text), encoding="utf-8")
+    result = build_site(catalogue, tmp_path / "site")
+    assert result.report.ok, [str(p) for p in result.report.problems]
+    first = (tmp_path / "site" / "data" / "cycles.csv").read_text(encoding="utf-8").split("\n", 1)[0]
+    assert first.startswith("# Cycles,")
+    (cells,) = csv.reader([first])
+    assert len(cells) >= 6
+    for cell in cells:
+        assert cell.lstrip(' "')[:1] not in ("=", "+", "-", "@"), cell
