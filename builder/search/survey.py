@@ -15,7 +15,7 @@ from __future__ import annotations
 import json
 import multiprocessing
 import signal
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -27,6 +27,7 @@ from builder.search.engine import hunt_range
 
 __all__ = [
     "FORMAT",
+    "Chunks",
     "CoverEnd",
     "SavedSurveyError",
     "Survey",
@@ -145,11 +146,46 @@ def _indexed(item: tuple[int, _Task]) -> tuple[int, HuntResult]:
     return item[0], _work(item[1])
 
 
-def chunks(low: int, high: int, jobs: int) -> list[tuple[int, int]]:
-    """The magnitude ranges low..high is cut into for ``jobs`` processes."""
-    count = high - low + 1
-    size = max(1, min(_CHUNK_MAX, -(-count // (jobs * _CHUNKS_PER_JOB))))
-    return [(lo, min(high, lo + size - 1)) for lo in range(low, high + 1, size)]
+class Chunks:
+    """The magnitude ranges low..high is cut into for ``jobs`` processes, made as they are asked for.
+
+    A hunt to 10^14 has billions of chunks: none is made before it is needed, so memory does not
+    depend on the bound.
+    """
+
+    def __init__(self, low: int, high: int, jobs: int) -> None:
+        count = high - low + 1
+        self.low, self.high = low, high
+        self.size = max(1, min(_CHUNK_MAX, -(-count // (jobs * _CHUNKS_PER_JOB))))
+        self._count = max(0, -(-count // self.size))
+
+    def __len__(self) -> int:
+        return self._count
+
+    def __getitem__(self, i: int) -> tuple[int, int]:
+        if i < 0:
+            i += self._count
+        if not 0 <= i < self._count:
+            raise IndexError(i)
+        lo = self.low + i * self.size
+        return lo, min(self.high, lo + self.size - 1)
+
+    def __iter__(self) -> Iterator[tuple[int, int]]:
+        return (self[i] for i in range(self._count))
+
+
+def chunks(low: int, high: int, jobs: int) -> Chunks:
+    """The magnitude ranges low..high is cut into for ``jobs`` processes (made lazily)."""
+    return Chunks(low, high, jobs)
+
+
+def _contiguous(done: dict[int, HuntResult], next_index: int) -> list[HuntResult]:
+    """Take from ``done`` the results that continue the prefix at ``next_index``, in order."""
+    out = []
+    while next_index in done:
+        out.append(done.pop(next_index))
+        next_index += 1
+    return out
 
 
 def cover(survey: Survey, low: int, high: int, jobs: int, progress: Callable[[int], None] | None = None) -> CoverEnd:
@@ -162,15 +198,19 @@ def cover(survey: Survey, low: int, high: int, jobs: int, progress: Callable[[in
     if progress is None:
         progress = _quiet
     parts = chunks(low, high, jobs)
-    tasks = [(survey.mapping, lo, hi, survey.max_steps, survey.max_bits) for lo, hi in parts]
+    tasks = ((survey.mapping, lo, hi, survey.max_steps, survey.max_bits) for lo, hi in parts)
+    # Results of the chunks done so far: the contiguous prefix from the first chunk, and those
+    # finished out of order (few: the pool hands chunks out in order).
+    prefix: list[HuntResult] = []
     done: dict[int, HuntResult] = {}
     finished = 0
     interrupted = False
     try:
         progress(0)
-        if jobs == 1 or len(tasks) == 1:
+        if jobs == 1 or len(parts) == 1:
             for i, task in enumerate(tasks):
                 done[i] = _work(task)
+                prefix += _contiguous(done, len(prefix))
                 finished += starts_in(*parts[i])
                 progress(finished)
         else:
@@ -178,10 +218,11 @@ def cover(survey: Survey, low: int, high: int, jobs: int, progress: Callable[[in
             # entry script (spawn would re-run one that lacks an ``if __name__ == "__main__"`` guard).
             method = "fork" if "fork" in multiprocessing.get_all_start_methods() else "spawn"
             context = multiprocessing.get_context(method)
-            with context.Pool(min(jobs, len(tasks)), initializer=_ignore_sigint) as pool:
+            with context.Pool(min(jobs, len(parts)), initializer=_ignore_sigint) as pool:
                 try:
                     for i, result in pool.imap_unordered(_indexed, enumerate(tasks)):
                         done[i] = result
+                        prefix += _contiguous(done, len(prefix))
                         finished += starts_in(*parts[i])
                         progress(finished)
                 except BaseException:
@@ -189,11 +230,6 @@ def cover(survey: Survey, low: int, high: int, jobs: int, progress: Callable[[in
                     raise
     except KeyboardInterrupt:
         interrupted = True
-    prefix = []
-    for i in range(len(tasks)):
-        if i not in done:
-            break
-        prefix.append(done.pop(i))
     survey.absorb(prefix)
     extra: dict[int, CycleFound] = {}
     for result in done.values():

@@ -11,6 +11,7 @@ from __future__ import annotations
 import argparse
 import datetime
 import io
+import itertools
 import json
 import shutil
 from pathlib import Path
@@ -382,6 +383,23 @@ def test_ctrl_c_reports_what_was_covered_and_exits_130(
     assert set(rows) <= set(listed)
     assert rows == list(_fastiter.hunt_range(MAPS["3x+5"], 0, done, 100_000, 4096).cycles)
     assert err.strip() == "periplus: interrupted"
+
+
+def test_a_hunt_to_10_to_the_14_makes_its_chunks_as_it_goes(
+    capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # A bound of 10^14 cut into chunks of at most 2^16 magnitudes makes over 10^9 chunks (arithmetic):
+    # none may be made before it is needed, or memory runs out before the first start is decided.
+    parts = survey.chunks(0, 10**14, 2)
+    assert len(parts) == -(-(10**14 + 1) // parts.size) > 10**9
+    assert (parts[0], parts[1]) == ((0, parts.size - 1), (parts.size, 2 * parts.size - 1))
+    assert parts[-1] == ((len(parts) - 1) * parts.size, 10**14)
+    assert list(itertools.islice(parts, 2)) == [parts[0], parts[1]]
+    # The run itself: Ctrl-C at the third chunk, as in the test below; the first two are covered.
+    _interrupt_on_call(monkeypatch, 3)
+    code, out, err = run(capsys, "3x-plus-5", "--bound", str(10**14), "--jobs", "1")
+    assert code == 130 and "Traceback" not in out + err
+    assert f"interrupted: only magnitudes 0..{2 * parts.size - 1:,} were fully covered" in out
 
 
 def test_ctrl_c_before_the_first_start_says_nothing_was_covered(
