@@ -13,7 +13,7 @@ from builder.catalogue.reader import EntryReader, describe, open_entry, short, y
 from builder.catalogue.versions import UNRELEASED, version_problem
 from builder.errors import Problem
 
-__all__ = ["RECORD_FILE", "check_record"]
+__all__ = ["RECORD_FILE", "SITE_ADDRESS", "check_record", "site_address"]
 
 RECORD_FILE = "record.yaml"
 _BASE_URL = re.compile(r"https?://[A-Za-z0-9.-]+(?::[0-9]{1,5})?(?:/[A-Za-z0-9._~%!$&'()*+,;=:@/-]*)?")
@@ -76,21 +76,29 @@ def _record_licence(doc: EntryReader, node: Node) -> str | None:
     return found.spelling
 
 
+def site_address(text: str) -> str | None:
+    """``text`` as the site's address (an http or https URL with no query or fragment, ending in "/"), or None."""
+    text = text.strip()
+    if _BASE_URL.fullmatch(text) is None:
+        return None
+    return text if text.endswith("/") else text + "/"
+
+
+#: What a site address must be, for "expected X, got Y" messages.
+SITE_ADDRESS = (
+    "the http or https address the site is published at, such as https://example.org/cycles/, "
+    "with no query or fragment"
+)
+
+
 def _record_base_url(doc: EntryReader, node: Node) -> str | None:
     text = doc.text(node, ("base_url",), one_line=True)
     if text is None:
         return None
-    text = text.strip()
-    if _BASE_URL.fullmatch(text) is None:
-        doc.error(
-            node,
-            ("base_url",),
-            f"expected the http or https address the site is published at, such as https://example.org/cycles/, "
-            f"with no query or fragment, got '{short(text)}'",
-            "bad-base-url",
-        )
-        return None
-    return text if text.endswith("/") else text + "/"
+    address = site_address(text)
+    if address is None:
+        doc.error(node, ("base_url",), f"expected {SITE_ADDRESS}, got '{short(text.strip())}'", "bad-base-url")
+    return address
 
 
 def _record_version(doc: EntryReader, node: Node) -> str | None:

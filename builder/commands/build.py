@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
+from builder.catalogue.record import SITE_ADDRESS, site_address
 from builder.commands.options import Subcommands, add_catalogue, add_command, add_limits, limits_of
 from builder.commands.summary import show_report
 from builder.errors import UsageError
@@ -38,9 +39,12 @@ def register(subparsers: Subcommands) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Run ``periplus build``; return the exit status."""
-    if args.base_url is not None and not args.base_url.startswith(("http://", "https://")):
-        raise UsageError(f"--base-url: expected an http or https address, got '{args.base_url}'")
-    result = build_site(args.catalogue, args.out, limits_of(args), args.base_url)
+    base_url = args.base_url
+    if base_url is not None:
+        base_url = site_address(args.base_url)
+        if base_url is None:
+            raise UsageError(f"--base-url: expected {SITE_ADDRESS}, got '{args.base_url}'")
+    result = build_site(args.catalogue, args.out, limits_of(args), base_url)
     show_report(result.report)
     if not result.report.ok:
         print(f"nothing was written; {args.out} is as it was")

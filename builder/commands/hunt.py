@@ -328,11 +328,24 @@ def run(args: argparse.Namespace) -> int:
     return _run(args, sys.stdout, sys.stderr)
 
 
+def _check_writable(path: Path) -> None:
+    """Refuse, before the hunt, a --save file that could not be written after it (results would be lost)."""
+    folder = path.absolute().parent
+    if path.is_dir():
+        raise UsageError(f"--save: expected a file to write, got the folder {path}")
+    if not folder.is_dir():
+        raise UsageError(f"--save: expected a file in an existing folder, got {path} ({folder} does not exist)")
+    if not os.access(folder, os.W_OK | os.X_OK) or (path.exists() and not os.access(path, os.W_OK)):
+        raise UsageError(f"--save: cannot write {path}")
+
+
 def _run(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
     if args.merge is None and (args.map is None or args.bound is None):
         raise UsageError("hunt: give MAP and --bound N (or --merge FILE ...)")
     if args.merge is not None and (args.low is not None or args.high is not None):
         raise UsageError("hunt: --from and --to do not apply to --merge")
+    if args.save is not None:
+        _check_writable(args.save)
     # Only the entries matter for marking cycles new or catalogued: coverage claims are not re-run here.
     report = verify_catalogue(args.catalogue, Limits(recheck_up_to=0))
     if not report.ok:

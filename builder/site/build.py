@@ -59,6 +59,28 @@ def _check_target(out: Path) -> None:
         )
 
 
+def _check_place(out: Path) -> None:
+    """Refuse, before any work, a site folder whose nearest existing ancestor is no folder this user may write."""
+    ancestor = out.absolute().parent
+    while not ancestor.exists() and ancestor != ancestor.parent:
+        ancestor = ancestor.parent
+    if not ancestor.is_dir():
+        raise UsageError(f"{out}: cannot write the site here: {ancestor} is not a folder")
+    if not os.access(ancestor, os.W_OK | os.X_OK):
+        raise UsageError(f"{out}: cannot write the site here: {ancestor} is not writable")
+
+
+def _staging(out: Path) -> Path:
+    """A new, empty staging folder beside ``out`` (its parent made if need be), leftovers of killed builds removed."""
+    parent = out.parent
+    try:
+        parent.mkdir(parents=True, exist_ok=True)
+        _clean_leftovers(parent, out.name)
+        return Path(tempfile.mkdtemp(prefix=_STAGING.format(out.name), dir=parent))
+    except OSError as exc:
+        raise UsageError(f"{out}: cannot write the site here ({exc.strerror or exc})") from None
+
+
 def _exchange(a: Path, b: Path) -> bool:
     """Swap two paths atomically (Linux renameat2 RENAME_EXCHANGE); False where unsupported."""
     libc_name = ctypes.util.find_library("c")
@@ -84,6 +106,7 @@ def _clean_leftovers(parent: Path, name: str) -> None:
 def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_url: str | None = None) -> BuildResult:
     """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically."""
     _check_target(out)
+    _check_place(out)
     report = verify_catalogue(catalogue, limits or Limits())
     if not report.ok:
         return BuildResult(report, 0)
@@ -94,9 +117,7 @@ def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_ur
     views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)
     out = out.absolute()
     parent = out.parent
-    parent.mkdir(parents=True, exist_ok=True)
-    _clean_leftovers(parent, out.name)
-    staging = Path(tempfile.mkdtemp(prefix=_STAGING.format(out.name), dir=parent))
+    staging = _staging(out)
     try:
         pages = render_site(views, staging)
         os.chmod(staging, 0o755)  # mkdtemp makes it private; a site is for reading

@@ -362,3 +362,42 @@ def test_bad_options_exit_2_without_a_traceback(cli, tmp_path, argv, fragment):
     assert fragment in run.err
     assert run.err.startswith("usage: periplus")
     assert "Traceback" not in run.err
+
+
+# --- usage mistakes: one line, exit 2, before any work (issue 12, item 8) ----------------------
+
+
+def test_a_site_folder_that_cannot_be_written_is_a_usage_error(cli, tmp_path: Path) -> None:
+    # /proc refuses new folders (proc(5)); a path below a regular file cannot be a folder (POSIX
+    # ENOTDIR). Common practice, no source: a usage mistake is one line and exit status 2.
+    blocker = tmp_path / "a-file"
+    blocker.write_text("not a folder\n", encoding="utf-8")
+    for out, why in (
+        ("/proc/periplus-site", "cannot write the site here"),
+        (str(blocker / "site"), f"cannot write the site here: {blocker} is not a folder"),
+    ):
+        run = cli("build", str(VALID), "--out", out)
+        assert run.code == 2, run
+        assert run.err.startswith(f"periplus: error: {out}: {why}"), run.err
+        assert run.err.count("\n") == 1 and "Traceback" not in run.err
+
+
+def test_a_base_url_with_a_space_is_a_usage_error(cli, tmp_path: Path) -> None:
+    # RFC 3986, section 2: a space is not allowed in a URI.
+    run = cli("build", str(VALID), "--out", str(tmp_path / "site"), "--base-url", "https://exa mple.org/")
+    assert run.code == 2 and run.out == ""
+    assert run.err == (
+        "periplus: error: --base-url: expected the http or https address the site is published at, such as "
+        "https://example.org/cycles/, with no query or fragment, got 'https://exa mple.org/'\n"
+    )
+    assert not (tmp_path / "site").exists()
+
+
+def test_a_hunt_that_could_not_save_its_result_does_not_start(cli, tmp_path: Path) -> None:
+    target = tmp_path / "missing-folder" / "part.json"
+    run = cli("hunt", "3x-plus-1", "--bound", "100", "--catalogue", str(VALID), "--save", str(target))
+    assert run.code == 2 and run.out == ""
+    assert run.err == (
+        f"periplus: error: --save: expected a file in an existing folder, got {target} "
+        f"({target.parent} does not exist)\n"
+    )
