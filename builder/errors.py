@@ -7,6 +7,7 @@ Problem; an exception that is not a PeriplusError is a bug in Periplus.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 from enum import StrEnum
 from pathlib import Path
@@ -21,9 +22,29 @@ __all__ = [
     "UsageError",
     "Verdict",
     "format_key_path",
+    "printable",
 ]
 
 KeyPath = tuple[str | int, ...]
+
+#: Characters that would split or disguise a printed diagnostic line: C0 and C1 controls, DEL, and the
+#: Unicode line and paragraph separators (Unicode 15, chapter 5.8, "Newline Guidelines").
+_UNPRINTABLE = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029]")
+_NAMED = {"\n": "\\n", "\r": "\\r", "\t": "\\t"}
+
+
+def printable(text: str) -> str:
+    """``text`` for one line of a terminal or a CI log: every control character written as an escape.
+
+    A file name or a key that holds a line feed would otherwise start a forged diagnostic line (or a
+    workflow command when verify runs in CI).
+    """
+    return _UNPRINTABLE.sub(_escape, text) if _UNPRINTABLE.search(text) else text
+
+
+def _escape(match: re.Match[str]) -> str:
+    ch = match[0]
+    return _NAMED.get(ch) or (f"\\x{ord(ch):02x}" if ord(ch) < 0x100 else f"\\u{ord(ch):04x}")
 
 
 def format_key_path(path: KeyPath) -> str:
@@ -47,9 +68,10 @@ class Position:
     key_path: KeyPath = field(default=(), compare=False)
 
     def __str__(self) -> str:
+        file = printable(str(self.file))
         if self.line:
-            return f"{self.file}:{self.line}:{self.column}"
-        return str(self.file)
+            return f"{file}:{self.line}:{self.column}"
+        return file
 
 
 class Severity(StrEnum):
@@ -81,7 +103,7 @@ class Problem:
     severity: Severity = field(default=Severity.ERROR, compare=False)
 
     def __str__(self) -> str:
-        return f"{self.position}: {self.severity}: {self.message}"
+        return f"{self.position}: {self.severity}: {printable(self.message)}"
 
 
 class PeriplusError(Exception):

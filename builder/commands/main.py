@@ -11,7 +11,7 @@ from typing import Protocol
 from builder import __version__
 from builder.commands import build, draft, hunt, odds, preview, review, verify
 from builder.commands.options import Subcommands
-from builder.errors import PeriplusError
+from builder.errors import PeriplusError, printable
 
 __all__ = ["COMMANDS", "Command", "execute", "main", "parser"]
 
@@ -53,7 +53,7 @@ def execute(args: argparse.Namespace) -> int:
     try:
         return int(args.run(args))
     except PeriplusError as exc:
-        print(f"periplus: error: {exc}", file=sys.stderr)
+        print(f"periplus: error: {printable(str(exc))}", file=sys.stderr)
         return exc.exit_code
     except KeyboardInterrupt:
         print(f"periplus: {getattr(args, 'interrupted', 'interrupted')}", file=sys.stderr)

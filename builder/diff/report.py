@@ -6,7 +6,7 @@ import re
 from collections.abc import Callable
 
 from builder.diff.changes import CHANGES, KINDS, PLURAL, Change, ChangeKind, Comparison
-from builder.errors import Problem, Severity
+from builder.errors import Problem, Severity, printable
 from builder.wording import count
 
 __all__ = ["field_summary", "render_markdown"]
@@ -16,14 +16,14 @@ _MD_SPECIAL = re.compile(r"([\\`*_\[\]<>|&~#])")
 
 def _md(text: str) -> str:
     """Text for a Markdown table cell: one line, with Markdown's punctuation escaped."""
-    return _MD_SPECIAL.sub(r"\\\1", " ".join(text.split()))
+    return _MD_SPECIAL.sub(r"\\\1", printable(" ".join(text.split())))
 
 
 def _code(text: str) -> str:
     """A code span for a name or path; falls back to escaped text when a backtick or pipe would break it."""
     if "`" in text or "|" in text or "\n" in text:
         return _md(text)
-    return f"`{text}`"
+    return f"`{printable(text)}`"
 
 
 def _where(p: Problem) -> str:

@@ -16,6 +16,7 @@ from conftest import (
     VALID,
     VALID_SUMMARY,
     big_cycle_files,
+    copy_valid,
     decimal,
     expected_output,
     overlay_files,
@@ -401,3 +402,25 @@ def test_a_hunt_that_could_not_save_its_result_does_not_start(cli, tmp_path: Pat
         f"periplus: error: --save: expected a file in an existing folder, got {target} "
         f"({target.parent} does not exist)\n"
     )
+
+
+# --- diagnostics cannot be forged (issue 12, item 9) ---------------------------------------------
+
+
+def test_a_line_feed_in_a_file_name_or_a_key_cannot_start_a_diagnostic_line(cli, tmp_path: Path) -> None:
+    # POSIX allows any byte but "/" and NUL in a file name, and YAML allows "\n" in a quoted key (YAML 1.1,
+    # 5.7 escapes); a printed diagnostic is one line however either is written (common practice, no source).
+    root = copy_valid(tmp_path / "cat")
+    forged = "x\nforged.yaml:1:1: error: all is well"
+    (root / "cycles" / "3x-plus-1" / f"{forged}.yaml").write_text("map: 3x-plus-1\n", encoding="utf-8")
+    cycle = root / "cycles" / "3x-plus-1" / "through-1.yaml"
+    cycle.write_text(
+        cycle.read_text(encoding="utf-8") + '"surplus\\n::error file=x.yaml::all is well": 1\n', encoding="utf-8"
+    )
+    run = cli("verify", str(root))
+    assert run.code == 1
+    lines = run.out.splitlines()
+    assert all(line.startswith(str(root)) for line in lines[:-1]), lines
+    assert not any(line.startswith(("forged", "::error")) for line in lines)
+    assert any("x\\nforged.yaml" in line for line in lines), lines
+    assert any("surplus\\n::error" in line for line in lines), lines
