@@ -237,6 +237,16 @@ def read_file(raw: RawCatalogue, file: RawFile) -> RawFile:
     return parsed
 
 
+#: How messages name what was found at a path.
+_A = {
+    PathKind.FILE: "a file",
+    PathKind.FOLDER: "a folder",
+    PathKind.LINK: "a symbolic link",
+    PathKind.OTHER: "a special file (a device, pipe or socket)",
+    PathKind.MISSING: "nothing",
+}
+
+
 def _join(folder: str, name: str) -> str:
     return name if folder == "." else f"{folder}/{name}"
 
@@ -252,7 +262,8 @@ def _entry_files(raw: RawCatalogue, folder: str, what: str) -> Iterator[tuple[st
             problems.append(_problem(path, "expected a regular file, got a symbolic link", "layout"))
             continue
         if kind is not PathKind.FILE:
-            problems.append(_problem(path, f"expected only {what} files (<id>.yaml) here, got a folder", "layout"))
+            message = f"expected only {what} files (<id>.yaml) here, got {_A[kind]}"
+            problems.append(_problem(path, message, "layout"))
             continue
         stem, dot, ext = name.rpartition(".")
         if not dot or ext != "yaml":
@@ -283,16 +294,16 @@ def scan_source(source: Source) -> RawCatalogue:
     problems = raw.layout_problems
     for kind in ("record", "references"):
         found = source.kind(f"{kind}.yaml")
-        if found is PathKind.LINK:
-            problems.append(_problem(root / f"{kind}.yaml", "expected a regular file, got a symbolic link", "layout"))
+        if found in (PathKind.LINK, PathKind.FOLDER, PathKind.OTHER):
+            problems.append(_problem(root / f"{kind}.yaml", f"expected a regular file, got {_A[found]}", "layout"))
         elif found is PathKind.FILE:
             raw.files.append(RawFile(root / f"{kind}.yaml", kind, kind, None, f"{kind}.yaml"))
     for map_id, path in _entry_files(raw, "maps", "map"):
         raw.files.append(RawFile(path, "map", map_id, None, f"maps/{map_id}.yaml"))
     cycles = "cycles"
     found = source.kind(cycles)
-    if found is PathKind.LINK:
-        problems.append(_problem(root / "cycles", "expected a folder, got a symbolic link", "layout"))
+    if found in (PathKind.LINK, PathKind.FILE, PathKind.OTHER):
+        problems.append(_problem(root / "cycles", f"expected a folder, got {_A[found]}", "layout"))
     elif found is PathKind.FOLDER:
         for name, kind in source.listing(cycles):
             if name.startswith("."):

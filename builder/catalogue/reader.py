@@ -226,7 +226,17 @@ class EntryReader:
         return None if self.failed else keys
 
     def word(self, node: Node, key_path: KeyPath, modulus: int) -> tuple[int, ...] | None:
-        """A word: quoted digits when the modulus is at most 10, or a list of residues."""
+        """A word: quoted digits when the modulus is at most 10, else a list of residues (catalogue/README.md)."""
+        if isinstance(node, SequenceNode) and modulus <= 10:
+            digits = [n.value for n in node.items if isinstance(n, Scalar) and re.fullmatch("[0-9]", n.value)]
+            example = "".join(digits) if digits and len(digits) == len(node.items) else "0110"
+            self.error(
+                node, key_path,
+                f"expected a quoted string of residue digits (the modulus {modulus} is at most 10), got a list; "
+                f'write it as word: "{short(example)}"',
+                "word-as-list",
+            )  # fmt: skip
+            return None
         if isinstance(node, SequenceNode):
             residues = self.listing(node, key_path, self.integer)
             if residues is None:

@@ -118,7 +118,9 @@ class _Verification:
             file, faulted = self.parsed(file)
             record = check_record(file, self.problems)
             self.record = None if faulted else record
-        if not records:
+        # A record.yaml that is a folder or a link is reported as such by the layout check, not as missing.
+        misplaced = any(p.position.file == self.raw.root / RECORD_FILE for p in self.raw.layout_problems)
+        if not records and not misplaced:
             self.problems.append(
                 Problem(
                     Position(self.raw.root / RECORD_FILE),

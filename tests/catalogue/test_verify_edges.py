@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 import sys
 
 from conftest import PROVENANCE
@@ -88,4 +89,46 @@ def test_entries_citing_a_faulty_reference_are_not_blamed_for_it(cli, catalogue)
     assert problems == [
         f"{root}/references.yaml:5:9: error: lagarias-1985.year: expected an integer, got the quoted text "
         "'1985'; write it without quotes"
+    ]
+
+
+# --- layout and word surprises (issue 12, item 13) -------------------------------------------------
+
+
+def test_a_word_is_quoted_digits_up_to_modulus_10_and_a_list_above(cli, catalogue):
+    # catalogue/README.md, "General rules": digits in quotes for m <= 10, a list of residues above.
+    # T(n) = (n - i)/11 on n = i (mod 11) fixes 0 (common practice, no source).
+    eleven = map_file(11, [(i, 1, -i) for i in range(11)])
+    root = catalogue(
+        empty=True,
+        files={
+            "maps/flip.yaml": map_file(2, [(0, -2, 0), (1, 3, 1)]),
+            "cycles/flip/2.yaml": f"map: flip\nstart: 2\nword: [0, 0]\n{PROVENANCE}",
+            "maps/eleven.yaml": eleven,
+            "cycles/eleven/0.yaml": f"map: eleven\nstart: 0\nword: [0, 11]\n{PROVENANCE}",
+        },
+    )
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert run.lines[:2] == [
+        f"{root}/cycles/eleven/0.yaml:3:11: error: word[1]: expected a residue 0..10, got 11",
+        f"{root}/cycles/flip/2.yaml:3:7: error: word: expected a quoted string of residue digits (the modulus 2 "
+        'is at most 10), got a list; write it as word: "00"',
+    ]
+
+
+def test_files_and_folders_where_the_layout_wants_the_other(cli, catalogue):
+    # POSIX mkfifo(3) makes a named pipe, which is neither a regular file nor a folder.
+    root = catalogue(empty=True, files={"maps/.keep": ""})
+    os.mkfifo(root / "maps" / "pipe.yaml")
+    (root / "cycles").write_text("not a folder\n", encoding="utf-8")
+    (root / "record.yaml").unlink()
+    (root / "record.yaml").mkdir()
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert run.lines[:3] == [
+        f"{root}/cycles: error: expected a folder, got a file",
+        f"{root}/maps/pipe.yaml: error: expected only map files (<id>.yaml) here, got a special file (a device, "
+        "pipe or socket)",
+        f"{root}/record.yaml: error: expected a regular file, got a folder",
     ]
