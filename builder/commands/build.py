@@ -33,6 +33,11 @@ def register(subparsers: Subcommands) -> None:
         metavar="URL",
         help="address the site will be published at (absolute links in the feed, and sitemap.xml)",
     )
+    parser.add_argument(
+        "--no-wait",
+        action="store_true",
+        help="if another build is writing DIR, stop at once (exit 2) instead of waiting for it to finish",
+    )
     add_limits(parser)
     parser.set_defaults(run=run)
 
@@ -44,7 +49,7 @@ def run(args: argparse.Namespace) -> int:
         base_url = site_address(args.base_url)
         if base_url is None:
             raise UsageError(f"--base-url: expected {SITE_ADDRESS}, got '{args.base_url}'")
-    result = build_site(args.catalogue, args.out, limits_of(args), base_url)
+    result = build_site(args.catalogue, args.out, limits_of(args), base_url, wait=not args.no_wait)
     show_report(result.report)
     if not result.report.ok:
         print(f"nothing was written; {args.out} is as it was")

@@ -6,15 +6,20 @@ renameat2 RENAME_EXCHANGE where available, else two renames in quick
 succession, between which the target is briefly absent but never partial).
 If verification fails nothing is written; if the build is killed, the old
 site is untouched and the half-written folder is removed by the next build.
+Builds into one folder take turns: each writes while holding an exclusive lock
+(``.<name>.lock`` beside the folder), so none removes another's staging folder.
 """
 
 from __future__ import annotations
 
 import ctypes
 import ctypes.util
+import fcntl
 import os
 import shutil
 import tempfile
+from collections.abc import Iterator
+from contextlib import contextmanager
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -24,12 +29,13 @@ from builder.errors import UsageError
 from builder.history.changelog import Changelog, Edition, read_changelog
 from builder.history.repo import NoHistory, RepoHistory, read_history
 from builder.site.render import MARKER, render_site
-from builder.site.views import build_views
+from builder.site.views import SiteViews, build_views
 
 __all__ = ["BuildResult", "build_site"]
 
 _STAGING = ".{}.building-"
 _RETIRED = ".{}.old-"
+_LOCK = ".{}.lock"
 
 
 @dataclass(frozen=True, slots=True)
@@ -70,13 +76,56 @@ def _check_place(out: Path) -> None:
         raise UsageError(f"{out}: cannot write the site here: {ancestor} is not writable")
 
 
-def _staging(out: Path) -> Path:
-    """A new, empty staging folder beside ``out`` (its parent made if need be), leftovers of killed builds removed."""
-    parent = out.parent
+@contextmanager
+def _lock(out: Path, wait: bool) -> Iterator[None]:
+    """Hold the exclusive lock on ``out`` (flock(2) on ``.<name>.lock`` beside it) while the site is written.
+
+    Only one build writes a site folder at a time: a second waits, or with ``wait`` False is refused at
+    once.  The holder removes the lock file when it is done, so a lock taken on a file that is no longer
+    at the path (removed by the build before) does not count, and is taken again on the new file.  The
+    lock goes with the process, so a killed build never leaves it held (only its file, which the next
+    build takes and removes).
+    """
+    path = out.parent / _LOCK.format(out.name)
     try:
-        parent.mkdir(parents=True, exist_ok=True)
-        _clean_leftovers(parent, out.name)
-        return Path(tempfile.mkdtemp(prefix=_STAGING.format(out.name), dir=parent))
+        out.parent.mkdir(parents=True, exist_ok=True)
+        while True:
+            fd = os.open(path, os.O_RDWR | os.O_CREAT, 0o644)
+            try:
+                fcntl.flock(fd, fcntl.LOCK_EX | (0 if wait else fcntl.LOCK_NB))
+            except BlockingIOError:
+                os.close(fd)
+                raise UsageError(f"{out}: another build is writing this site; try again once it is done") from None
+            if _same_file(fd, path):
+                break
+            os.close(fd)
+    except OSError as exc:
+        raise UsageError(f"{out}: cannot write the site here ({exc.strerror or exc})") from None
+    try:
+        yield
+    finally:
+        path.unlink(missing_ok=True)
+        os.close(fd)
+
+
+def _same_file(fd: int, path: Path) -> bool:
+    """Whether the open file ``fd`` is still the file at ``path``."""
+    try:
+        there = os.stat(path)
+    except FileNotFoundError:
+        return False
+    here = os.fstat(fd)
+    return (here.st_dev, here.st_ino) == (there.st_dev, there.st_ino)
+
+
+def _staging(out: Path) -> Path:
+    """A new, empty staging folder beside ``out``, once the leftovers of killed builds are removed.
+
+    Called with the lock held: no other build is writing, so every staging folder found is a leftover.
+    """
+    try:
+        _clean_leftovers(out.parent, out.name)
+        return Path(tempfile.mkdtemp(prefix=_STAGING.format(out.name), dir=out.parent))
     except OSError as exc:
         raise UsageError(f"{out}: cannot write the site here ({exc.strerror or exc})") from None
 
@@ -103,8 +152,13 @@ def _clean_leftovers(parent: Path, name: str) -> None:
             shutil.rmtree(path, ignore_errors=True)
 
 
-def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_url: str | None = None) -> BuildResult:
-    """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically."""
+def build_site(
+    catalogue: Path, out: Path, limits: Limits | None = None, base_url: str | None = None, *, wait: bool = True
+) -> BuildResult:
+    """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically.
+
+    ``wait`` False refuses at once (UsageError) when another build is writing ``out``, instead of waiting.
+    """
     _check_target(out)
     _check_place(out)
     report = verify_catalogue(catalogue, limits or Limits())
@@ -116,7 +170,14 @@ def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_ur
     changelog, edition = read_changelog(report, history)
     views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)
     out = out.absolute()
-    parent = out.parent
+    with _lock(out, wait):
+        _check_target(out)  # another build may have written it while this one waited
+        pages = _write(views, out)
+    return BuildResult(report, len(pages), edition, changelog, history)
+
+
+def _write(views: SiteViews, out: Path) -> list[str]:
+    """Write the site into a staging folder beside ``out`` and swap it in; return the pages written."""
     staging = _staging(out)
     try:
         pages = render_site(views, staging)
@@ -126,7 +187,7 @@ def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_ur
         elif _exchange(staging, out):
             shutil.rmtree(staging)  # now holds the old site
         else:
-            retired = Path(tempfile.mkdtemp(prefix=_RETIRED.format(out.name), dir=parent))
+            retired = Path(tempfile.mkdtemp(prefix=_RETIRED.format(out.name), dir=out.parent))
             retired.rmdir()
             out.rename(retired)
             try:
@@ -138,4 +199,4 @@ def build_site(catalogue: Path, out: Path, limits: Limits | None = None, base_ur
     except BaseException:
         shutil.rmtree(staging, ignore_errors=True)
         raise
-    return BuildResult(report, len(pages), edition, changelog, history)
+    return pages

@@ -15,6 +15,8 @@ import json
 import os
 import re
 import shutil
+import subprocess
+import sys
 import xml.etree.ElementTree as ET
 from pathlib import Path
 
@@ -27,6 +29,7 @@ from test_site import ATOM, Site, check_links, check_no_remote_resources, check_
 import builder.site.build
 import builder.site.render
 from builder.catalogue.verify import Limits, verify_catalogue
+from builder.errors import UsageError
 from builder.site.build import build_site
 from builder.site.markdown import render_notes
 from builder.site.render import render_site
@@ -508,3 +511,65 @@ def test_the_csv_comment_line_starts_no_formula(tmp_path: Path) -> None:
     assert len(cells) >= 6
     for cell in cells:
         assert cell.lstrip(' "')[:1] not in ("=", "+", "-", "@"), cell
+
+
+# --- builds into one folder take turns (issue 12, item 1) ------------------------------------------
+
+
+def _hold_lock(site: Path) -> int:
+    """Take the build lock of ``site`` as another build would (flock(2), exclusive); return its descriptor."""
+    import fcntl
+
+    fd = os.open(site.parent / f".{site.name}.lock", os.O_RDWR | os.O_CREAT, 0o644)
+    fcntl.flock(fd, fcntl.LOCK_EX)
+    return fd
+
+
+def test_a_build_that_may_not_wait_is_refused_while_another_writes(previous: Path, cli) -> None:
+    before = tree_hashes(previous)
+    fd = _hold_lock(previous)
+    try:
+        with pytest.raises(UsageError, match="another build is writing this site"):
+            build_site(VALID, previous, wait=False)
+        run = cli("build", str(VALID), "--out", str(previous), "--no-wait")
+        assert run.code == 2  # common practice, no source: a usage error
+        assert (
+            run.err
+            == f"periplus: error: {previous.absolute()}: another build is writing this site; try again once it is done\n"
+        )
+    finally:
+        os.close(fd)
+    assert tree_hashes(previous) == before
+
+
+def test_a_build_waits_for_the_one_writing_then_writes(previous: Path) -> None:
+    import threading
+
+    fd = _hold_lock(previous)
+    done: list[int] = []
+    builder_thread = threading.Thread(target=lambda: done.append(build_site(VALID, previous).pages))
+    builder_thread.start()
+    builder_thread.join(timeout=1)
+    assert builder_thread.is_alive() and not done  # waiting for the lock, not writing
+    os.close(fd)  # the other build is done
+    builder_thread.join(timeout=120)
+    assert done and done[0] > 0
+    assert sorted(p.name for p in previous.parent.iterdir()) == ["site"]
+
+
+def test_two_builds_into_one_folder_at_once_both_publish_a_whole_site(tmp_path: Path) -> None:
+    # The finding: a build removed the staging folder of another running at the same moment, which then
+    # published a partial site. With builds taking turns, every run ends with the whole site.
+    reference = tmp_path / "reference"
+    assert build_site(VALID, reference).pages > 0
+    expected = tree_hashes(reference)
+    out = tmp_path / "shared" / "site"
+    command = [sys.executable, "-m", "builder", "build", str(VALID), "--out", str(out)]
+    for _ in range(3):
+        procs = [
+            subprocess.Popen(command, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True) for _ in range(2)
+        ]
+        errors = [p.communicate(timeout=300)[1] for p in procs]
+        assert [p.returncode for p in procs] == [0, 0], errors
+        assert tree_hashes(out) == expected
+        assert sorted(p.name for p in out.parent.iterdir()) == ["site"]
