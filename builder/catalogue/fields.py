@@ -23,6 +23,8 @@ __all__ = [
     "BRANCH",
     "COVERAGE",
     "COVERAGE_KINDS",
+    "NOTES_MAX_CHARACTERS",
+    "NOTES_MAX_OPEN_BRACKETS",
     "CYCLE",
     "DOCUMENTS",
     "MAP",
@@ -43,6 +45,14 @@ __all__ = [
 ]
 
 COVERAGE_KINDS = ("all-starts",)
+#: Notes are rendered as Markdown on every build; these bounds keep that fast whatever a note holds.
+NOTES_MAX_CHARACTERS = 50_000
+#: Each "[", "(" or tag-like "<" that nothing closes makes the Markdown renderer scan the rest of the note again.
+NOTES_MAX_OPEN_BRACKETS = 20
+NOTES_LIMITS = (
+    f"at most {NOTES_MAX_CHARACTERS:,} characters, and at most {NOTES_MAX_OPEN_BRACKETS} `[`, `(` or `<` (before "
+    "a non-space character) that nothing closes; write `\\[`, `\\(` or `\\<` for a bracket meant as text"
+)
 REFERENCE_STATUSES = ("read", "secondary", "memory")
 
 # Value types shared by several fields (JSON Schema $defs).
@@ -68,6 +78,7 @@ class Reads(StrEnum):
 
     LINE = "one line of text"
     TEXT = "text"
+    NOTES = "Markdown notes"
     DATE = "a date"
     INTEGER = "an integer"
     INTEGERS = "a list of integers"
@@ -181,7 +192,7 @@ MAP = Shape("a map entry", (
         "one item per residue 0..m-1: `{residue, multiplier, increment}`", True,
     ),
     Field("summary", LINE, "one line saying what the map is", True, reads=Reads.LINE),
-    Field("notes", TEXT, "Markdown: what is known, how the cycles were searched", reads=Reads.TEXT),
+    Field("notes", TEXT, f"Markdown: what is known, how the cycles were searched ({NOTES_LIMITS})", reads=Reads.NOTES),
     Field("references", IDS, "list of keys of `references.yaml`", reads=Reads.KEYS),
     Field(
         "coverage",
@@ -201,7 +212,7 @@ PROVENANCE = Shape("the provenance", (
     Field("found_on", DATE, "a date", True, reads=Reads.DATE),
     Field("method", TEXT, "how it was found", True, reads=Reads.TEXT),
     Field("references", IDS, "keys of `references.yaml`", reads=Reads.KEYS),
-    Field("notes", TEXT, "Markdown", reads=Reads.TEXT),
+    Field("notes", TEXT, f"Markdown ({NOTES_LIMITS})", reads=Reads.NOTES),
 ))  # fmt: skip
 
 CYCLE = Shape(

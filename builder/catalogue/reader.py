@@ -18,12 +18,12 @@ from typing import Any, TypeVar
 import yaml.resolver
 
 from builder.arith.integers import DECIMAL_INTEGER, parse_decimal, show
-from builder.catalogue.fields import Reads, Shape
+from builder.catalogue.fields import NOTES_MAX_CHARACTERS, NOTES_MAX_OPEN_BRACKETS, Reads, Shape
 from builder.catalogue.files import ID_PATTERN
 from builder.catalogue.nodes import MappingNode, Node, Scalar, SequenceNode
 from builder.errors import KeyPath, Position, Problem, Severity, format_key_path
 
-__all__ = ["EntryReader", "describe", "label", "open_entry", "short", "yaml_type"]
+__all__ = ["EntryReader", "describe", "label", "open_brackets", "open_entry", "short", "yaml_type"]
 
 T = TypeVar("T")
 _RESOLVER = yaml.resolver.Resolver()
@@ -128,6 +128,8 @@ class EntryReader:
             return self.text(node, key_path, one_line=True)
         if reads is Reads.TEXT:
             return self.text(node, key_path)
+        if reads is Reads.NOTES:
+            return self.notes(node, key_path)
         if reads is Reads.DATE:
             return self.date(node, key_path)
         if reads is Reads.INTEGER:
@@ -170,6 +172,26 @@ class EntryReader:
         hint = "; put it in quotes if it is meant as text" if isinstance(node, Scalar) else ""
         self.error(node, key_path, f"expected text, got {describe(node)}{hint}")
         return None
+
+    def notes(self, node: Node, key_path: KeyPath) -> str | None:
+        """Markdown text within the bounds that keep rendering it fast (builder.catalogue.fields)."""
+        value = self.text(node, key_path)
+        if value is None:
+            return None
+        if len(value) > NOTES_MAX_CHARACTERS:
+            message = f"expected notes of at most {NOTES_MAX_CHARACTERS:,} characters, got {len(value):,}"
+            self.error(node, key_path, message, "notes-too-long")
+            return None
+        unclosed = open_brackets(value)
+        if unclosed > NOTES_MAX_OPEN_BRACKETS:
+            self.error(
+                node, key_path,
+                f"expected at most {NOTES_MAX_OPEN_BRACKETS} '[', '(' or '<' that nothing closes, got {unclosed:,}; "
+                "write \\[, \\( or \\< for a bracket meant as text",
+                "notes-brackets",
+            )  # fmt: skip
+            return None
+        return value
 
     def date(self, node: Node, key_path: KeyPath) -> _dt.date | None:
         if isinstance(node, Scalar) and re.fullmatch(r"[0-9]{4}-[0-9]{2}-[0-9]{2}", node.value):
@@ -283,6 +305,29 @@ class EntryReader:
                 )
                 return None
         return tuple(map(int, value))
+
+
+def open_brackets(text: str) -> int:
+    """How many '[', '(' and tag-like '<' of ``text`` nothing later closes (a backslash escapes the next character).
+
+    Python-Markdown looks for the end of a link from each '[' and each '](', and for the end of a tag
+    or an automatic link from each '<' followed by a non-space character, to the end of the note when
+    nothing closes it: few such openings keep rendering linear in the note's size.
+    """
+    unclosed = {"[": 0, "(": 0, "<": 0}
+    closes = {"]": "[", ")": "(", ">": "<"}
+    escaped = False
+    for i, ch in enumerate(text):
+        if escaped:
+            escaped = False
+        elif ch == "\\":
+            escaped = True
+        elif ch in unclosed:
+            if ch != "<" or text[i + 1 : i + 2].strip():
+                unclosed[ch] += 1
+        elif ch in closes and unclosed[closes[ch]]:
+            unclosed[closes[ch]] -= 1
+    return sum(unclosed.values())
 
 
 def label(key_path: KeyPath) -> str:

@@ -2,10 +2,14 @@
 
 from __future__ import annotations
 
+import json
 import os
 import sys
 
-from conftest import PROVENANCE
+from conftest import PROVENANCE, VALID
+
+from builder.catalogue.fields import NOTES_MAX_CHARACTERS
+from builder.catalogue.reader import open_brackets
 
 MAP_HEADER = "name: m\nsummary: s\n"
 
@@ -132,3 +136,45 @@ def test_files_and_folders_where_the_layout_wants_the_other(cli, catalogue):
         "pipe or socket)",
         f"{root}/record.yaml: error: expected a regular file, got a folder",
     ]
+
+
+# --- notes stay quick to render (issue 12, item 3) -------------------------------------------------
+
+
+def test_a_note_of_unclosed_brackets_is_refused_where_it_is_written(cli, catalogue):
+    # Python-Markdown looks for a link's end from every "[" (its inline link pattern), so 16,000 unclosed
+    # "[" took half a minute to render; the note is refused with its position instead (issue 12).
+    root = catalogue(files={"cycles/3x-plus-1/through-1.yaml": _with_notes("[" * 16_000)})
+    run = cli("verify", str(root))
+    assert run.code == 1
+    (line,) = [x for x in run.lines if "notes" in x]
+    assert line.startswith(f"{root}/cycles/3x-plus-1/through-1.yaml:")
+    assert line.endswith(
+        "error: provenance.notes: expected at most 20 '[', '(' or '<' that nothing closes, got 16,000; "
+        "write \\[, \\( or \\< for a bracket meant as text"
+    )
+
+
+def test_a_note_longer_than_the_limit_is_refused(cli, catalogue):
+    long_note = "x" * (NOTES_MAX_CHARACTERS + 1)
+    root = catalogue(files={"cycles/3x-plus-1/through-1.yaml": _with_notes(long_note)})
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert any(
+        x.endswith(f"error: provenance.notes: expected notes of at most 50,000 characters, got {len(long_note):,}")
+        for x in run.lines
+    ), run.lines
+
+
+def test_open_brackets_counts_what_nothing_closes():
+    # Counted by hand (common practice, no source): links and escapes close or hide their brackets.
+    assert open_brackets("[a](https://example.org) and (b) and <https://example.org>") == 0
+    assert open_brackets("[" * 5) == 5
+    assert open_brackets("\\[not a link\\(") == 0
+    assert open_brackets("[[a]") == 1
+    assert open_brackets("a < b, c <d") == 1  # only a '<' before a non-space character opens a tag
+
+
+def _with_notes(text: str) -> str:
+    cycle = (VALID / "cycles" / "3x-plus-1" / "through-1.yaml").read_text(encoding="utf-8")
+    return cycle.rstrip("\n") + "\n  notes: " + json.dumps(text) + "\n"
