@@ -277,21 +277,30 @@ def load_survey(path: Path) -> Survey:
         return SavedSurveyError(f"{path}: not a saved hunt result: {why}")
 
     try:
-        data = json.loads(path.read_text(encoding="utf-8"))
+        data = json.loads(path.read_text(encoding="utf-8"), parse_constant=_no_constant)
     except OSError as exc:
         raise SavedSurveyError(f"{path}: cannot read: {exc.strerror}") from None
     except (ValueError, UnicodeDecodeError) as exc:
         raise bad(f"invalid JSON ({exc})") from None
+    except RecursionError:
+        raise bad("invalid JSON (nested too deeply)") from None
     try:
         if data["format"] != FORMAT:
             raise bad(f"expected format '{FORMAT}', got {data['format']!r}")
         survey = _survey_of(data)
+        if survey.bound < 0 or survey.max_steps < 1 or survey.max_bits < 1:
+            raise bad("expected a bound of at least 0 and limits of at least 1")
         pieces = [HuntResult(parse_decimal(r["to"]), {}, [], parse_decimal(r["from"])) for r in data["covered"]]
+        for piece in pieces:
+            if not 0 <= piece.low <= piece.bound <= survey.bound:
+                raise bad(f"covered range {show(piece.low)}..{show(piece.bound)}: expected 0 <= from <= to <= the bound")
         for item in data["cycles"]:
             members = tuple(parse_decimal(v) for v in item["members"])
             canonical = parse_decimal(item["canonical"])
             if not members or members[0] != canonical or canonical_member(members) != canonical:
                 raise bad(f"cycle {show(canonical)}: members must start at the least |member|")
+            if len(set(members)) != len(members):
+                raise bad(f"cycle {show(canonical)}: members repeat; a cycle is saved once round, at its least period")
             cycle = cycle_at(survey.mapping, canonical, len(members))
             if cycle.members != members or int(item["length"]) != len(members):
                 raise bad(f"cycle {show(canonical)}: the members are not an orbit of the map")
@@ -307,9 +316,14 @@ def load_survey(path: Path) -> Survey:
         survey.absorb(pieces)
     except SavedSurveyError:
         raise
-    except (KeyError, TypeError, ValueError, IndexError, AssertionError) as exc:
+    except (KeyError, TypeError, ValueError, IndexError, AssertionError, OverflowError) as exc:
         raise bad(f"{type(exc).__name__}: {exc}") from None
     return survey
+
+
+def _no_constant(name: str) -> Any:
+    """JSON's extensions NaN and Infinity are no numbers a saved survey may hold."""
+    raise ValueError(f"expected a number, got {name}")
 
 
 def _survey_of(data: Any) -> Survey:
@@ -323,9 +337,16 @@ def _survey_of(data: Any) -> Survey:
         str(spec["id"]),
         AffineMap(modulus, tuple(branches[r] for r in range(modulus))),
         parse_decimal(data["bound"]),
-        int(data["limits"]["max_steps"]),
-        int(data["limits"]["max_bits"]),
+        _whole(data["limits"]["max_steps"]),
+        _whole(data["limits"]["max_bits"]),
     )
+
+
+def _whole(value: Any) -> int:
+    """A whole number written as a JSON integer (not a float, a string or a boolean)."""
+    if not isinstance(value, int) or isinstance(value, bool):
+        raise TypeError(f"expected an integer, got {value!r}")
+    return value
 
 
 def merge_surveys(paths: list[Path]) -> Survey:

@@ -505,3 +505,51 @@ def test_the_periplus_command_line_runs_the_hunt(capsys: pytest.CaptureFixture[s
     assert main(["hunt", "3x-plus-1", "--bound", "100", "--jobs", "1"]) == 0
     assert capsys.readouterr().out == direct[1]
     assert main(["hunt", "no-such-map", "--bound", "1"]) == 2
+
+
+# --- saved files are checked in full before they are trusted (issue 12, item 6) ---------------------
+
+
+def _mutated(data: dict, case: str) -> str:
+    """The saved JSON of a real hunt, with one thing wrong (each a finding of issue 12)."""
+    if case == "range beyond the bound":
+        data["covered"][0]["to"] = str(10**6)
+    elif case == "negative from":
+        data["covered"][0]["from"] = "-5"
+    elif case == "a cycle twice round":
+        # 1 -> 2 -> 1 is the 3x+1 cycle of length 2 (Lagarias 1985 via literature.md); written twice round.
+        data["cycles"] = [{"canonical": "1", "length": 4, "members": ["1", "2", "1", "2"]}]
+    elif case == "negative max_steps":
+        data["limits"]["max_steps"] = -5
+    elif case == "a float for max_bits":
+        data["limits"]["max_bits"] = 64.5
+    elif case == "Infinity":
+        return json.dumps(data).replace('"max_steps": 100000', '"max_steps": Infinity')
+    elif case == "deep nesting":
+        return json.dumps(data)[:-1] + ', "extra": ' + "[" * 100_000 + "]" * 100_000 + "}"
+    return json.dumps(data)
+
+
+@pytest.mark.parametrize(
+    "case",
+    [
+        "range beyond the bound",
+        "negative from",
+        "a cycle twice round",
+        "negative max_steps",
+        "a float for max_bits",
+        "Infinity",
+        "deep nesting",
+    ],
+)
+def test_merge_refuses_a_saved_file_that_does_not_hold(
+    case: str, capsys: pytest.CaptureFixture[str], tmp_path: Path
+) -> None:
+    saved = tmp_path / "part.json"
+    assert run(capsys, "3x-plus-1", "--bound", "100", "--jobs", "1", "--save", saved)[0] == 0
+    data = json.loads(saved.read_text(encoding="utf-8"))
+    assert data["limits"]["max_steps"] == 100000  # the hunt's default limit, which the mutations rely on
+    saved.write_text(_mutated(data, case), encoding="utf-8")
+    code, out, err = run(capsys, "--merge", saved)
+    assert code == 2 and out == "", (case, out, err)
+    assert err.startswith(f"periplus: error: {saved}: not a saved hunt result: ") and err.count("\n") == 1, err
