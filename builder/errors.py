@@ -28,8 +28,10 @@ __all__ = [
 KeyPath = tuple[str | int, ...]
 
 #: Characters that would split or disguise a printed diagnostic line: C0 and C1 controls, DEL, and the
-#: Unicode line and paragraph separators (Unicode 15, chapter 5.8, "Newline Guidelines").
-_UNPRINTABLE = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029]")
+#: Unicode line and paragraph separators (Unicode 15, chapter 5.8, "Newline Guidelines"); and the lone
+#: surrogates by which Python keeps the bytes of a file name that is not UTF-8 (PEP 383), which no
+#: UTF-8 output can write.
+_UNPRINTABLE = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029\ud800-\udfff]")
 _NAMED = {"\n": "\\n", "\r": "\\r", "\t": "\\t"}
 
 
@@ -44,7 +46,10 @@ def printable(text: str) -> str:
 
 def _escape(match: re.Match[str]) -> str:
     ch = match[0]
-    return _NAMED.get(ch) or (f"\\x{ord(ch):02x}" if ord(ch) < 0x100 else f"\\u{ord(ch):04x}")
+    code = ord(ch)
+    if 0xDC80 <= code <= 0xDCFF:  # a byte that is not UTF-8, kept by the surrogateescape handler
+        return f"\\x{code - 0xDC00:02x}"
+    return _NAMED.get(ch) or (f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}")
 
 
 def format_key_path(path: KeyPath) -> str:

@@ -247,6 +247,16 @@ _A = {
 }
 
 
+def _listing(raw: RawCatalogue, folder: str) -> list[tuple[str, PathKind]]:
+    """A folder's entries, or none (with a layout problem) when the folder cannot be read."""
+    try:
+        return raw.source.listing(folder)
+    except OSError as exc:
+        problem = _problem(raw.root / folder, f"cannot read the folder: {exc.strerror or exc}", "unreadable")
+        raw.layout_problems.append(problem)
+        return []
+
+
 def _join(folder: str, name: str) -> str:
     return name if folder == "." else f"{folder}/{name}"
 
@@ -254,7 +264,7 @@ def _join(folder: str, name: str) -> str:
 def _entry_files(raw: RawCatalogue, folder: str, what: str) -> Iterator[tuple[str, Path]]:
     """Yield (id, path) for each ``<id>.yaml`` in folder, reporting anything else there."""
     problems = raw.layout_problems
-    for name, kind in raw.source.listing(folder):
+    for name, kind in _listing(raw, folder):
         if name.startswith("."):
             continue  # .gitkeep and editor files
         path = raw.root / folder / name
@@ -305,7 +315,7 @@ def scan_source(source: Source) -> RawCatalogue:
     if found in (PathKind.LINK, PathKind.FILE, PathKind.OTHER):
         problems.append(_problem(root / "cycles", f"expected a folder, got {_A[found]}", "layout"))
     elif found is PathKind.FOLDER:
-        for name, kind in source.listing(cycles):
+        for name, kind in _listing(raw, cycles):
             if name.startswith("."):
                 continue
             folder = root / "cycles" / name

@@ -62,6 +62,9 @@ def run(args: argparse.Namespace) -> int:
             print("note: the repository is a shallow clone, so entry dates and old releases may be missing")
         for tag, why in result.history.ignored_tags:
             print(f"note: the tag {tag} is not read as a release, because {why}")
+    if result.changelog is not None:
+        for tag, why in result.changelog.skipped:
+            print(f"note: the tag {tag} is not read as a release, because {why}")
     if result.changelog is not None and result.changelog.releases:
         for step in result.changelog.releases:
             if step.stated_version is not None:

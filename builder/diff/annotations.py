@@ -29,7 +29,8 @@ def workflow_command(command: str, message: str, file: str | None = None, line: 
             if col:
                 props.append(f"col={col}")
     head = f"::{command} {','.join(props)}" if props else f"::{command}"
-    return f"{head}::{_escape_data(message)}"
+    # A file name that is not UTF-8 holds lone surrogates (PEP 383), which no UTF-8 log can take.
+    return f"{head}::{_escape_data(message)}".encode("utf-8", "backslashreplace").decode("utf-8")
 
 
 def github_commands(comparison: Comparison, prefix: str) -> list[str]:

@@ -22,7 +22,7 @@ from datetime import date
 from builder.catalogue.model import Report
 from builder.catalogue.verify import Limits, verify_source
 from builder.diff import Comparison, compare_series
-from builder.errors import NoCatalogueAtRevision
+from builder.errors import CatalogueUnreadable, NoCatalogueAtRevision
 from builder.history.repo import RELEASE_TAG_PREFIX, NoHistory, Release, RepoHistory
 from builder.history.revisions import empty_source, revision_source
 
@@ -54,6 +54,7 @@ class Changelog:
     steps: tuple[Step, ...]  # oldest first; the unreleased step, if any, is last
     unavailable: str | None = None  # why the record has no changelog (no repository, no releases)
     shallow: bool = False  # read from a shallow clone: old releases may be missing
+    skipped: tuple[tuple[str, str], ...] = ()  # (tag, why) for release tags whose catalogue cannot be read
 
     @property
     def releases(self) -> tuple[Step, ...]:
@@ -117,15 +118,16 @@ def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Ch
         edition = Edition(record.version, "unreleased", None, False)
         return Changelog((), f"no changelog: {history.reason}"), edition
     head = history.head.id if history.head else None
-    releases = history.releases
+    read, skipped = _read_releases(history)
+    releases = tuple(release for release, _ in read)
     if not releases:
         edition = Edition(record.version, "unreleased", head, history.dirty)
         reason = (
             f"no changelog yet: the repository has no release tags (a release is a tag {RELEASE_TAG_PREFIX}<version>)"
         )
-        return Changelog((), reason, history.shallow), edition
+        return Changelog((), reason, history.shallow, skipped), edition
     reports = [verify_source(empty_source("(no catalogue yet)"), _COMPARE_LIMITS)]
-    reports += [_release_report(history, release) for release in releases]
+    reports += [release_report for _, release_report in read]
     comparisons = compare_series([*reports, report])
     steps = _release_steps(releases, reports[1:], comparisons[:-1])
     previous = releases[-1]
@@ -139,7 +141,19 @@ def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Ch
         edition = Edition(record.version, "release", head, history.dirty, previous.commit.date)
     else:
         edition = Edition(record.version, "after-release", head, history.dirty, tagged[record.version].commit.date)
-    return Changelog(tuple(steps), None, history.shallow), edition
+    return Changelog(tuple(steps), None, history.shallow, skipped), edition
+
+
+def _read_releases(history: RepoHistory) -> tuple[list[tuple[Release, Report]], tuple[tuple[str, str], ...]]:
+    """Each release with its verified catalogue; a release whose catalogue cannot be read is skipped, with why."""
+    read: list[tuple[Release, Report]] = []
+    skipped: list[tuple[str, str]] = []
+    for release in history.releases:
+        try:
+            read.append((release, _release_report(history, release)))
+        except CatalogueUnreadable as exc:
+            skipped.append((release.tag, f"its catalogue cannot be read: {exc.reason}"))
+    return read, tuple(skipped)
 
 
 def _release_steps(

@@ -7,6 +7,7 @@ the same commit does, since git stores a file's bytes unchanged (git-cat-file(1)
 from __future__ import annotations
 
 import os
+import shutil
 from pathlib import Path
 
 import pytest
@@ -108,3 +109,66 @@ def test_a_tree_in_memory_lists_folders_as_git_implies_them() -> None:
     assert tree.read("cycles/a/1.yaml") == b"y"
     with pytest.raises(FileNotFoundError):
         tree.read("maps")
+
+
+# --- repository content that once broke review and build (issue 12, item 4) --------------------------
+
+
+def test_a_release_tag_on_a_commit_whose_catalogue_is_a_file_is_skipped_with_a_note(cli, tmp_path: Path) -> None:
+    repo = Repo(tmp_path / "repo")
+    repo.write({"catalogue": "not a folder\n"})
+    repo.commit("a file where the catalogue goes", "2024-05-01T12:00:00+00:00")
+    repo.tag("record-0.1")
+    (repo.path / "catalogue").unlink()
+    _commit_tree(repo, VALID)
+    run = cli("build", str(repo.path / "catalogue"), "--out", str(tmp_path / "site"))
+    assert run.code == 0, run.out + run.err
+    assert (
+        "note: the tag record-0.1 is not read as a release, because its catalogue cannot be read: "
+        "expected a catalogue directory, got a file"
+    ) in run.lines
+
+
+def test_a_file_name_that_is_not_utf8_is_reported_not_a_crash(cli, tmp_path: Path) -> None:
+    # POSIX file names are bytes; Python keeps undecodable ones as lone surrogates (PEP 383), which
+    # must reach the output escaped, on disk and from git objects alike.
+    repo = Repo(tmp_path / "repo")
+    _commit_tree(repo, VALID)
+    name = os.path.join(os.fsencode(repo.path / "catalogue" / "maps"), b"caf\xe9.yaml")
+    with open(name, "wb") as f:
+        f.write(b"name: x\n")
+    repo.commit("a name that is not UTF-8", "2024-05-02T12:00:00+00:00")
+    on_disk = cli("verify", str(repo.path / "catalogue"))
+    assert on_disk.code == 1 and "Traceback" not in on_disk.err
+    assert any(
+        line.endswith(
+            "maps/caf\\xe9.yaml: error: expected an id of lowercase letters, digits and hyphens "
+            "([a-z0-9][a-z0-9-]*), got 'caf\\xe9'"
+        )
+        for line in on_disk.lines
+    ), on_disk.lines
+    review = cli("review", "--git", "--repo", str(repo.path), "--format", "github", "HEAD~1", "HEAD")
+    assert review.code == 1 and "Traceback" not in review.err
+    assert "caf\\xe9" in review.out
+
+
+def test_a_folder_that_cannot_be_read_is_a_problem_not_a_crash(
+    cli, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # As root (CI) every folder is readable, so the refusal is made here: os.scandir raising
+    # PermissionError is what a folder without read permission gives (POSIX opendir(3), EACCES).
+    import builder.catalogue.files as files
+
+    real = files.FolderSource.listing
+
+    def listing(self: files.FolderSource, rel: str) -> list[tuple[str, PathKind]]:
+        if rel == "cycles/3x-plus-1":
+            raise PermissionError(13, "Permission denied")
+        return real(self, rel)
+
+    monkeypatch.setattr(files.FolderSource, "listing", listing)
+    root = tmp_path / "cat"
+    shutil.copytree(VALID, root)
+    run = cli("verify", str(root))
+    assert run.code == 1 and "Traceback" not in run.err
+    assert f"{root}/cycles/3x-plus-1: error: cannot read the folder: Permission denied" in run.lines
