@@ -23,6 +23,8 @@ __all__ = [
     "BRANCH",
     "COVERAGE",
     "COVERAGE_KINDS",
+    "LINE_MAX_CHARACTERS",
+    "MAX_MODULUS",
     "NOTES_MAX_CHARACTERS",
     "NOTES_MAX_OPEN_BRACKETS",
     "CYCLE",
@@ -45,6 +47,10 @@ __all__ = [
 ]
 
 COVERAGE_KINDS = ("all-starts",)
+#: One-line text (names, summaries, titles...) is shown on many pages; a real record stays far below this.
+LINE_MAX_CHARACTERS = 1_000
+#: Every branch is shown on the map's page; a real record stays far below this.
+MAX_MODULUS = 10_000
 #: Notes are rendered as Markdown on every build; these bounds keep that fast whatever a note holds.
 NOTES_MAX_CHARACTERS = 50_000
 #: Each "[", "(" or tag-like "<" that nothing closes makes the Markdown renderer scan the rest of the note again.
@@ -59,7 +65,7 @@ REFERENCE_STATUSES = ("read", "secondary", "memory")
 DEFS: Mapping[str, Mapping[str, Any]] = {
     "id": {"type": "string", "pattern": "^[a-z0-9][a-z0-9-]*$"},
     "text": {"type": "string", "pattern": "\\S"},
-    "line": {"type": "string", "pattern": "^\\s*\\S([^\\n]*\\S)?\\s*$"},
+    "line": {"type": "string", "pattern": "^\\s*\\S([^\\n]*\\S)?\\s*$", "maxLength": LINE_MAX_CHARACTERS},
     "date": {
         "$comment": "An unquoted YYYY-MM-DD is a YAML timestamp, which yaml.safe_load turns into a datetime.date: "
         "a value of no JSON type, admitted by the second branch. A quoted date is a string.",
@@ -186,7 +192,10 @@ COVERAGE = Shape("a coverage record", (
 
 MAP = Shape("a map entry", (
     Field("name", LINE, "display name, one line", True, reads=Reads.LINE),
-    Field("modulus", {"type": "integer", "minimum": 2}, "m, an integer of at least 2", True, reads=Reads.INTEGER),
+    Field(
+        "modulus", {"type": "integer", "minimum": 2, "maximum": MAX_MODULUS},
+        f"m, an integer from 2 to {MAX_MODULUS:,} (the map's page shows every branch)", True, reads=Reads.INTEGER,
+    ),
     Field(
         "branches", {"type": "array", "minItems": 2, "items": BRANCH.schema()},
         "one item per residue 0..m-1: `{residue, multiplier, increment}`", True,

@@ -6,7 +6,7 @@ from collections.abc import Collection
 
 from builder.arith.dynamics import AffineMap, branch_defects
 from builder.arith.integers import show
-from builder.catalogue.fields import BRANCH, COVERAGE, COVERAGE_KINDS, MAP
+from builder.catalogue.fields import BRANCH, COVERAGE, COVERAGE_KINDS, MAP, MAX_MODULUS
 from builder.catalogue.files import RawFile
 from builder.catalogue.model import Coverage, MapEntry
 from builder.catalogue.nodes import Node, SequenceNode
@@ -26,6 +26,12 @@ def check_map(raw: RawFile, known: Collection[str] | None, problems: list[Proble
     modulus = v.get("modulus")
     if modulus is not None and modulus < 2:
         doc.error(f["modulus"], ("modulus",), f"expected a modulus of at least 2, got {show(modulus)}")
+        modulus = None
+    elif modulus is not None and modulus > MAX_MODULUS:
+        message = (
+            f"expected a modulus of at most {MAX_MODULUS:,} (the map's page shows every branch), got {show(modulus)}"
+        )
+        doc.error(f["modulus"], ("modulus",), message, "modulus-too-large")
         modulus = None
     branches = _check_branches(doc, f["branches"], modulus) if "branches" in f and modulus is not None else None
     coverage = doc.listing(f["coverage"], ("coverage",), lambda n, p: _coverage(doc, n, p)) if "coverage" in f else []

@@ -18,7 +18,7 @@ from typing import Any, TypeVar
 import yaml.resolver
 
 from builder.arith.integers import DECIMAL_INTEGER, parse_decimal, show
-from builder.catalogue.fields import NOTES_MAX_CHARACTERS, NOTES_MAX_OPEN_BRACKETS, Reads, Shape
+from builder.catalogue.fields import LINE_MAX_CHARACTERS, NOTES_MAX_CHARACTERS, NOTES_MAX_OPEN_BRACKETS, Reads, Shape
 from builder.catalogue.files import ID_PATTERN
 from builder.catalogue.nodes import MappingNode, Node, Scalar, SequenceNode
 from builder.errors import KeyPath, Position, Problem, Severity, format_key_path
@@ -164,6 +164,10 @@ class EntryReader:
         if isinstance(node, Scalar) and (not node.plain or yaml_type(node) == "str"):
             if one_line and "\n" in node.value.strip():
                 self.error(node, key_path, "expected one line of text, got several lines")
+                return None
+            if one_line and len(node.value) > LINE_MAX_CHARACTERS:
+                message = f"expected one line of at most {LINE_MAX_CHARACTERS:,} characters, got {len(node.value):,}"
+                self.error(node, key_path, message, "line-too-long")
                 return None
             if not node.value.strip():
                 self.error(node, key_path, "expected some text, got an empty string")

@@ -53,15 +53,22 @@ def test_periodic_word_without_a_start_is_refused_even_when_degenerate(cli, cata
 
 
 def test_huge_modulus_is_reported_without_enumerating_its_residues(cli, catalogue):
-    # A modulus of 5,001 digits with two branches: the message abbreviates it and lists the
-    # first missing residues (the check must not walk all 10^5000 of them).
+    # A modulus of 5,001 digits with two branches: the message abbreviates it (the check must not walk
+    # all 10^5000 residues); it is refused as a modulus beyond the record's bound (issue 12, item 12).
     modulus = "1" + "0" * 5000
     root = catalogue(empty=True, files={"maps/big.yaml": map_file(modulus, [(0, 1, 0), (1, 3, 1)])})
     run = cli("verify", str(root))
     assert run.code == 1
     assert run.lines[0] == (
+        f"{root}/maps/big.yaml:3:10: error: modulus: expected a modulus of at most 10,000 (the map's page shows "
+        "every branch), got 10000000000000000000...0000000000 (5001 digits)"
+    )
+    # At the bound, two branches given: the message lists the first missing residues, not all of them.
+    root = catalogue(empty=True, files={"maps/big.yaml": map_file(10_000, [(0, 1, 0), (1, 3, 1)])})
+    run = cli("verify", str(root))
+    assert run.lines[0] == (
         f"{root}/maps/big.yaml:5:3: error: branches: expected one branch for each residue "
-        "0..99999999999999999999...9999999999 (5000 digits), got none for 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, ..."
+        "0..9999, got none for 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, ..."
     )
     assert sys.get_int_max_str_digits() in (0, 4300)  # untouched by Periplus (CPython's default is 4300)
 
@@ -178,3 +185,30 @@ def test_open_brackets_counts_what_nothing_closes():
 def _with_notes(text: str) -> str:
     cycle = (VALID / "cycles" / "3x-plus-1" / "through-1.yaml").read_text(encoding="utf-8")
     return cycle.rstrip("\n") + "\n  notes: " + json.dumps(text) + "\n"
+
+
+# --- no small file makes a huge site (issue 12, item 12) ----------------------------------------------
+
+
+def test_a_name_of_two_megabytes_is_refused(cli, catalogue):
+    name = "n" * 2_000_000
+    root = catalogue(
+        files={"maps/3x-plus-1.yaml": map_file(2, [(0, 1, 0), (1, 3, 1)]).replace("name: m", f"name: {name}")}
+    )
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert any(
+        x.endswith("error: name: expected one line of at most 1,000 characters, got 2,000,000") for x in run.lines
+    )
+
+
+def test_a_map_of_200000_branches_is_refused_before_its_branches_are_read(cli, catalogue):
+    modulus = 200_000
+    rows = "".join(f"  - {{residue: {r}, multiplier: 1, increment: {-r}}}\n" for r in range(modulus))
+    root = catalogue(empty=True, files={"maps/wide.yaml": f"{MAP_HEADER}modulus: {modulus}\nbranches:\n{rows}"})
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert run.lines[0] == (
+        f"{root}/maps/wide.yaml:3:10: error: modulus: expected a modulus of at most 10,000 (the map's page shows "
+        "every branch), got 200000"
+    )
