@@ -93,9 +93,11 @@ def _lock(out: Path, wait: bool) -> Iterator[None]:
             fd = os.open(path, os.O_RDWR | os.O_CREAT, 0o644)
             try:
                 fcntl.flock(fd, fcntl.LOCK_EX | (0 if wait else fcntl.LOCK_NB))
-            except BlockingIOError:
+            except BaseException as exc:  # Ctrl-C while waiting included: the descriptor is not kept
                 os.close(fd)
-                raise UsageError(f"{out}: another build is writing this site; try again once it is done") from None
+                if isinstance(exc, BlockingIOError):
+                    raise UsageError(f"{out}: another build is writing this site; try again once it is done") from None
+                raise
             if _same_file(fd, path):
                 break
             os.close(fd)
