@@ -171,3 +171,14 @@ def test_every_package_is_installed() -> None:
     listed = set(tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))["tool"]["setuptools"]["packages"])
     found = {dotted(m) for m in MODULES if m.endswith("__init__.py")}
     assert found <= listed, f"packages missing from pyproject.toml: {sorted(found - listed)}"
+
+
+def test_every_page_kind_module_is_in_the_registry() -> None:
+    # A page kind is one module of builder/site/pages and one name in MODULES (DEVELOPERS.md): a module
+    # left out of the registry would make no pages without a word.
+    from builder.site.pages import KINDS, MODULES
+
+    shared = {"__init__", "common", "context"}
+    found = {p.stem for p in (PACKAGE / "site" / "pages").glob("*.py")} - shared
+    assert set(MODULES) == found
+    assert len({kind.name for kind in KINDS}) == len(MODULES)  # one kind per module, each named apart

@@ -16,7 +16,7 @@ import json
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from enum import StrEnum
+from enum import StrEnum, auto
 from typing import Any
 
 __all__ = [
@@ -82,16 +82,16 @@ IDS = {"type": "array", "items": ID}
 class Reads(StrEnum):
     """How the entry reader reads a field's value; OWN for fields whose kind's check reads them itself."""
 
-    LINE = "one line of text"
-    TEXT = "text"
-    NOTES = "Markdown notes"
-    DATE = "a date"
-    INTEGER = "an integer"
-    INTEGERS = "a list of integers"
-    ID = "an id"
-    KEYS = "a list of reference keys"
-    LINES = "a list of lines"
-    OWN = "read by the entry's own check"
+    LINE = auto()
+    TEXT = auto()
+    NOTES = auto()
+    DATE = auto()
+    INTEGER = auto()
+    INTEGERS = auto()
+    ID = auto()
+    KEYS = auto()
+    LINES = auto()
+    OWN = auto()
 
 
 @dataclass(frozen=True, slots=True)

@@ -18,8 +18,8 @@ from enum import StrEnum
 from pathlib import Path
 from typing import Protocol
 
-from builder.catalogue.nodes import Node, parse_yaml
-from builder.errors import CatalogueUnreadable, Position, Problem
+from builder.catalogue.nodes import Node, parse_yaml, problem_at
+from builder.errors import CatalogueUnreadable, Problem
 
 __all__ = [
     "ID_PATTERN",
@@ -197,8 +197,8 @@ class RawCatalogue:
         return (f for f in self.files if f.kind == kind)
 
 
-def _problem(path: Path, message: str, code: str, line: int = 0, column: int = 0) -> Problem:
-    return Problem(Position(path, line, column), message, code)
+def _problem(path: Path, message: str, code: str) -> Problem:
+    return problem_at(path, 0, 0, message, code)
 
 
 def _decode(data: bytes, path: Path, problems: list[Problem]) -> str | None:
@@ -209,7 +209,7 @@ def _decode(data: bytes, path: Path, problems: list[Problem]) -> str | None:
         line = before.count(b"\n") + 1
         column = exc.start - (before.rfind(b"\n") + 1) + 1
         problems.append(
-            _problem(path, f"expected UTF-8 text, got the byte 0x{data[exc.start]:02x}", "encoding", line, column)
+            problem_at(path, line, column, f"expected UTF-8 text, got the byte 0x{data[exc.start]:02x}", "encoding")
         )
         return None
 

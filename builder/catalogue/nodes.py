@@ -17,9 +17,9 @@ from typing import Any
 
 import yaml
 
-from builder.errors import KeyPath, Position, Problem
+from builder.errors import Position, Problem
 
-__all__ = ["MAX_DEPTH", "MappingNode", "Node", "Scalar", "SequenceNode", "node_at", "parse_yaml"]
+__all__ = ["MAX_DEPTH", "MappingNode", "Node", "Scalar", "SequenceNode", "parse_yaml", "problem_at"]
 
 #: Catalogue documents are shallow; anything deeper is refused.
 MAX_DEPTH = 16
@@ -74,7 +74,8 @@ class MappingNode(Node):
         self.line, self.column = line, column
 
 
-def _problem(path: Path, line: int, column: int, message: str, code: str) -> Problem:
+def problem_at(path: Path, line: int, column: int, message: str, code: str) -> Problem:
+    """A problem at a line and column of a file (0, 0: the file as a whole)."""
     return Problem(Position(path, line, column), message, code)
 
 
@@ -92,11 +93,11 @@ def _decorations(event: Any, node: Node, path: Path, problems: list[Problem]) ->
     """Report an anchor or an explicit tag on a node: catalogue files use neither."""
     if event.anchor:
         problems.append(
-            _problem(path, node.line, node.column, f"anchor &{event.anchor} is not allowed in catalogue files", "yaml")
+            problem_at(path, node.line, node.column, f"anchor &{event.anchor} is not allowed in catalogue files", "yaml")
         )
     if event.tag and event.tag != "!":
         problems.append(
-            _problem(
+            problem_at(
                 path, node.line, node.column, f"explicit tag {event.tag} is not allowed in catalogue files", "yaml"
             )
         )
@@ -112,7 +113,7 @@ def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
         line = text.count("\n", 0, bad.start()) + 1
         column = bad.start() - (text.rfind("\n", 0, bad.start()) + 1) + 1
         problems.append(
-            _problem(
+            problem_at(
                 path,
                 line,
                 column,
@@ -176,7 +177,7 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
             elif cls is _ALIAS:
                 mark = event.start_mark
                 problems.append(
-                    _problem(
+                    problem_at(
                         path,
                         mark.line + 1,
                         mark.column + 1,
@@ -192,7 +193,7 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
                 if documents > 1:
                     mark = event.start_mark
                     problems.append(
-                        _problem(
+                        problem_at(
                             path, mark.line + 1, mark.column + 1, "expected one YAML document, got several", "yaml"
                         )
                     )
@@ -210,7 +211,7 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
             elif key is None:
                 if type(node) is not Scalar:
                     problems.append(
-                        _problem(path, node.line, node.column, f"expected a plain text key, got a {node.KIND}", "yaml")
+                        problem_at(path, node.line, node.column, f"expected a plain text key, got a {node.KIND}", "yaml")
                     )
                     key = Scalar("", True, node.line, node.column)
                     drop = True
@@ -220,7 +221,7 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
                     drop = first is not None
                     if drop:
                         problems.append(
-                            _problem(
+                            problem_at(
                                 path,
                                 node.line,
                                 node.column,
@@ -235,7 +236,7 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
             if cls is _MAPPING_START or cls is _SEQUENCE_START:
                 if len(stack) >= MAX_DEPTH:
                     problems.append(
-                        _problem(
+                        problem_at(
                             path,
                             node.line,
                             node.column,
@@ -258,24 +259,11 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
         row = rows[line - 1] if 0 < line <= len(rows) else ""
         if 0 < column <= len(row) and row[column - 1] == "\t" and "tab" not in reason:
             reason += " (a tab character; indent with spaces)"
-        problems.append(_problem(path, line, column, f"YAML syntax: {reason}", "yaml"))
+        problems.append(problem_at(path, line, column, f"YAML syntax: {reason}", "yaml"))
         return None, problems
     except yaml.YAMLError as exc:  # pragma: no cover - unmarked errors are rare
-        problems.append(_problem(path, 0, 0, "YAML syntax: " + " ".join(str(exc).split()), "yaml"))
+        problems.append(problem_at(path, 0, 0, "YAML syntax: " + " ".join(str(exc).split()), "yaml"))
         return None, problems
     finally:
         parser.dispose()
     return (None if aliased else root), problems
-
-
-def node_at(root: Node | None, key_path: KeyPath) -> Node | None:
-    """The node at ``key_path`` below ``root`` (keys of mappings, indexes of lists), or None."""
-    node = root
-    for part in key_path:
-        if isinstance(part, str) and isinstance(node, MappingNode) and part in node.entries:
-            node = node.entries[part][1]
-        elif isinstance(part, int) and isinstance(node, SequenceNode) and part < len(node.items):
-            node = node.items[part]
-        else:
-            return None
-    return node

@@ -2,7 +2,7 @@
 
 Each kind lives in a module of its own and declares a ``PageKind`` (builder.site.pages.common).
 To add a kind of page: write its module, with a function that makes its pages and, if the
-navigation should link to it, a ``NavEntry``; then add its ``KIND`` to ``KINDS`` below.  Kinds
+navigation should link to it, a ``NavEntry``; then add the module's name to ``MODULES`` below.  Kinds
 made for the whole site get the pages made before them (the site map lists those); kinds made
 per map, when they stand next to each other in ``KINDS``, are made map by map, so each map's
 page is followed by its cycles' pages.
@@ -10,39 +10,37 @@ page is followed by its cycles' pages.
 
 from __future__ import annotations
 
+from importlib import import_module
 from itertools import groupby
 
-from builder.site.pages import (
-    changes,
-    cycle_entry,
-    data,
-    home,
-    lengths,
-    map_entry,
-    maps_index,
-    not_found,
-    references,
-    search,
-    site_map,
-)
 from builder.site.pages.common import NavEntry, Page, PageKind
 from builder.site.pages.context import SiteContext
 
-__all__ = ["KINDS", "NAV", "all_pages"]
+__all__ = ["KINDS", "MODULES", "NAV", "all_pages"]
 
-KINDS: tuple[PageKind, ...] = (
-    home.KIND,
-    maps_index.KIND,
-    map_entry.KIND,
-    cycle_entry.KIND,
-    lengths.KIND,
-    references.KIND,
-    changes.KIND,
-    search.KIND,
-    data.KIND,
-    not_found.KIND,
-    site_map.KIND,
+#: The modules of the page kinds, in the order their pages are made: a new kind is one more name here.
+MODULES = (
+    "home",
+    "maps_index",
+    "map_entry",
+    "cycle_entry",
+    "lengths",
+    "references",
+    "changes",
+    "search",
+    "data",
+    "not_found",
+    "site_map",
 )
+
+
+def _kind(name: str) -> PageKind:
+    kind = import_module(f"{__name__}.{name}").KIND
+    assert isinstance(kind, PageKind), f"{name}: expected a KIND that is a PageKind"
+    return kind
+
+
+KINDS: tuple[PageKind, ...] = tuple(_kind(name) for name in MODULES)
 
 #: The navigation bar of every page, from the kinds that declare an entry, left to right.
 NAV: tuple[NavEntry, ...] = tuple(sorted((k.nav for k in KINDS if k.nav is not None), key=lambda e: e.place))
