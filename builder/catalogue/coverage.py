@@ -1,9 +1,14 @@
-"""Re-running coverage claims: every start up to the bound, searched again, against the listed cycles.
+"""Re-running coverage claims: the starts up to the bound, searched again, against the listed cycles.
 
 A claim says that every cycle whose least |member| is at most its bound is listed, and that its
-unresolved starts are exactly those the search cannot resolve within its limits.  Claims within the
-verification's budget are re-run by the fast search engine each time; larger ones are kept as stated
-(attested, not rechecked).
+unresolved starts are exactly those the search cannot resolve within its limits.  Every
+verification searches every claim again for the starts with |n| up to min(bound, --recheck-up-to),
+so a cycle missing there is always caught, whatever bound the claim states.  What it could not
+search is attested, and said to be: the part beyond --recheck-up-to, the part beyond the point
+where the map's work budget ran out, and the part beyond a start that the capped limits leave
+unresolved but the claim does not list (it may resolve within the claim's larger limits, or be a
+cycle's least member).  The recheck's limits are the claim's own, capped by the verification's:
+a claim cannot make verification follow orbits further than its command allows.
 """
 
 from __future__ import annotations
@@ -11,11 +16,13 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping
 from dataclasses import replace
 
+from builder.arith.dynamics import default_max_bits
 from builder.arith.integers import show
 from builder.catalogue.limits import Limits
-from builder.catalogue.model import Coverage, Cycle, MapEntry
+from builder.catalogue.model import Coverage, Cycle, MapEntry, Recheck
 from builder.catalogue.reader import label
 from builder.errors import KeyPath, Position, Problem, Severity
+from builder.search.definition import HuntResult
 from builder.search.engine import hunt_range
 
 __all__ = ["recheck_coverage"]
@@ -30,28 +37,90 @@ def recheck_coverage(
     problems: list[Problem],
     where: Callable[[KeyPath], Position],
 ) -> MapEntry:
-    """Re-run each coverage claim within budget; report what the catalogue or the claim lacks.
+    """Search each coverage claim again as far as the limits allow; report what the catalogue or the claim lacks.
 
     ``cycles`` are the map's verified cycles by canonical member; ``where`` gives the position of
-    a key path in the map's file.
+    a key path in the map's file.  The claims of one map share ``limits.map_work``.
     """
     checked = []
+    searches: dict[tuple[int, int, int], HuntResult] = {}  # claims of one map often search the same starts
+    budget = limits.map_work
     for i, claim in enumerate(entry.coverage):
-        if claim.bound > limits.recheck_up_to:
+        if limits.recheck_up_to < 0:
             checked.append(claim)
             continue
-        findings = _findings(entry, claim, cycles, label(("coverage", i)))
+        findings, recheck = _recheck(entry, claim, cycles, limits, (budget, searches), label(("coverage", i)))
+        budget -= recheck[1]
         if findings:
             at = where(("coverage", i))
             problems.extend(Problem(at, message, code, severity) for message, code, severity in findings)
-        checked.append(replace(claim, rechecked=True))
+        checked.append(replace(claim, recheck=recheck[0]))
     return replace(entry, coverage=tuple(checked))
 
 
-def _findings(entry: MapEntry, claim: Coverage, cycles: Mapping[int, Cycle], label: str) -> list[Finding]:
-    result = hunt_range(entry.dynamics, 0, claim.bound, claim.max_steps, claim.max_bits)
+def _capped(entry: MapEntry, claim: Coverage, limits: Limits, label: str) -> tuple[int, int, list[Finding]]:
+    """The claim's limits capped by the verification's, with a warning for each one capped."""
+    bits_cap = limits.max_bits if limits.max_bits is not None else default_max_bits(entry.dynamics, claim.bound)
+    findings: list[Finding] = []
+    for name, asked, cap, option in (
+        ("max_steps", claim.max_steps, limits.max_steps, "--max-steps"),
+        ("max_bits", claim.max_bits, bits_cap, "--max-bits"),
+    ):
+        if asked > cap:
+            findings.append((
+                f"{label}{name} is {show(asked)}, more than this verification follows an orbit ({option} {cap:,}): "
+                f"the claim is searched again with {cap:,}, and its starts left unresolved there that it "
+                "does not list are not checked",
+                "coverage-limits-capped", Severity.WARNING,
+            ))  # fmt: skip
+    return min(claim.max_steps, limits.max_steps), min(claim.max_bits, bits_cap), findings
+
+
+def _recheck(
+    entry: MapEntry,
+    claim: Coverage,
+    cycles: Mapping[int, Cycle],
+    limits: Limits,
+    budget: tuple[int, dict[tuple[int, int, int], HuntResult]],
+    label: str,
+) -> tuple[list[Finding], tuple[Recheck, int]]:
+    """Search the claim again (or reuse an equal search of the same map); return the findings, and what
+    was checked with the work it took."""
+    max_steps, max_bits, findings = _capped(entry, claim, limits, label)
+    capped = (max_steps, max_bits) != (claim.max_steps, claim.max_bits)
+    top = min(claim.bound, limits.recheck_up_to)
+    stopped_by = "recheck-up-to" if top < claim.bound else None
+    left, searches = budget
+    result = searches.get((top, max_steps, max_bits))
+    work = 0
+    if result is None:
+        # The vectorised pass over the range always runs (its cost is bounded by the range); the
+        # starts it hands to exact iteration share what is left of the map's budget.
+        result = hunt_range(entry.dynamics, 0, top, max_steps, max_bits, limits.max_work, budget=max(left, 0))
+        searches[top, max_steps, max_bits] = result
+        work = result.work
+    if result.stopped_at is not None:
+        top, stopped_by = result.stopped_at - 1, "work"
+    listed = set(claim.unresolved)
+    # Starts the recheck could not decide: left unresolved for want of work, or under capped limits,
+    # and not listed by the claim.  The claim is checked below the least of them.
+    undecided = [
+        s for s in result.unresolved if s not in listed and (result.reasons[s] == "work" or capped) and abs(s) <= top
+    ]
+    if undecided:
+        top = abs(undecided[0]) - 1
+        stopped_by = "work" if result.reasons[undecided[0]] == "work" else "limits"
+    findings += _findings(entry, claim, result, top, cycles, label)
+    recheck = Recheck(top, max_steps, max_bits, limits.max_work, stopped_by)
+    return findings, (recheck, work)
+
+
+def _findings(
+    entry: MapEntry, claim: Coverage, result: HuntResult, top: int, cycles: Mapping[int, Cycle], label: str
+) -> list[Finding]:
     findings: list[Finding] = []
     for canonical, found in result.cycles.items():
+        # A cycle the search meets is real wherever it was met: one the claim covers must be listed.
         if abs(canonical) <= claim.bound and canonical not in cycles:
             findings.append((
                 f"{label}expected every cycle with least |member| up to {show(claim.bound)} to be listed, "
@@ -61,13 +130,14 @@ def _findings(entry: MapEntry, claim: Coverage, cycles: Mapping[int, Cycle], lab
             ))  # fmt: skip
     listed = set(claim.unresolved)
     for start in result.unresolved:
-        if start not in listed:
+        if start not in listed and abs(start) <= top:
             findings.append((
                 f"{label}expected the unresolved starts to be listed, got no mention of {show(start)}, "
                 f"whose orbit is not resolved within {claim.max_steps} steps and {claim.max_bits} bits",
                 "coverage-unlisted-start", Severity.ERROR,
             ))  # fmt: skip
-    for start in sorted(listed - set(result.unresolved), key=lambda v: (abs(v), v < 0)):
+    resolved = {s for s in listed if abs(s) <= top} - set(result.unresolved)
+    for start in sorted(resolved, key=lambda v: (abs(v), v < 0)):
         findings.append((
             f"{label}unresolved lists {show(start)}, but its orbit is resolved within the claim's limits",
             "coverage-resolved-start", Severity.WARNING,

@@ -90,7 +90,7 @@ def derive_cycle(
     start = claims.start if claims.start is not None else _start_of_word(doc, mapping, claims)
     if start is None:
         return None
-    outcome = trace(mapping, start, limits.max_steps, limits.max_bits)
+    outcome = trace(mapping, start, limits.max_steps, limits.max_bits, limits.max_work)
     if not isinstance(outcome, CycleFound):
         _not_a_cycle(doc, outcome, start, start_node, key, limits)
         return None
@@ -157,6 +157,11 @@ def _not_a_cycle(
     if outcome.reason == "steps":
         steps = count(limits.max_steps, "step")
         why = f"did not return or repeat within {steps} (raise --max-steps to look further)"
+    elif outcome.reason == "work":
+        why = (
+            f"did not return within the work budget of {limits.max_work:,} bit-operations: "
+            f"{count(outcome.steps, 'step')}, reaching {outcome.bits:,} bits (raise --max-work to look further)"
+        )
     else:
         why = (
             f"grew past {outcome.bits} bits after {outcome.steps} steps without returning "

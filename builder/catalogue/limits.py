@@ -1,21 +1,34 @@
-"""The limits of a verification: how far each orbit is followed, and which coverage claims are re-run."""
+"""The limits of a verification: how far and how hard each orbit is followed, and how far coverage claims are re-run."""
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 
-__all__ = ["DEFAULT_MAX_STEPS", "DEFAULT_RECHECK_UP_TO", "Limits"]
+from builder.arith.dynamics import DEFAULT_MAX_WORK
+
+__all__ = ["DEFAULT_MAX_STEPS", "DEFAULT_MAX_WORK", "DEFAULT_RECHECK_UP_TO", "MAP_WORK_ORBITS", "NO_RECHECK", "Limits"]
 
 #: Steps after which verification gives up on an orbit (a hunt has its own, smaller default).
 DEFAULT_MAX_STEPS = 1_000_000
-#: Coverage claims with a bound up to this are re-run by every verification.
+#: Coverage claims are re-run for every start with |n| up to this (or their bound, if smaller).
 DEFAULT_RECHECK_UP_TO = 100_000
+#: ``recheck_up_to`` that re-runs no claim at all (commands that need only the entries).
+NO_RECHECK = -1
+#: The coverage claims of one map may take this many orbits' work (``max_work``) in all.
+MAP_WORK_ORBITS = 4
 
 
 @dataclass(frozen=True, slots=True)
 class Limits:
-    """Bounds on each trace: steps, and member size in bits (None: grows with the entry's size)."""
+    """Bounds on each orbit: steps, member size in bits (None: grows with the entry's size) and work in
+    bit-operations; and how far coverage claims are searched again."""
 
     max_steps: int = DEFAULT_MAX_STEPS
     max_bits: int | None = None
     recheck_up_to: int = DEFAULT_RECHECK_UP_TO
+    max_work: int = DEFAULT_MAX_WORK
+
+    @property
+    def map_work(self) -> int:
+        """The work the coverage claims of one map may take in all."""
+        return MAP_WORK_ORBITS * self.max_work

@@ -21,6 +21,7 @@ __all__ = [
     "PLACEHOLDER",
     "Catalogue",
     "Coverage",
+    "Recheck",
     "Cycle",
     "MapEntry",
     "Provenance",
@@ -77,13 +78,32 @@ class Reference:
 
 
 @dataclass(frozen=True, slots=True)
+class Recheck:
+    """What one verification searched again of a coverage claim.
+
+    Every start with |n| <= ``up_to`` was followed again with the limits ``max_steps``,
+    ``max_bits`` and ``max_work`` (the claim's own, capped by the verification's), and the claim
+    holds there.  ``up_to`` is -1 when nothing was; it is below the claim's bound when
+    ``stopped_by`` says why: "recheck-up-to" (the verification's --recheck-up-to), "work" (the
+    map's work budget ran out, or a start needed more than one orbit's), or "limits" (a start
+    unresolved under the capped limits that the claim does not list).
+    """
+
+    up_to: int
+    max_steps: int
+    max_bits: int
+    max_work: int
+    stopped_by: str | None = None
+
+
+@dataclass(frozen=True, slots=True)
 class Coverage:
     """A completeness claim: every start with |n| <= bound was iterated under the stated limits.
 
     It says: every cycle whose least |member| is at most ``bound`` is catalogued,
     and the starts in ``unresolved`` are exactly those whose orbits could not be
-    resolved within ``max_steps`` steps and ``max_bits`` bits.  ``rechecked`` is
-    True when this verification re-ran the search (the bound was within budget).
+    resolved within ``max_steps`` steps and ``max_bits`` bits.  ``recheck`` is what
+    this verification searched again (None: nothing); the part beyond it is attested.
     """
 
     kind: str  # "all-starts"
@@ -93,7 +113,22 @@ class Coverage:
     max_steps: int
     max_bits: int
     unresolved: tuple[int, ...]
-    rechecked: bool = False
+    recheck: Recheck | None = None
+
+    @property
+    def rechecked_up_to(self) -> int:
+        """The largest magnitude up to which this verification checked the claim (-1: none)."""
+        return -1 if self.recheck is None else self.recheck.up_to
+
+    @property
+    def rechecked(self) -> bool:
+        """Whether this verification checked the whole claim."""
+        return self.rechecked_up_to >= self.bound
+
+    @property
+    def attested(self) -> bool:
+        """Whether part of the claim rests on its word alone (this verification did not check it)."""
+        return not self.rechecked
 
 
 @dataclass(frozen=True, slots=True)

@@ -93,7 +93,9 @@ def _decorations(event: Any, node: Node, path: Path, problems: list[Problem]) ->
     """Report an anchor or an explicit tag on a node: catalogue files use neither."""
     if event.anchor:
         problems.append(
-            problem_at(path, node.line, node.column, f"anchor &{event.anchor} is not allowed in catalogue files", "yaml")
+            problem_at(
+                path, node.line, node.column, f"anchor &{event.anchor} is not allowed in catalogue files", "yaml"
+            )
         )
     if event.tag and event.tag != "!":
         problems.append(
@@ -211,7 +213,9 @@ def _parse_events(text: str, path: Path, loader: type, problems: list[Problem]) 
             elif key is None:
                 if type(node) is not Scalar:
                     problems.append(
-                        problem_at(path, node.line, node.column, f"expected a plain text key, got a {node.KIND}", "yaml")
+                        problem_at(
+                            path, node.line, node.column, f"expected a plain text key, got a {node.KIND}", "yaml"
+                        )
                     )
                     key = Scalar("", True, node.line, node.column)
                     drop = True

@@ -86,8 +86,7 @@ def site_address(text: str) -> str | None:
 
 #: What a site address must be, for "expected X, got Y" messages.
 SITE_ADDRESS = (
-    "the http or https address the site is published at, such as https://example.org/cycles/, "
-    "with no query or fragment"
+    "the http or https address the site is published at, such as https://example.org/cycles/, with no query or fragment"
 )
 
 

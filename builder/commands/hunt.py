@@ -33,9 +33,10 @@ from typing import IO
 from builder.arith.dynamics import AffineMap, CycleFound
 from builder.arith.integers import show
 from builder.catalogue.entries import cycle_file_id, entry_text
+from builder.catalogue.limits import NO_RECHECK
 from builder.catalogue.model import PLACEHOLDER, Cycle
 from builder.catalogue.verify import Limits, verify_catalogue
-from builder.commands.options import Subcommands, add_command, natural, positive
+from builder.commands.options import Subcommands, add_command, add_max_work, natural, positive
 from builder.errors import UsageError
 from builder.search.definition import HUNT_MAX_BITS, HUNT_MAX_STEPS
 from builder.search.survey import (
@@ -105,6 +106,7 @@ def register(subparsers: Subcommands) -> None:
         metavar="B",
         help=f"leave a start unresolved once a member exceeds B bits (default {HUNT_MAX_BITS:,})",
     )
+    add_max_work(hunt)
     hunt.add_argument("--save", type=Path, metavar="FILE", help="write the result as JSON, for --merge")
     hunt.add_argument(
         "--merge", type=Path, nargs="+", metavar="FILE", help="report the union of saved results instead of hunting"
@@ -347,7 +349,7 @@ def _run(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
     if args.save is not None:
         _check_writable(args.save)
     # Only the entries matter for marking cycles new or catalogued: coverage claims are not re-run here.
-    report = verify_catalogue(args.catalogue, Limits(recheck_up_to=0))
+    report = verify_catalogue(args.catalogue, Limits(recheck_up_to=NO_RECHECK))
     if not report.ok:
         for problem in report.problems:
             print(problem, file=out)
@@ -379,7 +381,7 @@ def _run(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
             raise UsageError(
                 f"hunt: expected 0 <= --from <= --to <= --bound, got {_n(low)}, {_n(high)}, {_n(args.bound)}"
             )
-        survey = Survey(args.map, entry.dynamics, args.bound, args.max_steps, args.max_bits)
+        survey = Survey(args.map, entry.dynamics, args.bound, args.max_steps, args.max_bits, args.max_work)
         progress = _Progress(err, starts_in(low, high))
         try:
             coverage = cover(survey, low, high, args.jobs, progress.update)

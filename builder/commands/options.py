@@ -12,9 +12,18 @@ from pathlib import Path
 from typing import TypeAlias
 
 from builder.arith.integers import parse_decimal
-from builder.catalogue.verify import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, Limits
+from builder.catalogue.limits import DEFAULT_MAX_STEPS, DEFAULT_MAX_WORK, DEFAULT_RECHECK_UP_TO, MAP_WORK_ORBITS, Limits
 
-__all__ = ["Subcommands", "add_catalogue", "add_command", "add_limits", "limits_of", "natural", "positive"]
+__all__ = [
+    "Subcommands",
+    "add_catalogue",
+    "add_command",
+    "add_limits",
+    "add_max_work",
+    "limits_of",
+    "natural",
+    "positive",
+]
 
 #: What ``register`` receives: the subcommands of the ``periplus`` parser.
 Subcommands: TypeAlias = "argparse._SubParsersAction[argparse.ArgumentParser]"
@@ -52,11 +61,23 @@ def add_catalogue(parser: argparse.ArgumentParser, positional: bool = True) -> N
 
 def limits_of(args: argparse.Namespace) -> Limits:
     """The verification limits given by add_limits' options."""
-    return Limits(args.max_steps, args.max_bits, args.recheck_up_to)
+    return Limits(args.max_steps, args.max_bits, args.recheck_up_to, args.max_work)
+
+
+def add_max_work(parser: argparse.ArgumentParser, extra: str = "") -> None:
+    """--max-work, the work budget of every orbit followed, in bit-operations."""
+    parser.add_argument(
+        "--max-work",
+        type=positive,
+        default=DEFAULT_MAX_WORK,
+        metavar="W",
+        help="give up on an orbit once following it has taken W bit-operations, a step on a member of b bits "
+        f"costing about b (default {DEFAULT_MAX_WORK:,}, about a second){extra}",
+    )
 
 
 def add_limits(parser: argparse.ArgumentParser) -> None:
-    """--max-steps, --max-bits and --recheck-up-to, the limits of a verification."""
+    """--max-steps, --max-bits, --max-work and --recheck-up-to, the limits of a verification."""
     parser.add_argument(
         "--max-steps",
         type=positive,
@@ -72,13 +93,14 @@ def add_limits(parser: argparse.ArgumentParser) -> None:
         help="give up on an orbit once a member exceeds B bits "
         "(default: 65,536 plus 8 times the size of the entry's numbers)",
     )
+    add_max_work(parser, f"; the coverage claims of one map may take {MAP_WORK_ORBITS} times W in all")
     parser.add_argument(
         "--recheck-up-to",
         type=natural,
         default=DEFAULT_RECHECK_UP_TO,
         metavar="N",
-        help="re-run every coverage claim whose bound is at most N; larger ones are shown as attested "
-        f"(default {DEFAULT_RECHECK_UP_TO:,})",
+        help="re-run every coverage claim for the starts with |n| up to N; the part of a claim beyond N "
+        f"is shown as attested (default {DEFAULT_RECHECK_UP_TO:,})",
     )
 
 

@@ -22,7 +22,7 @@ from builder.catalogue.fields import PROVENANCE, field_order
 from builder.catalogue.model import Cycle, Report
 from builder.catalogue.written import WrittenEntry, WrittenValue
 from builder.diff.changes import KINDS, Change, ChangeKind, Comparison, EntryCheck, FieldChange, Identity
-from builder.diff.dependencies import REFERENCES_FILE, cycle_key, dependency_warnings
+from builder.diff.dependencies import REFERENCES_FILE, attested_warnings, cycle_key, dependency_warnings
 from builder.errors import Problem, Severity
 
 __all__ = ["compare", "compare_series"]
@@ -259,5 +259,8 @@ def _compare_sides(b_side: _Side, h_side: _Side) -> Comparison:
                 changes[i] = replace(c, fingerprint=cycle.fingerprint)
     changes.sort(key=lambda c: (KINDS.index(c.kind), _ORDER[c.change], c.key))
     warnings = dependency_warnings(b_side.entries, b_side.cycles, h_side.entries, changes)
+    warnings += attested_warnings(
+        b_side.report.catalogue.maps, b_side.cycles, h_side.report.catalogue.maps, h_side.entries, changes
+    )
     other = _other_problems(b_side, h_side)
     return Comparison(tuple(changes), unchanged, tuple(warnings), tuple(other), h_side.report.files)

@@ -1,17 +1,19 @@
 """Warnings about what a change removes from under other entries: maps still used, references still cited,
-cycles that coverage claims say are listed."""
+cycles that coverage claims say are listed; and about coverage claims that the head's verification could
+check only in part (attested beyond what it searched again)."""
 
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
 
-from builder.catalogue.model import Cycle
+from builder.arith.integers import show
+from builder.catalogue.model import Cycle, MapEntry
 from builder.catalogue.reader import short
 from builder.catalogue.written import WrittenEntry
 from builder.diff.changes import Change, ChangeKind, Identity, ReviewWarning
 from builder.wording import count
 
-__all__ = ["REFERENCES_FILE", "cycle_key", "dependency_warnings"]
+__all__ = ["REFERENCES_FILE", "attested_warnings", "cycle_key", "dependency_warnings"]
 
 REFERENCES_FILE = "references.yaml"
 Entries = Mapping[tuple[str, str], WrittenEntry]
@@ -75,4 +77,69 @@ def dependency_warnings(
                 head["map", map_id].path,
             )
         )
+    return out
+
+
+def _path_of(head: Entries, map_id: str, entry: MapEntry) -> str:
+    written = head.get(("map", map_id))
+    return written.path if written is not None else entry.path.name
+
+
+def _attested_part(entry: MapEntry, canonical: int) -> tuple[int, int] | None:
+    """(bound, rechecked up to) of a claim of ``entry`` that covers ``canonical`` only by its word."""
+    for claim in entry.coverage:
+        if claim.rechecked_up_to < abs(canonical) <= claim.bound:
+            return claim.bound, claim.rechecked_up_to
+    return None
+
+
+def attested_warnings(
+    base_maps: Mapping[str, MapEntry],
+    base_cycles: Mapping[tuple[str, str], Cycle],
+    head_maps: Mapping[str, MapEntry],
+    head: Entries,
+    changes: list[Change],
+) -> list[ReviewWarning]:
+    """Warnings for the claims the head's verification could not check in full.
+
+    A claim added or raised beyond what was searched again, and a cycle that leaves the record
+    from inside such a claim's attested range, rest on the contributor's word alone.
+    """
+    out = []
+    for map_id, entry in head_maps.items():
+        path = _path_of(head, map_id, entry)
+        before = [c.bound for c in base_maps[map_id].coverage] if map_id in base_maps else []
+        for i, claim in enumerate(entry.coverage):
+            if claim.attested and claim.bound > max(before, default=-1):
+                checked = (
+                    f"searched again only up to {show(claim.rechecked_up_to)}"
+                    if claim.rechecked_up_to >= 0
+                    else "not searched again at all"
+                )
+                out.append(
+                    ReviewWarning(
+                        "attested-claim",
+                        f"{path} coverage[{i}] claims every cycle with least |member| up to "
+                        f"{show(claim.bound)} is listed, but it was {checked} here: the rest is attested, not checked",
+                        path,
+                    )
+                )
+    for c in changes:
+        if c.kind != "cycle" or (c.change != ChangeKind.REMOVED and c.identity != Identity.DIFFERENT_CYCLE):
+            continue
+        map_id, cycle_id = cycle_key(c.key)
+        cycle = base_cycles.get((map_id, cycle_id))
+        head_map = head_maps.get(map_id)
+        part = None if cycle is None or head_map is None else _attested_part(head_map, cycle.canonical)
+        if part is not None and cycle is not None and head_map is not None:
+            path = _path_of(head, map_id, head_map)
+            out.append(
+                ReviewWarning(
+                    "attested-cycle-removed",
+                    f"{c.path} takes the cycle through {short(show(cycle.canonical))} out of the record, inside the "
+                    f"attested part of a coverage claim of {path} (bound {show(part[0])}, searched again "
+                    f"only up to {show(part[1])}): nothing here checks that the claim still holds",
+                    path,
+                )
+            )
     return out

@@ -19,6 +19,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import date
 
+from builder.catalogue.limits import NO_RECHECK
 from builder.catalogue.model import Report
 from builder.catalogue.verify import Limits, verify_source
 from builder.diff import Comparison, compare_series
@@ -29,7 +30,7 @@ from builder.history.revisions import empty_source, revision_source
 __all__ = ["Changelog", "Edition", "Step", "read_changelog"]
 
 # Old releases are compared, not re-certified: their coverage claims are not re-run.
-_COMPARE_LIMITS = Limits(recheck_up_to=-1)
+_COMPARE_LIMITS = Limits(recheck_up_to=NO_RECHECK)
 
 
 @dataclass(frozen=True, slots=True)

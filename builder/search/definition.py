@@ -15,6 +15,9 @@ order:
     (least |member|, the positive one on a tie).  The cycle is FOUND.
 (b) v_k precedes s: s is RESOLVED; it records nothing.
 (m) v_k has more than max_bits bits: s is UNRESOLVED ("magnitude").
+(w) the work of steps 1..k passes max_work: s is UNRESOLVED ("work").  The
+    work of step k is mapping.cost(bits of v_k) bit-operations (see
+    builder.arith.dynamics.StepCost), so it is a function of the orbit alone.
 (c) v_k = v_j for some 1 <= j < k: the orbit has entered a cycle that does
     not contain s.  The cycle is FOUND, under its own canonical member,
     which may lie beyond the range.
@@ -22,6 +25,9 @@ order:
 If none happens by step max_steps, s is UNRESOLVED ("steps").  Its orbit is
 not followed further; a start whose orbit reaches an unresolved start met
 earlier is resolved by (b) and not listed (its fate is that start's fate).
+Telling (c) from "steps" may follow the orbit past step max_steps (see
+below); the work of those steps counts too, and if it passes max_work
+there, s is UNRESOLVED ("work").
 
 The fate of each start is a function of that start alone.  The result of a
 range (the cycles found, the unresolved starts) is the union of the fates
@@ -34,8 +40,8 @@ range.  Follow the start s = c.  No member of C precedes c (that is what
 canonical means), so (b) never happens on the orbit, which runs round C;
 its first repeated value is v_L = v_0 = c, where L is the length of C, so
 (c) never happens before step L either.  Hence (a) happens at step L unless
-L > max_steps or a member of C has more than max_bits bits, and then c is
-listed as unresolved.  Every cycle whose least |member| lies in the range is
+L > max_steps, a member of C has more than max_bits bits, or the work of
+going round C passes max_work, and then c is listed as unresolved.  Every cycle whose least |member| lies in the range is
 therefore either found or named by its canonical member among the
 unresolved starts; none is missed silently.
 
@@ -58,7 +64,16 @@ from dataclasses import dataclass, field
 
 import gmpy2
 
-from builder.arith.dynamics import AffineMap, CycleFound, Unresolved, canonical_index, cycle_entry, walk
+from builder.arith.dynamics import (
+    DEFAULT_MAX_WORK,
+    STEP_FLOOR_BITS,
+    AffineMap,
+    CycleFound,
+    Unresolved,
+    canonical_index,
+    cycle_entry,
+    walk,
+)
 from builder.arith.integers import MPZ_BITS
 
 __all__ = [
@@ -71,8 +86,10 @@ __all__ = [
     "hunt_result",
     "merge_results",
     "order_key",
+    "Fate",
     "settle",
     "settle_all",
+    "settle_counted",
     "starts_of",
 ]
 
@@ -106,13 +123,22 @@ def _rotated(mapping: AffineMap, cycle_member: int, length: int) -> CycleFound:
     return cycle_at(mapping, canonical_member(members), length)
 
 
-def settle(mapping: AffineMap, start: int, max_steps: int, max_bits: int) -> CycleFound | Unresolved | None:
+Fate = CycleFound | Unresolved | None
+
+
+def settle(mapping: AffineMap, start: int, max_steps: int, max_bits: int, max_work: int = DEFAULT_MAX_WORK) -> Fate:
     """Decide the fate of one start exactly, as the module docstring defines it.
 
     Returns the cycle found (event (a): read from ``start``; event (c): read
     from its canonical member), None when the start is resolved by (b), or
-    Unresolved with reason "magnitude" (event (m), at that step) or "steps".
+    Unresolved with reason "magnitude" (event (m), at that step), "work"
+    (event (w)) or "steps".
     """
+    return settle_counted(mapping, start, max_steps, max_bits, max_work)[0]
+
+
+def settle_counted(mapping: AffineMap, start: int, max_steps: int, max_bits: int, max_work: int) -> tuple[Fate, int]:
+    """``settle``, with the work it spent in bit-operations."""
     m = mapping.modulus
     br = mapping.branches
     if start > 0:
@@ -129,29 +155,37 @@ def settle(mapping: AffineMap, start: int, max_steps: int, max_bits: int) -> Cyc
     end = power_at_least + max_steps if max_steps > 0 else 0
     last = start  # v_{max_steps}
     big = False
+    cost = mapping.cost
+    least, floor = cost.least, STEP_FLOOR_BITS
+    work = 0
     step = 0
     while step < end:
         a, b = br[n % m]
         n = (a * n + b) // m
         step += 1
         bits = n.bit_length()
+        work += least if bits <= floor else cost(bits)
         if step <= max_steps:
             if n == start:
-                return cycle_at(mapping, start, step)
+                return cycle_at(mapping, start, step), work
             if lo < n < hi:
-                return None
+                return None, work
             if bits > max_bits:
-                return Unresolved(step, "magnitude", bits)
+                return Unresolved(step, "magnitude", bits), work
+            if work > max_work:
+                return Unresolved(step, "work", bits), work
             if step == max_steps:
                 last = n
         elif n == start or lo < n < hi or bits > max_bits:
             # Not a value of a cycle met within max_steps steps: no such cycle.
             break
+        elif work > max_work:
+            return Unresolved(step, "work", bits), work
         if n == tortoise:
             period = step - tortoise_at
             mu, entry = cycle_entry(mapping, start, period)
             if mu + period <= max_steps:
-                return _rotated(mapping, entry, period)
+                return _rotated(mapping, entry, period), work
             break
         if step == power:
             tortoise, tortoise_at = n, step
@@ -160,7 +194,7 @@ def settle(mapping: AffineMap, start: int, max_steps: int, max_bits: int) -> Cyc
             big = True
             n = gmpy2.mpz(n)
             br = tuple((gmpy2.mpz(a), gmpy2.mpz(b)) for a, b in br)
-    return Unresolved(max_steps, "steps", int(last).bit_length())
+    return Unresolved(max_steps, "steps", int(last).bit_length()), work
 
 
 @dataclass(slots=True)
@@ -170,7 +204,11 @@ class HuntResult:
     ``cycles`` maps canonical member to the cycle read from it, in start
     order, including cycles whose canonical member lies beyond ``bound``
     (met from starts in the range).  ``unresolved`` lists the unresolved
-    starts in start order; ``reasons`` gives "steps" or "magnitude" for each.
+    starts in start order; ``reasons`` gives "steps", "magnitude" or "work"
+    for each.  ``work`` is what deciding the range cost, in bit-operations;
+    ``stopped_at`` is, when a budget for the whole range ran out first, the
+    least magnitude left undecided (the result then holds for low .. stopped_at - 1,
+    and lists cycles met beyond).  Neither takes part in comparisons.
     """
 
     bound: int
@@ -178,6 +216,8 @@ class HuntResult:
     unresolved: list[int] = field(default_factory=list)
     low: int = 0
     reasons: dict[int, str] = field(default_factory=dict)
+    work: int = field(default=0, compare=False)
+    stopped_at: int | None = field(default=None, compare=False)
 
 
 def hunt_result(low: int, high: int, cycles: dict[int, CycleFound], reasons: dict[int, str]) -> HuntResult:
@@ -198,18 +238,28 @@ def starts_of(low: int, high: int) -> Iterable[int]:
 def settle_all(
     mapping: AffineMap,
     starts: Iterable[int],
-    max_steps: int,
-    max_bits: int,
+    limits: tuple[int, int, int],
     cycles: dict[int, CycleFound],
     reasons: dict[int, str],
-) -> None:
-    """Settle each start in turn, adding the cycles found to ``cycles`` and the unresolved starts to ``reasons``."""
+    budget: int | None = None,
+) -> tuple[int, int | None]:
+    """Settle each start in turn, adding the cycles found to ``cycles`` and the unresolved starts to ``reasons``.
+
+    ``limits`` are (max_steps, max_bits, max_work).  Returns the work spent and, when ``budget`` (a
+    bound on the work of them all) ran out first, the start that was not settled.
+    """
+    max_steps, max_bits, max_work = limits
+    spent = 0
     for s in starts:
-        fate = settle(mapping, s, max_steps, max_bits)
+        if budget is not None and spent >= budget:
+            return spent, s
+        fate, work = settle_counted(mapping, s, max_steps, max_bits, max_work)
+        spent += work
         if isinstance(fate, CycleFound):
             cycles.setdefault(fate.members[0], fate)
         elif isinstance(fate, Unresolved):
             reasons[s] = fate.reason
+    return spent, None
 
 
 def hunt(
@@ -218,6 +268,7 @@ def hunt(
     max_steps: int = HUNT_MAX_STEPS,
     max_bits: int = HUNT_MAX_BITS,
     low: int = 0,
+    max_work: int = DEFAULT_MAX_WORK,
 ) -> HuntResult:
     """Decide every start with ``low`` <= |n| <= ``bound`` by exact iteration (see the module docstring).
 
@@ -229,8 +280,10 @@ def hunt(
         raise ValueError(f"expected 0 <= low <= bound + 1, got low={low}, bound={bound}")
     cycles: dict[int, CycleFound] = {}
     reasons: dict[int, str] = {}
-    settle_all(mapping, starts_of(low, bound), max_steps, max_bits, cycles, reasons)
-    return hunt_result(low, bound, cycles, reasons)
+    work, _ = settle_all(mapping, starts_of(low, bound), (max_steps, max_bits, max_work), cycles, reasons)
+    result = hunt_result(low, bound, cycles, reasons)
+    result.work = work
+    return result
 
 
 def merge_results(parts: Iterable[HuntResult]) -> list[HuntResult]:

@@ -10,7 +10,9 @@ reference (builder.search.definition.settle, Python ints and Brent's cycle detec
 
 * a lane whose |value| exceeds the overflow bound, beyond which the next
   step a n + b could leave int64 (see ``_int64_bound``);
-* a lane still active after ``lane_steps`` steps (or max_steps, if fewer):
+* a lane still active after ``lane_steps`` steps (or max_steps, if fewer,
+  or before the work of its steps could pass max_work: a lane's member
+  stays below 2^62, so each of its steps costs mapping.cost.least):
   it may have entered a cycle (c), which only the exact path detects;
 * the last few lanes of a batch (``tail``), which run faster one at a time.
 
@@ -21,11 +23,13 @@ builder.search.definition.hunt, start by start, whatever the batch size and thre
 
 from __future__ import annotations
 
+import itertools
+
 import numpy as np
 import numpy.typing as npt
 
-from builder.arith.dynamics import AffineMap, CycleFound
-from builder.search.definition import HuntResult, cycle_at, hunt_result, settle_all, starts_of
+from builder.arith.dynamics import DEFAULT_MAX_WORK, AffineMap, CycleFound
+from builder.search.definition import HuntResult, cycle_at, hunt_result, order_key, settle_all, starts_of
 
 __all__ = ["hunt_range", "int64_bound"]
 
@@ -61,20 +65,30 @@ def hunt_range(
     high: int,
     max_steps: int,
     max_bits: int,
+    max_work: int = DEFAULT_MAX_WORK,
     *,
+    budget: int | None = None,
     batch: int = DEFAULT_BATCH,
     lane_steps: int = DEFAULT_LANE_STEPS,
     tail: int = DEFAULT_TAIL,
 ) -> HuntResult:
-    """Decide every start with low <= |n| <= high; the same result as definition.hunt(mapping, high, ..., low=low)."""
+    """Decide every start with low <= |n| <= high; the same result as definition.hunt(mapping, high, ..., low=low).
+
+    With a ``budget`` (bit-operations for the whole range), the starts left to the exact path are
+    taken in start order and the search stops once the budget is spent: the result's
+    ``stopped_at`` is then the least magnitude left undecided.  The vectorised pass is bounded by
+    the range and ``lane_steps`` alone and is counted as ``mapping.cost.least`` per lane and step.
+    """
     if not 0 <= low <= high + 1:
         raise ValueError(f"expected 0 <= low <= high + 1, got {low}, {high}")
     cycles: dict[int, CycleFound] = {}
     reasons: dict[int, str] = {}
     exact: list[int] = []
+    work = 0
     bound = int64_bound(mapping)
     vector_top = min(high, bound, _VECTOR_STARTS)
-    if max_steps >= 1 and bound >= 1 and low <= vector_top:
+    lane_steps = min(lane_steps, max_work // mapping.cost.least)
+    if max_steps >= 1 and lane_steps >= 1 and bound >= 1 and low <= vector_top:
         engine = _Engine(mapping, max_steps, max_bits, bound, lane_steps, tail)
         half = max(1, batch // 2)
         lo = low
@@ -83,11 +97,22 @@ def hunt_range(
             engine.run(lo, hi, cycles, reasons, exact)
             lo = hi + 1
         first_exact = vector_top + 1
+        work = engine.lane_steps * mapping.cost.least
     else:
         first_exact = low
-    exact.extend(starts_of(first_exact, high))
-    settle_all(mapping, exact, max_steps, max_bits, cycles, reasons)
-    return hunt_result(low, high, cycles, reasons)
+    if budget is not None:
+        exact.sort(key=order_key)
+    exact_starts = itertools.chain(exact, starts_of(first_exact, high))
+    limits = (max_steps, max_bits, max_work)
+    left = None if budget is None else max(0, budget - work)
+    spent, unsettled = settle_all(mapping, exact_starts, limits, cycles, reasons, left)
+    result = hunt_result(low, high, cycles, reasons)
+    result.work = work + spent
+    if unsettled is not None:
+        result.stopped_at = abs(unsettled)
+        result.unresolved = [s for s in result.unresolved if abs(s) < result.stopped_at]
+        result.reasons = {s: result.reasons[s] for s in result.unresolved}
+    return result
 
 
 class _Engine:
@@ -110,6 +135,7 @@ class _Engine:
         self.limit = bound if self.magnitude_limit is None else min(bound, self.magnitude_limit)
         self.steps = min(max_steps, lane_steps)
         self.tail = tail
+        self.lane_steps = 0  # lanes times steps taken so far
 
     def _step(self, n: I64) -> I64:
         if self.halving:
@@ -148,6 +174,7 @@ class _Engine:
         while n.size:
             n = self._step(n)
             step += 1
+            self.lane_steps += n.size
             returned = n == s
             done = returned | ((n - first).view(np.uint64) < width)
             out = (n + limit).view(np.uint64) > span

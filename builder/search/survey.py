@@ -3,8 +3,11 @@
 A survey is built by ``cover`` (the range cut into chunks shared by worker
 processes, merged by union so that the result does not depend on how many
 there are) or read back from saved files (``load_survey``, ``merge_surveys``).
-Saved surveys are JSON in the format named by ``FORMAT``; every cycle in a
-file is checked by exact iteration when it is read.  Nothing here prints:
+Saved surveys are JSON in the format named by ``FORMAT``, with the program
+and version that wrote them and every parameter of the search (bound and
+limits); every cycle in a file is checked by exact iteration when it is
+read, and files that differ in any parameter or in the program version are
+not merged.  Nothing here prints:
 progress goes to a callback, and problems with saved files are
 ``SavedSurveyError`` (the file cannot be read as a survey) or
 ``SurveyMismatch`` (the files do not join), both ValueErrors.
@@ -20,6 +23,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from builder import __version__
 from builder.arith.dynamics import AffineMap, CycleFound
 from builder.arith.integers import parse_decimal, show, to_decimal
 from builder.search.definition import HuntResult, canonical_member, cycle_at, merge_results, order_key
@@ -40,12 +44,16 @@ __all__ = [
     "starts_in",
 ]
 
-FORMAT = "periplus-hunt/1"
+FORMAT = "periplus-hunt/2"
+#: The program named in saved files, with its version.
+PROGRAM = "periplus"
+#: Why a start may be left unresolved (builder.search.definition).
+REASONS = ("steps", "magnitude", "work")
 # Chunks: at most this many magnitudes each, and about this many per process.
 _CHUNK_MAX = 1 << 16
 _CHUNKS_PER_JOB = 16
 
-_Task = tuple[AffineMap, int, int, int, int]
+_Task = tuple[AffineMap, int, int, int, int, int]
 
 
 class SavedSurveyError(ValueError):
@@ -70,9 +78,11 @@ class Survey:
     bound: int
     max_steps: int
     max_bits: int
+    max_work: int
     ranges: list[tuple[int, int]] = field(default_factory=list)
     cycles: dict[int, CycleFound] = field(default_factory=dict)
-    reasons: dict[int, str] = field(default_factory=dict)  # unresolved start -> "steps" | "magnitude"
+    reasons: dict[int, str] = field(default_factory=dict)  # unresolved start -> one of REASONS
+    version: str = __version__  # of the program that searched
 
     def absorb(self, pieces: Iterable[HuntResult]) -> None:
         """Add the results of ranges disjoint from those already covered (ValueError on overlap)."""
@@ -138,8 +148,8 @@ def _ignore_sigint() -> None:
 
 
 def _work(task: _Task) -> HuntResult:
-    mapping, lo, hi, max_steps, max_bits = task
-    return hunt_range(mapping, lo, hi, max_steps, max_bits)
+    mapping, lo, hi, max_steps, max_bits, max_work = task
+    return hunt_range(mapping, lo, hi, max_steps, max_bits, max_work)
 
 
 def _indexed(item: tuple[int, _Task]) -> tuple[int, HuntResult]:
@@ -198,7 +208,7 @@ def cover(survey: Survey, low: int, high: int, jobs: int, progress: Callable[[in
     if progress is None:
         progress = _quiet
     parts = chunks(low, high, jobs)
-    tasks = ((survey.mapping, lo, hi, survey.max_steps, survey.max_bits) for lo, hi in parts)
+    tasks = ((survey.mapping, lo, hi, survey.max_steps, survey.max_bits, survey.max_work) for lo, hi in parts)
     # Results of the chunks done so far: the contiguous prefix from the first chunk, and those
     # finished out of order (few: the pool hands chunks out in order).
     prefix: list[HuntResult] = []
@@ -246,6 +256,7 @@ def save_survey(survey: Survey, path: Path) -> None:
     """Write ``survey`` to ``path`` as JSON (FORMAT)."""
     data = {
         "format": FORMAT,
+        "program": {"name": PROGRAM, "version": survey.version},
         "map": {
             "id": survey.map_id,
             "modulus": to_decimal(survey.mapping.modulus),
@@ -255,7 +266,7 @@ def save_survey(survey: Survey, path: Path) -> None:
             ],
         },
         "bound": to_decimal(survey.bound),
-        "limits": {"max_steps": survey.max_steps, "max_bits": survey.max_bits},
+        "limits": {"max_steps": survey.max_steps, "max_bits": survey.max_bits, "max_work": survey.max_work},
         "covered": [{"from": to_decimal(lo), "to": to_decimal(hi)} for lo, hi in survey.ranges],
         "cycles": [
             {
@@ -288,12 +299,14 @@ def load_survey(path: Path) -> Survey:
         if data["format"] != FORMAT:
             raise bad(f"expected format '{FORMAT}', got {data['format']!r}")
         survey = _survey_of(data)
-        if survey.bound < 0 or survey.max_steps < 1 or survey.max_bits < 1:
+        if survey.bound < 0 or min(survey.max_steps, survey.max_bits, survey.max_work) < 1:
             raise bad("expected a bound of at least 0 and limits of at least 1")
         pieces = [HuntResult(parse_decimal(r["to"]), {}, [], parse_decimal(r["from"])) for r in data["covered"]]
         for piece in pieces:
             if not 0 <= piece.low <= piece.bound <= survey.bound:
-                raise bad(f"covered range {show(piece.low)}..{show(piece.bound)}: expected 0 <= from <= to <= the bound")
+                raise bad(
+                    f"covered range {show(piece.low)}..{show(piece.bound)}: expected 0 <= from <= to <= the bound"
+                )
         for item in data["cycles"]:
             members = tuple(parse_decimal(v) for v in item["members"])
             canonical = parse_decimal(item["canonical"])
@@ -309,7 +322,7 @@ def load_survey(path: Path) -> Survey:
             s = parse_decimal(item["start"])
             reason = str(item["reason"])
             home = [p for p in pieces if p.low <= abs(s) <= p.bound]
-            if not home or reason not in ("steps", "magnitude"):
+            if not home or reason not in REASONS:
                 raise bad(f"unresolved start {show(s)}: outside the covered ranges, or an unknown reason")
             home[0].unresolved.append(s)
             home[0].reasons[s] = reason
@@ -328,6 +341,9 @@ def _no_constant(name: str) -> Any:
 
 def _survey_of(data: Any) -> Survey:
     """The map, bound and limits of a saved survey, with nothing covered yet (KeyError, TypeError...)."""
+    program = data["program"]
+    if not isinstance(program, dict) or program.get("name") != PROGRAM or not isinstance(program.get("version"), str):
+        raise ValueError(f"expected the program that wrote it, as {{name: {PROGRAM}, version: ...}}, got {program!r}")
     spec = data["map"]
     branches = {
         int(b["residue"]): (parse_decimal(b["multiplier"]), parse_decimal(b["increment"])) for b in spec["branches"]
@@ -339,6 +355,8 @@ def _survey_of(data: Any) -> Survey:
         parse_decimal(data["bound"]),
         _whole(data["limits"]["max_steps"]),
         _whole(data["limits"]["max_bits"]),
+        _whole(data["limits"]["max_work"]),
+        version=program["version"],
     )
 
 
@@ -355,11 +373,13 @@ def merge_surveys(paths: list[Path]) -> Survey:
     first = surveys[0]
     for path, other in zip(paths[1:], surveys[1:], strict=True):
         for what, mine, theirs in (
+            ("program version", first.version, other.version),
             ("map", first.map_id, other.map_id),
             ("map definition", first.mapping, other.mapping),
             ("bound", first.bound, other.bound),
             ("max_steps", first.max_steps, other.max_steps),
             ("max_bits", first.max_bits, other.max_bits),
+            ("max_work", first.max_work, other.max_work),
         ):
             if mine != theirs:
                 raise SurveyMismatch(f"{path} has a different {what} from {paths[0]} ({theirs} against {mine})")

@@ -99,7 +99,12 @@ def _cycle(c: CycleRecord) -> dict[str, Any]:
 def _map(m: MapRecord) -> dict[str, Any]:
     """A map's fields without its cycles and the record (catalogue.json lists those once)."""
     coverage = [
-        _pick(claim, "kind bound found_on method max_steps max_bits unresolved", rechecked_by_this_build="rechecked")
+        _pick(
+            claim,
+            "kind bound found_on method max_steps max_bits unresolved",
+            rechecked_by_this_build="rechecked",
+            rechecked_up_to_by_this_build="rechecked_up_to",
+        )
         for claim in m.coverage
     ]
     branches = [{"residue": i, "multiplier": a, "increment": b} for i, (a, b) in enumerate(m.branches)]

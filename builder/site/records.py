@@ -156,7 +156,8 @@ class CycleRecord:
 
 @dataclass(frozen=True, slots=True)
 class CoverageRecord:
-    """A completeness claim: every start up to ``bound`` in absolute value was followed under the map."""
+    """A completeness claim (every start up to ``bound`` in absolute value was followed under the map),
+    and how much of it this build searched again."""
 
     kind: str
     bound: str
@@ -165,10 +166,16 @@ class CoverageRecord:
     max_steps: int
     max_bits: int
     unresolved: tuple[str, ...]  # the starts whose orbits were not resolved within the limits
-    rechecked: bool  # whether this build followed every start again
+    rechecked: bool  # whether this build searched the whole claim again
+    rechecked_up_to: str | None  # this build searched every start with |n| up to this again (None: none)
+    recheck_steps: int | None  # the limits it did so with (the claim's, capped by the build's)
+    recheck_bits: int | None
+    stopped_by: str | None  # why it stopped short of the bound: "recheck-up-to", "work" or "limits"
 
     @classmethod
     def of(cls, claim: Coverage) -> CoverageRecord:
+        recheck = claim.recheck
+        searched = recheck is not None and recheck.up_to >= 0
         return cls(
             claim.kind,
             to_decimal(claim.bound),
@@ -178,6 +185,10 @@ class CoverageRecord:
             claim.max_bits,
             tuple(to_decimal(n) for n in claim.unresolved),
             claim.rechecked,
+            to_decimal(recheck.up_to) if searched and recheck is not None else None,
+            recheck.max_steps if recheck is not None else None,
+            recheck.max_bits if recheck is not None else None,
+            recheck.stopped_by if recheck is not None and not claim.rechecked else None,
         )
 
 

@@ -228,7 +228,9 @@ def test_shipped_catalogue_verifies(capsys, monkeypatch):
     code = main(["verify", "catalogue"])
     out = capsys.readouterr().out
     assert code == 0, out
-    assert out.splitlines()[-1].endswith(": every claim holds")
+    assert out.splitlines()[-1].endswith(
+        ": every claim holds as far as it was checked; 67 coverage claims attested beyond what this run searched again"
+    )  # the 67 claims to 10^6 of README.md, rechecked to 10^5
 
 
 # --- the field table: declared once, everything else follows -----------------------------------
