@@ -53,7 +53,7 @@ __all__ = [
 _CHECK_EVERY = 256
 # Stop keeping members of a long orbit once they would take this many bits
 # in all; they are recomputed if the orbit turns out to be a cycle.
-_MEMBER_BITS_BUDGET = 1 << 31
+_MEMBER_BITS_BUDGET = 1 << 28
 #: The base of a trace's default magnitude bound, in bits (``default_max_bits`` adds to it).
 TRACE_BASE_BITS = 65536
 
@@ -66,11 +66,11 @@ TRACE_BASE_BITS = 65536
 # near-linearly, M(n) ~ n log n); and a step on a member of fewer than STEP_FLOOR_BITS bits is
 # charged as if it had that many, since there the interpreter's own work per step, not the
 # arithmetic, is what costs.  Measured on one core (common practice, no source: timings of this
-# code): about 0.12 ns per bit-operation for large members, so DEFAULT_MAX_WORK is about a second.
+# code): 0.1 to 0.3 ns per bit-operation, so DEFAULT_MAX_WORK is one to three seconds.
 
 #: A step is charged as if its member had at least this many bits (the interpreter's cost of a step).
 STEP_FLOOR_BITS = 4096
-#: The default work budget of one orbit, in bit-operations (about a second on one core).
+#: The default work budget of one orbit, in bit-operations (one to three seconds on one core).
 DEFAULT_MAX_WORK = 10**10
 
 

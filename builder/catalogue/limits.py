@@ -15,7 +15,7 @@ DEFAULT_RECHECK_UP_TO = 100_000
 #: ``recheck_up_to`` that re-runs no claim at all (commands that need only the entries).
 NO_RECHECK = -1
 #: The coverage claims of one map may take this many orbits' work (``max_work``) in all.
-MAP_WORK_ORBITS = 4
+MAP_WORK_ORBITS = 2
 
 
 @dataclass(frozen=True, slots=True)

@@ -72,7 +72,7 @@ def add_max_work(parser: argparse.ArgumentParser, extra: str = "") -> None:
         default=DEFAULT_MAX_WORK,
         metavar="W",
         help="give up on an orbit once following it has taken W bit-operations, a step on a member of b bits "
-        f"costing about b (default {DEFAULT_MAX_WORK:,}, about a second){extra}",
+        f"costing about b (default {DEFAULT_MAX_WORK:,}, one to three seconds){extra}",
     )
 
 

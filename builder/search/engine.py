@@ -77,7 +77,8 @@ def hunt_range(
     With a ``budget`` (bit-operations for the whole range), the starts left to the exact path are
     taken in start order and the search stops once the budget is spent: the result's
     ``stopped_at`` is then the least magnitude left undecided.  The vectorised pass is bounded by
-    the range and ``lane_steps`` alone and is counted as ``mapping.cost.least`` per lane and step.
+    the range and ``lane_steps`` alone; a lane's step is counted as what its arithmetic costs, a
+    64-bit word and the map's constants, without the interpreter's floor that exact steps pay.
     """
     if not 0 <= low <= high + 1:
         raise ValueError(f"expected 0 <= low <= high + 1, got {low}, {high}")
@@ -97,7 +98,7 @@ def hunt_range(
             engine.run(lo, hi, cycles, reasons, exact)
             lo = hi + 1
         first_exact = vector_top + 1
-        work = engine.lane_steps * mapping.cost.least
+        work = engine.lane_steps * (64 + mapping.cost.constant_bits) * mapping.cost.weight
     else:
         first_exact = low
     if budget is not None:

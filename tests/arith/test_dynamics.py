@@ -285,3 +285,69 @@ def test_decimal_parsing_refuses_non_canonical_text() -> None:
     assert parse_decimal("0") == parse_decimal("-0") == parse_decimal("+0") == 0
     assert to_decimal(0) == "0"
     assert to_decimal(-(2**20_000)) == "-" + to_decimal(2**20_000)
+
+
+# --- the work budget (issue 12, item 2) -------------------------------------------------------------
+# The rule checked (builder.arith.dynamics, "the work budget"): a step whose new member has b bits costs
+# (max(b, 4096) + c) * w bit-operations, c the bit length of the map's largest constant and w = 1 plus
+# one per doubling of c beyond 64 bits; an orbit stops once its work passes max_work.  Sizes and work are
+# checked every step once members or constants are large, so a trace never overshoots by more than a step.
+
+
+def _work_of(mapping: AffineMap, start: int, steps: int) -> tuple[int, int]:
+    """(work of the first ``steps`` steps, by the rule above, written out plainly; bits of the last member)."""
+    c = max(max(abs(a).bit_length(), abs(b).bit_length()) for a, b in mapping.branches)
+    w = 1 + max(0, (c - 1).bit_length() - 6)
+    total, n = 0, gmpy2.mpz(start)
+    for _ in range(steps):
+        n = mapping(n)
+        total += (max(n.bit_length(), 4096) + c) * w
+    return total, n.bit_length()
+
+
+@pytest.mark.parametrize(
+    "c, weight",
+    # One 64-bit word: no factor; then one more per doubling (common practice, no source: GMP multiplies
+    # near-linearly, in about n log n, so a constant of c bits costs a factor of about log2(c / 64)).
+    [(1, 1), (2, 1), (64, 1), (65, 2), (128, 2), (129, 3), (66_439, 12)],
+)
+def test_step_cost_weighs_large_constants(c: int, weight: int) -> None:
+    mapping = AffineMap(2, ((1, 0), ((1 << (c - 1)) + 1 if c > 1 else 1, 1)))
+    assert mapping.cost.constant_bits == c
+    assert mapping.cost.weight == weight
+    assert mapping.cost(10) == mapping.cost.least == (4096 + c) * weight
+    assert mapping.cost(10_000) == (10_000 + c) * weight
+
+
+def test_a_huge_multiplier_is_stopped_at_the_magnitude_bound_not_far_past_it() -> None:
+    # The finding: a multiplier of 20,000 digits made members reach 17 million bits against a bound
+    # of 600 thousand, because sizes were checked every 256 steps.  3^41,900 has 19,991 digits
+    # (41,900 log10 3 = 19,991.1; common practice, no source); it is odd, so (a n + a)/2 is an integer map.
+    a = 3**41_900
+    mapping = AffineMap(2, ((1, 0), (a, a)))
+    outcome = trace(mapping, 1, 1_000_000)
+    assert isinstance(outcome, Unresolved) and outcome.reason == "magnitude"
+    limit = 65_536 + 8 * a.bit_length()  # trace's default magnitude bound (default_max_bits)
+    assert limit < outcome.bits <= limit + a.bit_length() + 1  # one step past the bound at most
+
+
+def test_a_huge_start_is_stopped_by_the_work_budget() -> None:
+    # The finding: a 20,000-digit start in 5x+3 ran for a minute, its members growing by about
+    # log2(5/4) = 0.32 bits a step (common practice, no source) towards a bound some 1.7 million steps
+    # away.  With a budget of 3 * 10^8 bit-operations it stops after a few thousand steps.
+    start = 7**23_666  # 20,000 digits (23,666 log10 7 = 20,000.1)
+    mapping = AffineMap(2, ((1, 0), (5, 3)))
+    max_work = 3 * 10**8
+    outcome = trace(mapping, start, 1_000_000, max_work=max_work)
+    assert isinstance(outcome, Unresolved) and outcome.reason == "work"
+    spent, last_bits = _work_of(mapping, start, outcome.steps)
+    assert max_work < spent <= max_work + mapping.cost(last_bits)  # stopped at the step that passed it
+    assert _work_of(mapping, start, outcome.steps - 1)[0] <= max_work
+
+
+def test_small_orbits_never_meet_the_default_work_budget() -> None:
+    # A million steps on members below 4,096 bits cost about 4.1 * 10^9 bit-operations, within the
+    # default budget of 10^10, so the step limit, not the budget, decides them (see the 5x+1 test above).
+    outcome = trace(SHORTCUT_3X1, 27, 1_000_000)
+    assert isinstance(outcome, EntersCycle)  # 27 reaches 1 -> 2 -> 1 (common practice, no source)
+    assert AffineMap(2, ((1, 0), (3, 1))).cost.least * 1_000_000 < 10**10

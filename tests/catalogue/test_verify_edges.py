@@ -6,7 +6,7 @@ import json
 import os
 import sys
 
-from conftest import PROVENANCE, VALID
+from conftest import PROVENANCE, VALID, decimal
 
 from builder.catalogue.fields import NOTES_MAX_CHARACTERS
 from builder.catalogue.reader import open_brackets
@@ -212,3 +212,41 @@ def test_a_map_of_200000_branches_is_refused_before_its_branches_are_read(cli, c
         f"{root}/maps/wide.yaml:3:10: error: modulus: expected a modulus of at most 10,000 (the map's page shows "
         "every branch), got 200000"
     )
+
+
+# --- small files, bounded work (issue 12, item 2) ---------------------------------------------------
+
+
+def test_a_huge_multiplier_stops_at_the_magnitude_bound(cli, catalogue):
+    # The finding: a 20 KB map whose multiplier has 20,000 digits took 54 s and 335 MB.  3^41,900 has
+    # 19,991 digits (common practice, no source); odd, so (a n + a)/2 is an integer map.
+    a = decimal(3**41_900)
+    root = catalogue(
+        empty=True,
+        files={
+            "maps/wide.yaml": map_file(2, [(0, 1, 0), (1, a, a)]),
+            "cycles/wide/one.yaml": f"map: wide\nstart: 1\n{PROVENANCE}",
+        },
+    )
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert run.lines[0].startswith(
+        f"{root}/cycles/wide/one.yaml:2:8: error: start: expected a member of a cycle, got 1, "
+    )
+    assert "whose orbit grew past" in run.lines[0] and "(raise --max-bits to look further)" in run.lines[0]
+
+
+def test_a_huge_start_is_stopped_by_the_work_budget(cli, catalogue):
+    # The finding: a 20,000-digit start in 5x+3 took 63 s.  Its members grow by about log2(5/4) bits a
+    # step (common practice, no source), so only the work budget stops it soon.
+    root = catalogue(
+        empty=True,
+        files={
+            "maps/five.yaml": map_file(2, [(0, 1, 0), (1, 5, 3)]),
+            "cycles/five/big.yaml": f"map: five\nstart: {decimal(7**23_666)}\n{PROVENANCE}",
+        },
+    )
+    run = cli("verify", str(root), "--max-work", "300000000")
+    assert run.code == 1
+    assert "whose orbit did not return within the work budget of 300,000,000 bit-operations: " in run.lines[0]
+    assert run.lines[0].endswith("bits (raise --max-work to look further)")

@@ -569,3 +569,50 @@ def test_review_through_the_command_line(catalogue: Callable[..., Path], cli: Ca
     run = cli("review", "--format", "github", str(base), str(head))
     assert run.code == 1
     assert run.lines[0].startswith(f"::error file={head.as_posix()}/cycles/3x-plus-5/through-19.yaml,line=3,col=9::")
+
+
+# --- claims the head could check only in part (issue 12, item 5) -----------------------------------
+# The fact: the 3x+1 cycles on Z pass through 0, 1, -1, -5 and -17 (Lagarias 1985 via literature.md).
+
+
+def test_removing_a_cycle_and_adding_a_claim_just_beyond_the_recheck_limit_fails(
+    repo: Repo, review: Callable[..., Run]
+) -> None:
+    # The finding: review said "holds" for this very change (bound 100,001 against a budget of 100,000).
+    map_text = file_text("maps/3x-plus-1.yaml")
+    branch = repo.pull_request(
+        "hide-minus-17",
+        {"maps/3x-plus-1.yaml": map_text + COVERAGE.replace("bound: 20", "bound: 100001")},
+        remove=("cycles/3x-plus-1/through-minus-17.yaml",),
+    )
+    run = review("--git", "--repo", str(repo.root), "main", branch)
+    assert run.code == 1, run.out
+    map_row = next(line for line in run.lines if line.startswith("| `3x-plus-1` |"))
+    assert (
+        "fails: `maps/3x-plus-1.yaml:13:5` coverage\\[0\\]: expected every cycle with least \\|member\\| up to "
+        in map_row
+    )
+    assert "100001 to be listed, got none for the cycle through -17 (length 11), which the search finds" in map_row
+
+
+def test_an_attested_claim_and_a_cycle_removed_inside_it_are_warned_about(
+    repo: Repo, review: Callable[..., Run]
+) -> None:
+    map_text = file_text("maps/3x-plus-1.yaml")
+    claim = COVERAGE.replace("bound: 20", "bound: 1000")
+    branch = repo.pull_request(
+        "attested",
+        {"maps/3x-plus-1.yaml": map_text + claim},
+        remove=("cycles/3x-plus-1/through-minus-17.yaml",),
+    )
+    # Searched again only up to 10, the claim cannot see that -17 went missing: the review must say so.
+    run = review("--git", "--repo", str(repo.root), "--recheck-up-to", "10", "main", branch)
+    assert run.code == 0, run.out
+    warnings = run.lines[run.lines.index("## Warnings") + 2 :]
+    assert warnings[:2] == [
+        "- maps/3x-plus-1.yaml coverage\\[0\\] claims every cycle with least \\|member\\| up to 1000 is listed, "
+        "but it was searched again only up to 10 here: the rest is attested, not checked",
+        "- cycles/3x-plus-1/through-minus-17.yaml takes the cycle through -17 out of the record, inside the attested "
+        "part of a coverage claim of maps/3x-plus-1.yaml (bound 1000, searched again only up to 10): nothing here "
+        "checks that the claim still holds",
+    ], warnings

@@ -18,6 +18,7 @@ from pathlib import Path
 
 import pytest
 
+import builder
 from builder.arith.dynamics import AffineMap, CycleFound
 from builder.catalogue.entries import cycle_file_id, entry_text
 from builder.catalogue.verify import verify_catalogue
@@ -553,3 +554,109 @@ def test_merge_refuses_a_saved_file_that_does_not_hold(
     code, out, err = run(capsys, "--merge", saved)
     assert code == 2 and out == "", (case, out, err)
     assert err.startswith(f"periplus: error: {saved}: not a saved hunt result: ") and err.count("\n") == 1, err
+
+
+# --- the work budget is part of the definition (issue 12, item 2) -----------------------------------
+
+
+def _reference_fate_with_work(mapping: AffineMap, s: int, max_steps: int, max_bits: int, max_work: int) -> object:
+    """Events (a), (b), (m), (w) of the definition over steps 1..max_steps, written out plainly.
+
+    A step whose new member has b bits costs (max(b, 4096) + c) * w, c the bit length of the largest
+    constant and w = 1 + max(0, bit_length(c - 1) - 6).  Returns the fate, or None when the start is
+    decided by (c) or needs the steps past max_steps, which this reference does not follow.
+    """
+    c = max(max(abs(a).bit_length(), abs(b).bit_length()) for a, b in mapping.branches)
+    weight = 1 + max(0, (c - 1).bit_length() - 6)
+    seen, v, work = {s}, s, 0
+    for _ in range(max_steps):
+        v = mapping(v)
+        work += (max(v.bit_length(), 4096) + c) * weight
+        if v == s:
+            return ("cycle", _cycle_from(mapping, s))
+        if abs(v) < abs(s) or (s < 0 and v == -s):
+            return ("resolved", None)
+        if v.bit_length() > max_bits:
+            return ("unresolved", "magnitude")
+        if work > max_work:
+            return ("unresolved", "work")
+        if v in seen:
+            return None
+        seen.add(v)
+    return None
+
+
+@pytest.mark.parametrize("name", ["3x+1", "5x+1", "181x+1", "mod-3", "mod-4-neg"])
+@pytest.mark.parametrize("max_work", [1, 4097 * 3, 4200 * 40, 10**6, 10**8])
+def test_engines_agree_on_the_work_event(name: str, max_work: int) -> None:
+    mapping = MAPS[name]
+    high, max_steps, max_bits = 60, 400, 120
+    exact = hunt(mapping, high, max_steps, max_bits, max_work=max_work)
+    for s in definition.starts_of(0, high):
+        expected = _reference_fate_with_work(mapping, s, max_steps, max_bits, max_work)
+        if expected is None:
+            continue
+        kind, value = expected
+        if kind == "cycle":
+            assert isinstance(value, tuple) and exact.cycles[value[0]].members == value, s
+        elif kind == "unresolved":
+            assert exact.reasons.get(s) == value, (s, exact.reasons.get(s), value)
+        else:
+            assert s not in exact.reasons, s
+    for settings in ENGINE_SETTINGS:
+        got = _fastiter.hunt_range(mapping, 0, high, max_steps, max_bits, max_work, **settings)  # type: ignore[arg-type]
+        assert got == exact, settings
+
+
+def test_a_budget_for_the_range_stops_in_start_order_and_keeps_what_was_decided() -> None:
+    # 5x+1 to 200 with max_bits 2000: its looking-divergent starts (7, 9, ...) each cost much work.
+    mapping = MAPS["5x+1"]
+    whole = _fastiter.hunt_range(mapping, 0, 200, 100_000, 2000)
+    part = _fastiter.hunt_range(mapping, 0, 200, 100_000, 2000, budget=whole.work // 3)
+    assert part.stopped_at is not None and 0 < part.stopped_at <= 200
+    below = [s for s in whole.unresolved if abs(s) < part.stopped_at]
+    assert part.unresolved == below
+    assert part.work <= whole.work
+
+
+# --- saved files name their program and every parameter (issue 12, item 6) -------------------------
+
+
+def test_saved_files_carry_the_program_version_and_every_limit(capsys: pytest.CaptureFixture[str], tmp_path: Path):
+    saved = tmp_path / "part.json"
+    assert run(capsys, "3x-plus-1", "--bound", "50", "--jobs", "1", "--max-work", "123456789", "--save", saved)[0] == 0
+    data = json.loads(saved.read_text(encoding="utf-8"))
+    assert data["format"] == "periplus-hunt/2"
+    assert data["program"] == {"name": "periplus", "version": builder.__version__}
+    assert data["limits"] == {"max_steps": 100_000, "max_bits": 4096, "max_work": 123456789}
+
+
+@pytest.mark.parametrize(
+    "change, fragment",
+    [
+        (lambda d: d["program"].update(version="0.0.1"), "a different program version"),
+        (lambda d: d["limits"].update(max_work=5), "a different max_work"),
+    ],
+)
+def test_merge_refuses_files_written_otherwise(change, fragment: str, capsys, tmp_path: Path) -> None:
+    first, second = tmp_path / "a.json", tmp_path / "b.json"
+    assert run(capsys, "3x-plus-1", "--bound", "50", "--to", "20", "--jobs", "1", "--save", first)[0] == 0
+    assert run(capsys, "3x-plus-1", "--bound", "50", "--from", "21", "--jobs", "1", "--save", second)[0] == 0
+    data = json.loads(second.read_text(encoding="utf-8"))
+    change(data)
+    second.write_text(json.dumps(data), encoding="utf-8")
+    code, out, err = run(capsys, "--merge", first, second)
+    assert code == 2 and out == ""
+    assert err.startswith(f"periplus: error: --merge: {second} has {fragment} from {first}") and err.count("\n") == 1, (
+        err
+    )
+
+
+def test_merge_refuses_a_file_without_its_program(capsys, tmp_path: Path) -> None:
+    saved = tmp_path / "a.json"
+    assert run(capsys, "3x-plus-1", "--bound", "20", "--jobs", "1", "--save", saved)[0] == 0
+    data = json.loads(saved.read_text(encoding="utf-8"))
+    del data["program"]
+    saved.write_text(json.dumps(data), encoding="utf-8")
+    code, _, err = run(capsys, "--merge", saved)
+    assert code == 2 and err.startswith(f"periplus: error: {saved}: not a saved hunt result: KeyError"), err

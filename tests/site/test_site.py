@@ -638,3 +638,35 @@ def test_preview_lists_no_folder_and_answers_a_nul_path_with_400(
         server.server_close()
         thread.join(timeout=30)
     assert "Traceback" not in capsys.readouterr().err
+
+
+# --- what a build rechecked and what it only reports (issue 12, item 5) ------------------------------
+
+
+def _coverage_sections(site: Site, map_id: str) -> list[Tag]:
+    return site.page(f"maps/{map_id}/index.html").find_all("section", class_="coverage")
+
+
+def test_the_map_page_says_which_range_this_build_rechecked(shipped: Site) -> None:
+    # The shipped 3x+1 map has claims to 10^5 (searched again by every build) and 10^6 (beyond the
+    # default --recheck-up-to of 100,000): README.md, "Starter catalogue".
+    texts = [" ".join(s.get_text(" ").split()) for s in _coverage_sections(shipped, "3x-plus-1")]
+    full, partial = texts
+    assert "rechecked by this build" in full and "attested" not in full
+    assert "This build followed every integer n with |n| ≤ 100000 again under this map" in full
+    assert "rechecked up to 100000, attested beyond" in partial
+    assert "This build followed every integer n with |n| ≤ 100000 again" in partial
+    assert (
+        "This build did not search the claim beyond 100000: builds search claims again only as far as their "
+        "recheck limit. The rest is attested, not checked: the claim states that every integer n with "
+        "100000 < |n| ≤ 1000000 was followed"
+    ) in partial
+    # No sentence states the attested range as fact.
+    assert "every cycle whose least |member| is at most 1000000 is listed" not in partial
+    assert "so that every cycle whose least |member| is at most 1000000 would be listed" in partial
+
+
+def test_the_export_says_how_far_each_claim_was_rechecked(record: dict) -> None:
+    (three,) = [m for m in record["maps"] if m["id"] == "3x-plus-1"]
+    claims = [(c["bound"], c["rechecked_by_this_build"], c["rechecked_up_to_by_this_build"]) for c in three["coverage"]]
+    assert claims == [("100000", True, "100000"), ("1000000", False, "100000")]
