@@ -83,7 +83,7 @@ def draft_cycle(
                 f"no integer cycle follows this word: n = B / (m^k - A) = {show(num)}/{show(den)}", False,
             )  # fmt: skip
         n = num
-    outcome = trace(mapping, n, limits.max_steps, limits.max_bits)
+    outcome = trace(mapping, n, limits.max_steps, limits.max_bits, limits.max_work)
     if isinstance(outcome, EntersCycle):
         c = from_canonical(outcome.cycle)
         return Draft(
@@ -95,8 +95,8 @@ def draft_cycle(
     if isinstance(outcome, Unresolved):
         return Draft(
             None, None,
-            f"the orbit of {show(n)} neither returned nor repeated within {limits.max_steps} steps "
-            "and the size limit (raise --max-steps or --max-bits to look further)",
+            f"the orbit of {show(n)} neither returned nor repeated within {limits.max_steps} steps, "
+            "the size limit and the work budget (raise --max-steps, --max-bits or --max-work to look further)",
             False,
         )  # fmt: skip
     assert isinstance(outcome, CycleFound)
