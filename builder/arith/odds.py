@@ -21,7 +21,7 @@ from fractions import Fraction
 from math import gcd
 
 from builder.arith.dynamics import AffineMap, shortcut_form
-from builder.arith.words import aperiodic_necklace_count
+from builder.arith.words import necklace_row
 
 __all__ = ["Odds", "length_odds", "odds_table"]
 
@@ -58,9 +58,10 @@ def odds_table(mapping: AffineMap, k: int) -> list[Odds]:
     form = shortcut_form(mapping)
     d = abs(form[1]) if form is not None else 1
     rows = []
+    necklace_counts = necklace_row(k)
     for x in range(k + 1):
         target = 2**k - a0 ** (k - x) * a1**x
-        necklaces = aperiodic_necklace_count(k, x)
+        necklaces = necklace_counts[x]
         share = Fraction(1) if target == 0 else Fraction(gcd(target, d), abs(target))
         rows.append(Odds(k, x, necklaces, target, share, _chance(share, necklaces)))
     return rows

@@ -19,6 +19,8 @@ __all__ = [
     "least_period",
     "least_rotation_index",
     "mobius",
+    "necklace_row",
+    "binomial_row",
     "rotate",
     "word_text",
 ]
@@ -146,6 +148,34 @@ def aperiodic_necklace_count(k: int, x: int) -> int:
     if remainder:
         raise AssertionError(f"Moreau sum {total} not divisible by k={k}")
     return count
+
+
+def binomial_row(n: int) -> list[int]:
+    """C(n, 0), C(n, 1), ..., C(n, n), each from the one before: C(n, j + 1) = C(n, j) (n - j) / (j + 1)."""
+    row = [1]
+    for j in range(n):
+        row.append(row[-1] * (n - j) // (j + 1))
+    return row
+
+
+def necklace_row(k: int) -> list[int]:
+    """L(k, x) for x = 0..k at once, by Moreau's formula (as aperiodic_necklace_count) with one row of
+    binomials for each divisor of k, so that a whole length costs O(k^2) bit-operations."""
+    if k <= 0:
+        return [0] * (k + 1) if k == 0 else []
+    totals = [0] * (k + 1)
+    for d in divisors(k):
+        mu = mobius(d)
+        if mu:
+            for j, c in enumerate(binomial_row(k // d)):
+                totals[j * d] += mu * c
+    row = []
+    for total in totals:
+        count, remainder = divmod(total, k)
+        if remainder:
+            raise AssertionError(f"Moreau sum {total} not divisible by k={k}")
+        row.append(count)
+    return row
 
 
 def word_text(word: tuple[int, ...], modulus: int) -> str:

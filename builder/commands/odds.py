@@ -30,6 +30,10 @@ def register(subparsers: Subcommands) -> None:
     parser.set_defaults(run=run)
 
 
+#: The table has at most this many rows (one per length k and number x of odd steps: k + 1 per length).
+MAX_ROWS = 100_000
+
+
 def _lengths(text: str) -> range:
     lo, sep, hi = text.partition("..")
     try:
@@ -38,6 +42,12 @@ def _lengths(text: str) -> range:
         raise UsageError(f"--lengths: expected K or K1..K2, got '{text}'") from None
     if not 1 <= first <= last <= 10_000:
         raise UsageError(f"--lengths: expected 1 <= K1 <= K2 <= 10000, got '{text}'")
+    rows = (last + 2) * (last + 1) // 2 - (first + 1) * first // 2
+    if rows > MAX_ROWS:
+        raise UsageError(
+            f"--lengths: expected at most {MAX_ROWS:,} rows (k + 1 for each length k), got {rows:,} for '{text}'; "
+            "ask for fewer lengths"
+        )
     return range(first, last + 1)
 
 

@@ -64,3 +64,14 @@ def test_odds_command_refuses_bad_lengths(cli, bad):
     run = cli("odds", "3x-plus-1", "--lengths", bad, "--catalogue", "catalogue")
     assert run.code == 2
     assert "--lengths" in run.err
+
+
+def test_odds_command_refuses_a_table_too_long_to_print(cli):
+    # 1..10000 would be 50 million rows (k + 1 for each length; common practice, no source): refused
+    # at once with one line, before any work (issue 12: no command line hangs).
+    run = cli("odds", "3x-plus-1", "--lengths", "1..10000", "--catalogue", "catalogue")
+    assert run.code == 2
+    assert run.err == (
+        "periplus: error: --lengths: expected at most 100,000 rows (k + 1 for each length k), got 50,015,000 "
+        "for '1..10000'; ask for fewer lengths\n"
+    )

@@ -17,11 +17,13 @@ from sympy.utilities.iterables import necklaces
 from builder.arith.dynamics import AffineMap, cycle_equation
 from builder.arith.words import (
     aperiodic_necklace_count,
+    binomial_row,
     divisors,
     is_rotation,
     least_period,
     least_rotation_index,
     mobius,
+    necklace_row,
     rotate,
 )
 
@@ -172,3 +174,15 @@ def test_rotation_helpers_small_cases() -> None:
     assert least_period((1000, 7) * 3) == 2  # wide alphabet
     assert least_period((1000, 7, 1000)) == 3
     assert least_rotation_index((1, 1, 0, 1, 0)) == 2  # 01011 is least
+
+
+# A whole length at once (builder.arith.words.necklace_row, used by the odds): the same numbers as
+# Moreau's formula term by term above, and binomial rows equal to sympy's binomial.
+@pytest.mark.parametrize("k", [*range(0, 41), 60, 64, 97, 120])
+def test_necklace_row_is_moreau_for_every_x(k: int) -> None:
+    assert necklace_row(k) == [aperiodic_necklace_count(k, x) for x in range(k + 1)]
+
+
+@pytest.mark.parametrize("n", [0, 1, 2, 7, 30, 101])
+def test_binomial_row_is_sympys(n: int) -> None:
+    assert binomial_row(n) == [int(sympy.binomial(n, j)) for j in range(n + 1)]
