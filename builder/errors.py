@@ -28,10 +28,11 @@ __all__ = [
 KeyPath = tuple[str | int, ...]
 
 #: Characters that would split or disguise a printed diagnostic line: C0 and C1 controls, DEL, and the
-#: Unicode line and paragraph separators (Unicode 15, chapter 5.8, "Newline Guidelines"); and the lone
-#: surrogates by which Python keeps the bytes of a file name that is not UTF-8 (PEP 383), which no
-#: UTF-8 output can write.
-_UNPRINTABLE = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029\ud800-\udfff]")
+#: Unicode line and paragraph separators (Unicode 15, chapter 5.8, "Newline Guidelines"); the
+#: bidirectional marks, embeddings, overrides and isolates, which reorder what a reader sees (Unicode
+#: UAX #9, section 2); and the lone surrogates by which Python keeps the bytes of a file name that is
+#: not UTF-8 (PEP 383), which no UTF-8 output can write.
+_UNPRINTABLE = re.compile("[\x00-\x1f\x7f-\x9f\u061c\u200e\u200f\u2028\u2029\u202a-\u202e\u2066-\u2069\ud800-\udfff]")
 _NAMED = {"\n": "\\n", "\r": "\\r", "\t": "\\t"}
 
 

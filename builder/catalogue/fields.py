@@ -24,6 +24,7 @@ __all__ = [
     "COVERAGE",
     "COVERAGE_KINDS",
     "LINE_MAX_CHARACTERS",
+    "MAX_LIMIT",
     "MAX_MODULUS",
     "NOTES_MAX_CHARACTERS",
     "NOTES_MAX_OPEN_BRACKETS",
@@ -51,6 +52,9 @@ COVERAGE_KINDS = ("all-starts",)
 LINE_MAX_CHARACTERS = 1_000
 #: Every branch is shown on the map's page; a real record stays far below this.
 MAX_MODULUS = 10_000
+#: A claim's step and bit limits are written into the JSON exports as numbers: at most 2^53 - 1, the
+#: largest integer every JSON reader keeps exactly (RFC 8259, section 6).
+MAX_LIMIT = 2**53 - 1
 #: Notes are rendered as Markdown on every build; these bounds keep that fast whatever a note holds.
 NOTES_MAX_CHARACTERS = 50_000
 #: Each "[", "(" or tag-like "<" that nothing closes makes the Markdown renderer scan the rest of the note again.
@@ -182,8 +186,20 @@ COVERAGE = Shape("a coverage record", (
     Field("bound", {"type": "integer", "minimum": 0}, "the largest \\|start\\| covered", True, reads=Reads.INTEGER),
     Field("found_on", DATE, "when the search was run", True, reads=Reads.DATE),
     Field("method", TEXT, "how it was run (program, command, machine)", True, reads=Reads.TEXT),
-    Field("max_steps", {"type": "integer", "minimum": 1}, "the step limit per start", True, reads=Reads.INTEGER),
-    Field("max_bits", {"type": "integer", "minimum": 1}, "the size limit per member, in bits", True, reads=Reads.INTEGER),
+    Field(
+        "max_steps",
+        {"type": "integer", "minimum": 1, "maximum": MAX_LIMIT},
+        "the step limit per start (at most 2^53 - 1)",
+        True,
+        reads=Reads.INTEGER,
+    ),
+    Field(
+        "max_bits",
+        {"type": "integer", "minimum": 1, "maximum": MAX_LIMIT},
+        "the size limit per member, in bits (at most 2^53 - 1)",
+        True,
+        reads=Reads.INTEGER,
+    ),
     Field(
         "unresolved", {"type": "array", "items": {"type": "integer"}},
         "every start whose orbit was not resolved within the limits (none when left out)", reads=Reads.INTEGERS,

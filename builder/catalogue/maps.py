@@ -6,7 +6,7 @@ from collections.abc import Collection
 
 from builder.arith.dynamics import AffineMap, branch_defects
 from builder.arith.integers import show
-from builder.catalogue.fields import BRANCH, COVERAGE, COVERAGE_KINDS, MAP, MAX_MODULUS
+from builder.catalogue.fields import BRANCH, COVERAGE, COVERAGE_KINDS, MAP, MAX_LIMIT, MAX_MODULUS
 from builder.catalogue.files import RawFile
 from builder.catalogue.model import Coverage, MapEntry
 from builder.catalogue.nodes import Node, SequenceNode
@@ -104,10 +104,10 @@ def _check_branches(doc: EntryReader, node: Node, modulus: int) -> tuple[tuple[i
 
 def _coverage(doc: EntryReader, node: Node, key_path: KeyPath) -> Coverage | None:
     """A coverage record: kind, bound, found_on, method, max_steps, max_bits, optional unresolved."""
-    f = doc.fields(node, key_path, COVERAGE)
-    if f is None or len(f) < 6:
-        return None
     before = len(doc.problems)
+    f = doc.fields(node, key_path, COVERAGE)
+    if f is None or len(doc.problems) > before:
+        return None
     v = doc.values(f, COVERAGE, key_path)
     kind = v["kind"]
     if kind is not None and kind not in COVERAGE_KINDS:
@@ -117,6 +117,8 @@ def _coverage(doc: EntryReader, node: Node, key_path: KeyPath) -> Coverage | Non
         value = v[name]
         if value is not None and value < (0 if name == "bound" else 1):
             doc.error(f[name], key_path + (name,), f"expected a positive integer, got {show(value)}")
+        elif value is not None and name != "bound" and value > MAX_LIMIT:
+            doc.error(f[name], key_path + (name,), f"expected at most {MAX_LIMIT:,}, got {show(value)}")
     if len(doc.problems) > before:
         return None
     found_on, method, unresolved = v["found_on"], v["method"], v.get("unresolved", [])

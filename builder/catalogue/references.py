@@ -37,10 +37,10 @@ def check_references(raw: RawFile, problems: list[Problem]) -> dict[str, Referen
                 "bad-id",
             )
             continue
-        f = doc.fields(node, (key,), REFERENCE)
-        if f is None:
-            continue
         before = len(problems)
+        f = doc.fields(node, (key,), REFERENCE)
+        if f is None or len(problems) > before:
+            continue
         v = doc.values(f, REFERENCE, (key,))
         _check_reference(doc, key, f, v)
         if len(problems) == before:

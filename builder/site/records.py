@@ -123,7 +123,7 @@ class CycleRecord:
     offset: str  # B in the cycle equation
     target: str  # m^k - A
     standard_length: int | None
-    shared_factor: int | None  # the factor its members share with the increment, for qx+d maps
+    shared_factor: str | None  # the factor its members share with the increment, for qx+d maps
     start: str  # the member the entry starts from
     provenance: Provenance
     history: HistoryRecord | None
@@ -147,7 +147,7 @@ class CycleRecord:
             to_decimal(eq.offset),
             to_decimal(eq.target),
             cycle.standard_length,
-            rel.shared_factor.get((entry.id, cycle.id)),
+            _decimal_or_none(rel.shared_factor.get((entry.id, cycle.id))),
             to_decimal(cycle.start),
             cycle.provenance,
             history,
@@ -235,3 +235,7 @@ class MapRecord:
             cycles,
             about,
         )
+
+
+def _decimal_or_none(n: int | None) -> str | None:
+    return None if n is None else to_decimal(n)

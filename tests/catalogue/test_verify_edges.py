@@ -6,7 +6,7 @@ import json
 import os
 import sys
 
-from conftest import PROVENANCE, VALID, decimal
+from conftest import PROVENANCE, VALID, big_cycle_files, decimal
 
 from builder.catalogue.fields import NOTES_MAX_CHARACTERS
 from builder.catalogue.reader import open_brackets
@@ -250,3 +250,64 @@ def test_a_huge_start_is_stopped_by_the_work_budget(cli, catalogue):
     assert run.code == 1
     assert "whose orbit did not return within the work budget of 300,000,000 bit-operations: " in run.lines[0]
     assert run.lines[0].endswith("bits (raise --max-work to look further)")
+
+
+# --- found by the fuzz campaign (tests/fuzz) --------------------------------------------------------
+
+
+def test_a_reference_missing_a_required_field_beside_an_unknown_one_is_reported(cli, catalogue):
+    # A renamed key leaves "title" missing: two errors, no traceback.
+    references = (VALID / "references.yaml").read_text(encoding="utf-8")
+    root = catalogue(files={"references.yaml": references.replace("  title:", "  titel:", 1)})
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert any("unknown field 'titel'" in line and "did you mean 'title'?" in line for line in run.lines)
+    assert any("is missing the required field 'title'" in line for line in run.lines)
+
+
+def test_a_coverage_claim_missing_a_field_beside_its_unresolved_list_is_reported(cli, catalogue):
+    path = VALID / "maps" / "3x-plus-1.yaml"
+    claim = (
+        "coverage:\n  - kind: all-starts\n    found_on: 2024-05-01\n    method: m\n"
+        "    max_steps: 10\n    max_bits: 10\n    unresolved: []\n"
+    )
+    root = catalogue(files={"maps/3x-plus-1.yaml": path.read_text(encoding="utf-8") + claim})
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert any("coverage[0]: a coverage record is missing the required field 'bound'" in line for line in run.lines), (
+        run.lines
+    )
+
+
+def test_a_claims_limits_are_json_safe_integers(cli, catalogue):
+    # The exports write max_steps and max_bits as JSON numbers; above 2^53 - 1 a JSON reader may round
+    # them (RFC 8259, section 6).  10^4300 also broke the page, which writes them in decimal.
+    path = VALID / "maps" / "3x-plus-1.yaml"
+    claim = (
+        "coverage:\n  - kind: all-starts\n    bound: 10\n    found_on: 2024-05-01\n    method: m\n"
+        f"    max_steps: {decimal(10**4300)}\n    max_bits: 9007199254740992\n"
+    )
+    root = catalogue(files={"maps/3x-plus-1.yaml": path.read_text(encoding="utf-8") + claim})
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert any(
+        line.endswith(
+            "coverage[0].max_steps: expected at most 9,007,199,254,740,991, got 10000000000000000000...0000000000 (4301 digits)"
+        )
+        for line in run.lines
+    ), run.lines
+    assert any(
+        line.endswith("coverage[0].max_bits: expected at most 9,007,199,254,740,991, got 9007199254740992")
+        for line in run.lines
+    ), run.lines
+
+
+def test_a_map_whose_cycles_share_a_huge_factor_with_d_builds(cli, catalogue, tmp_path, big):
+    # The cycle of conftest.big_cycle: its members share the factor c (over 20,000 digits) with d; the
+    # page and the exports write that factor in full (CPython refuses str() of ints over 4,300 digits).
+    root = catalogue(files=big_cycle_files(big))
+    run = cli("build", str(root), "--out", str(tmp_path / "site"))
+    assert run.code == 0, run.out + run.err
+    data = json.loads((tmp_path / "site" / "data" / "catalogue.json").read_text(encoding="utf-8"))
+    (cycle,) = [c for c in data["cycles"] if c["map"] == "3x-plus-big"]
+    assert len(cycle["shared_factor_with_increment"]) > 20_000  # decimal digits of c

@@ -424,3 +424,18 @@ def test_a_line_feed_in_a_file_name_or_a_key_cannot_start_a_diagnostic_line(cli,
     assert not any(line.startswith(("forged", "::error")) for line in lines)
     assert any("x\\nforged.yaml" in line for line in lines), lines
     assert any("surplus\\n::error" in line for line in lines), lines
+
+
+def test_bidirectional_controls_are_escaped_in_diagnostics(cli, tmp_path: Path) -> None:
+    # A right-to-left override or isolate reorders how a terminal shows the rest of the line (Unicode
+    # UAX #9, section 2; Boucher and Anderson, "Trojan Source", 2021, from memory): printed escaped.
+    # Found by the fuzz campaign (tests/fuzz).
+    root = copy_valid(tmp_path / "cat")
+    cycle = root / "cycles" / "3x-plus-1" / "through-1.yaml"
+    cycle.write_text(
+        cycle.read_text(encoding="utf-8").replace("map: 3x-plus-1", 'map: "3x-plus\u2066-1\u202e"'), encoding="utf-8"
+    )
+    run = cli("verify", str(root))
+    assert run.code == 1
+    assert not set(run.out) & {"\u2066", "\u202e"}
+    assert "got '3x-plus\\u2066-1\\u202e'" in run.out

@@ -11,6 +11,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 
+from builder.arith.integers import to_decimal
 from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Reference
 from builder.catalogue.relations import Relations, qx_plus_d
 from builder.history import Changelog, Edition, NoHistory, RepoHistory
@@ -169,9 +170,9 @@ class SiteContext:
         """The badges of a cycle: a scaled copy, or members sharing a factor with d."""
         scaling = self.rel.scaled_from.get(key)
         if scaling is not None:
-            return (f"{scaling.factor} × a cycle of {self.cat.maps[scaling.base[0]].name}",)
+            return (f"{to_decimal(scaling.factor)} × a cycle of {self.cat.maps[scaling.base[0]].name}",)
         if self.rel.shared_factor.get(key, 1) > 1:
-            return (f"members share the factor {self.rel.shared_factor[key]} with d",)
+            return (f"members share the factor {to_decimal(self.rel.shared_factor[key])} with d",)
         return ()
 
     def cycle_rows(self, keys: Iterable[tuple[str, str]], with_map: bool = False) -> list[CycleRow]:

@@ -9,7 +9,7 @@ from __future__ import annotations
 import posixpath
 from dataclasses import dataclass
 
-from builder.arith.integers import show
+from builder.arith.integers import show, to_decimal
 from builder.catalogue.model import Cycle, MapEntry
 from builder.site.markdown import render_notes
 from builder.site.mathml import cycle_equation_mathml
@@ -86,10 +86,14 @@ def _related(site: SiteContext, key: tuple[str, str], length: int) -> list[Relat
         related.append(RelatedGroup("Mirror", [site.cycle_link(mirror, "the negated cycle of the mirror map")]))
     scaled = site.rel.scaled_from.get(key)
     if scaled is not None:
-        related.append(RelatedGroup("Scaled copy of", [site.cycle_link(scaled.base, f"times {scaled.factor}")]))
+        related.append(
+            RelatedGroup("Scaled copy of", [site.cycle_link(scaled.base, f"times {to_decimal(scaled.factor)}")])
+        )
     copies = site.rel.scaled_to.get(key, ())
     if copies:
-        related.append(RelatedGroup("Scaled copies", [site.cycle_link(s.copy, f"times {s.factor}") for s in copies]))
+        related.append(
+            RelatedGroup("Scaled copies", [site.cycle_link(s.copy, f"times {to_decimal(s.factor)}") for s in copies])
+        )
     listed = {mirror, scaled.base if scaled else None, *(s.copy for s in copies)}
     same = [k for k in site.rel.same_word.get(key, ()) if k not in listed]
     if same:
