@@ -23,7 +23,17 @@ from math import gcd
 from builder.arith.dynamics import AffineMap, shortcut_form
 from builder.arith.words import necklace_row
 
-__all__ = ["Odds", "length_odds", "odds_table"]
+__all__ = ["MODEL_MULTIPLIER_BITS", "Odds", "length_odds", "modelled", "odds_table"]
+
+#: The model is computed for maps whose multipliers fit in a machine word: with a multiplier of
+#: thousands of digits every target has millions of bits and the chance is zero to any precision
+#: a float holds, while computing it would take minutes.
+MODEL_MULTIPLIER_BITS = 64
+
+
+def modelled(mapping: AffineMap) -> bool:
+    """Whether the model is computed for ``mapping``: two branches, multipliers of at most 64 bits."""
+    return mapping.modulus == 2 and all(abs(a).bit_length() <= MODEL_MULTIPLIER_BITS for a, _ in mapping.branches)
 
 
 @dataclass(frozen=True, slots=True)
@@ -51,8 +61,8 @@ def _chance(share: Fraction, count: int) -> float:
 
 def odds_table(mapping: AffineMap, k: int) -> list[Odds]:
     """The model for every x = 0..k at length k (2-branch maps only)."""
-    if mapping.modulus != 2:
-        raise ValueError(f"expected a map with 2 branches, got modulus {mapping.modulus}")
+    if not modelled(mapping):
+        raise ValueError(f"expected a map with 2 branches and multipliers of at most {MODEL_MULTIPLIER_BITS} bits")
     (a0, _), (a1, _) = mapping.branches
     # For n/2, (qn + d)/2 maps every offset B is a multiple of d.
     form = shortcut_form(mapping)
@@ -62,7 +72,9 @@ def odds_table(mapping: AffineMap, k: int) -> list[Odds]:
     for x in range(k + 1):
         target = 2**k - a0 ** (k - x) * a1**x
         necklaces = necklace_counts[x]
-        share = Fraction(1) if target == 0 else Fraction(gcd(target, d), abs(target))
+        # gcd(target, d) = gcd(target, d mod target): one division by the small target first, since
+        # d may have thousands of digits (common practice, no source: Euclid's algorithm).
+        share = Fraction(1) if target == 0 else Fraction(gcd(target, d % abs(target)), abs(target))
         rows.append(Odds(k, x, necklaces, target, share, _chance(share, necklaces)))
     return rows
 

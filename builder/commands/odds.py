@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 
 from builder.arith.integers import show
-from builder.arith.odds import length_odds, odds_table
+from builder.arith.odds import MODEL_MULTIPLIER_BITS, length_odds, modelled, odds_table
 from builder.commands.options import Subcommands, add_catalogue, add_command
 from builder.commands.summary import verified_entries
 from builder.errors import UsageError
@@ -60,6 +60,11 @@ def run(args: argparse.Namespace) -> int:
         raise UsageError(f"expected a map id of the catalogue, got '{args.map}'")
     if entry.modulus != 2:
         raise UsageError(f"odds: expected a map with 2 branches, got {args.map} with modulus {entry.modulus}")
+    if not modelled(entry.dynamics):
+        raise UsageError(
+            f"odds: expected multipliers of at most {MODEL_MULTIPLIER_BITS} bits, got larger ones in {args.map} "
+            "(the model's targets would have millions of bits and every chance would be 0)"
+        )
     counts: dict[tuple[int, int], int] = {}
     for cycle in report.catalogue.cycles.get(args.map, ()):
         key = (cycle.length, cycle.residue_counts[1])

@@ -4,10 +4,11 @@ from __future__ import annotations
 
 import math
 
+import gmpy2
 import pytest
 
 from builder.arith.dynamics import AffineMap
-from builder.arith.odds import length_odds, odds_table
+from builder.arith.odds import length_odds, modelled, odds_table
 
 SHORTCUT_3X1 = AffineMap(2, ((1, 0), (3, 1)))
 SHORTCUT_3X_MINUS_1 = AffineMap(2, ((1, 0), (3, -1)))
@@ -75,3 +76,19 @@ def test_odds_command_refuses_a_table_too_long_to_print(cli):
         "periplus: error: --lengths: expected at most 100,000 rows (k + 1 for each length k), got 50,015,000 "
         "for '1..10000'; ask for fewer lengths\n"
     )
+
+
+def test_the_model_is_not_computed_for_multipliers_beyond_a_machine_word(cli, catalogue):
+    # Found by the fuzz campaign: a 20,000-digit multiplier made a build spend two minutes on the odds
+    # chart, whose every target then has millions of bits.  3^41,900 is odd (common practice, no source).
+    a = str(gmpy2.mpz(3) ** 41_900)
+    wide = (
+        "name: wide\nmodulus: 2\nbranches:\n  - {residue: 0, multiplier: 1, increment: 0}\n"
+        f"  - {{residue: 1, multiplier: {a}, increment: {a}}}\nsummary: s\n"
+    )
+    root = catalogue(files={"maps/wide.yaml": wide})
+    assert not modelled(AffineMap(2, ((1, 0), (3**41_900, 3**41_900))))
+    assert modelled(AffineMap(2, ((1, 0), (3, 10**5000 + 1))))  # a huge increment alone is cheap
+    run = cli("odds", "wide", "--lengths", "1..5", "--catalogue", str(root))
+    assert run.code == 2
+    assert run.err.startswith("periplus: error: odds: expected multipliers of at most 64 bits, got larger ones in wide")

@@ -9,7 +9,7 @@ from __future__ import annotations
 from markupsafe import Markup
 
 from builder.arith.integers import to_decimal
-from builder.arith.odds import length_odds
+from builder.arith.odds import length_odds, modelled
 from builder.catalogue.model import MapEntry
 from builder.catalogue.relations import qx_plus_d
 from builder.site.markdown import render_notes
@@ -29,7 +29,7 @@ ODDS_MIN_LENGTH, ODDS_MAX_LENGTH = 40, 120
 
 def _odds_svg(site: SiteContext, entry: MapEntry) -> Markup | None:
     """The heuristic chance per length beside the catalogued counts (2-branch maps only)."""
-    if entry.modulus != 2:
+    if not modelled(entry.dynamics):
         return None
     cycles = site.cat.cycles.get(entry.id, ())
     top = min(ODDS_MAX_LENGTH, max([ODDS_MIN_LENGTH, *(c.length for c in cycles)]))
