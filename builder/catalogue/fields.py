@@ -181,25 +181,19 @@ BRANCH = Shape("a branch", (
     Field("increment", {"type": "integer"}, "b_i, with a_i i + b_i divisible by m", True, reads=Reads.INTEGER),
 ))  # fmt: skip
 
+def _claim_limit(name: str, what: str) -> Field:
+    """A claim's step or bit limit: a positive integer a JSON reader keeps exactly."""
+    schema = {"type": "integer", "minimum": 1, "maximum": MAX_LIMIT}
+    return Field(name, schema, f"{what} (at most 2^53 - 1)", True, reads=Reads.INTEGER)
+
+
 COVERAGE = Shape("a coverage record", (
     Field("kind", {"enum": list(COVERAGE_KINDS)}, "`all-starts`: every start n with \\|n\\| <= bound was followed", True, reads=Reads.TEXT),
     Field("bound", {"type": "integer", "minimum": 0}, "the largest \\|start\\| covered", True, reads=Reads.INTEGER),
     Field("found_on", DATE, "when the search was run", True, reads=Reads.DATE),
     Field("method", TEXT, "how it was run (program, command, machine)", True, reads=Reads.TEXT),
-    Field(
-        "max_steps",
-        {"type": "integer", "minimum": 1, "maximum": MAX_LIMIT},
-        "the step limit per start (at most 2^53 - 1)",
-        True,
-        reads=Reads.INTEGER,
-    ),
-    Field(
-        "max_bits",
-        {"type": "integer", "minimum": 1, "maximum": MAX_LIMIT},
-        "the size limit per member, in bits (at most 2^53 - 1)",
-        True,
-        reads=Reads.INTEGER,
-    ),
+    _claim_limit("max_steps", "the step limit per start"),
+    _claim_limit("max_bits", "the size limit per member, in bits"),
     Field(
         "unresolved", {"type": "array", "items": {"type": "integer"}},
         "every start whose orbit was not resolved within the limits (none when left out)", reads=Reads.INTEGERS,
