@@ -9,7 +9,7 @@ from __future__ import annotations
 from markupsafe import Markup
 
 from builder.arith.integers import to_decimal
-from builder.arith.odds import length_odds, modelled
+from builder.arith.odds import length_chances, modelled
 from builder.catalogue.model import MapEntry
 from builder.catalogue.relations import qx_plus_d
 from builder.site.markdown import render_notes
@@ -36,7 +36,8 @@ def _odds_svg(site: SiteContext, entry: MapEntry) -> Markup | None:
     counts: dict[int, int] = {}
     for c in cycles:
         counts[c.length] = counts.get(c.length, 0) + 1
-    rows = [(k, length_odds(entry.dynamics, k), counts.get(k, 0)) for k in range(1, top + 1)]
+    chances = length_chances(entry.dynamics, top)
+    rows = [(k, chances[k - 1], counts.get(k, 0)) for k in range(1, top + 1)]
     title = f"Heuristic chance of a cycle of each length for {entry.name}, with the catalogued cycles"
     return odds_chart(rows, title, f"odds-{entry.id}")
 
