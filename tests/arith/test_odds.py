@@ -6,11 +6,10 @@ import math
 
 import gmpy2
 import pytest
-
-from builder.arith.dynamics import AffineMap
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from builder.arith.dynamics import AffineMap
 from builder.arith.odds import length_chances, length_odds, modelled, odds_table
 
 SHORTCUT_3X1 = AffineMap(2, ((1, 0), (3, 1)))
