@@ -134,7 +134,8 @@ def _common_factors(a0: int, a1: int, top: int, d: int, targets: tuple[int, ...]
             value = value * b % d
     ks, xs = _triangle(a0, a1, top)[:2]
     residues = (powers[0, ks] - powers[1, ks - xs] * powers[2, xs] % d) % d
-    return np.gcd(residues, d).astype(np.float64)
+    common: np.ndarray = np.gcd(residues, d).astype(np.float64)
+    return common
 
 
 def length_chances(mapping: AffineMap, top: int) -> list[float]:
