@@ -94,7 +94,13 @@ class Writer:
             raise AssertionError(f"refusing to write outside the site: {relative!r}")
         folder = "/".join(parts[:-1])
         if folder and folder not in self._folders:
-            (self.out / folder).mkdir(parents=True, exist_ok=True)
+            path = os.path.join(self.out, folder)
+            try:
+                os.mkdir(path)  # most folders hold one page, below a folder that exists
+            except FileExistsError:
+                pass
+            except FileNotFoundError:
+                os.makedirs(path, exist_ok=True)
             self._folders.add(folder)
         return os.path.join(self.out, relative)
 
