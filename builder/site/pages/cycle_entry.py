@@ -201,4 +201,25 @@ def cycle_pages(site: SiteContext, map_id: str) -> list[Page]:
     return [cycle_page(site, entry, cycle) for cycle in site.cat.cycles.get(map_id, ())]
 
 
-KIND = PageKind("cycle", map_pages=cycle_pages)
+def cycle_inputs(site: SiteContext, map_id: str) -> object:
+    """What the map's cycle pages show: each entry as written and verified (the fingerprint fixes the
+    map's definition and the members, word and equation), its history, relations and sources."""
+    out = []
+    for c in site.cat.cycles.get(map_id, ()):
+        key = (map_id, c.id)
+        out.append(
+            (
+                c.id,
+                c.fingerprint,
+                c.start,
+                repr(c.provenance),
+                repr(site.records[key].history),
+                repr(_related(site, key, c.length)),
+                repr(site.reference_links(c.provenance.references)),
+                site.marks(key),
+            )
+        )
+    return (site.cat.maps[map_id].name, out)
+
+
+KIND = PageKind("cycle", map_pages=cycle_pages, map_inputs=cycle_inputs)
