@@ -42,6 +42,7 @@ from typing import IO
 import jinja2
 
 from builder import __version__
+from builder.site.digest import stable_digest
 from builder.site.exports import (
     atom_feed,
     map_json,
@@ -170,7 +171,7 @@ def _source_digest() -> str:
 def _common_inputs(views: SiteViews) -> str:
     """What every page reads besides its own inputs."""
     history = views.history
-    return repr(
+    return stable_digest(
         (
             _source_digest(),
             views.record,
@@ -184,7 +185,7 @@ def _common_inputs(views: SiteViews) -> str:
 
 
 def _digest(common: str, inputs: object) -> str:
-    return hashlib.sha256((common + "\n" + repr(inputs)).encode("utf-8", "surrogatepass")).hexdigest()
+    return stable_digest((common, inputs))
 
 
 def _read_previous(site: Path | None) -> _Previous | None:

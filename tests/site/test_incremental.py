@@ -135,3 +135,21 @@ def test_a_damaged_manifest_or_site_means_a_full_build(tmp_path: Path, damage: s
     build_site(VALID, site)
     build_site(VALID, clean, reuse=False)
     assert tree(site) == tree(clean)
+
+
+def test_the_digest_reads_plain_data_of_any_size() -> None:
+    from datetime import date
+
+    from builder.site.digest import stable_digest
+
+    huge = 3**20_000  # 9,543 digits: repr() refuses integers of more than 4,300 (Python's default limit)
+    assert stable_digest((huge, "x")) == stable_digest((huge, "x"))
+    assert stable_digest(huge) != stable_digest(huge + 1)
+    # Equal data, equal digests; a different structure, another digest.
+    assert stable_digest({"a": [1, 2], "b": date(2026, 1, 1)}) == stable_digest({"a": [1, 2], "b": date(2026, 1, 1)})
+    assert stable_digest(("ab", "c")) != stable_digest(("a", "bc"))
+    assert stable_digest((1, (2, 3))) != stable_digest(((1, 2), 3))
+    assert stable_digest(None) != stable_digest(False) != stable_digest(0)
+    assert stable_digest(frozenset({"a", "b"})) == stable_digest(frozenset({"b", "a"}))
+    with pytest.raises(TypeError, match="expected plain data"):
+        stable_digest(object())

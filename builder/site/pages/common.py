@@ -127,7 +127,7 @@ class NavEntry:
 SitePages = Callable[["SiteContext"], list[Page]]
 #: Makes a kind's pages for one map, given its id.
 MapPages = Callable[["SiteContext", str], list[Page]]
-#: What a kind's pages for one map are made from, as plain data whose repr() is deterministic: an
+#: What a kind's pages for one map are made from, as plain data (builder.site.digest reads it): an
 #: incremental build renders the map's pages again only when this changes (builder.site.render).
 MapInputs = Callable[["SiteContext", str], object]
 #: The same for a kind made for the whole site.

@@ -212,10 +212,10 @@ def cycle_inputs(site: SiteContext, map_id: str) -> object:
                 c.id,
                 c.fingerprint,
                 c.start,
-                repr(c.provenance),
-                repr(site.records[key].history),
-                repr(_related(site, key, c.length)),
-                repr(site.reference_links(c.provenance.references)),
+                c.provenance,
+                site.records[key].history,
+                _related(site, key, c.length),
+                site.reference_links(c.provenance.references),
                 site.marks(key),
             )
         )

@@ -119,10 +119,10 @@ def map_inputs(site: SiteContext, map_id: str) -> object:
     mirror = site.maps[map_id].mirror_map
     rows = [(c.id, c.fingerprint, site.marks((map_id, c.id))) for c in site.cat.cycles.get(map_id, ())]
     return (
-        repr(entry),
-        repr(site.maps[map_id].history),
+        entry,
+        site.maps[map_id].history,
         (mirror, site.cat.maps[mirror].name) if mirror else None,
-        repr(site.reference_links(entry.references)),
+        site.reference_links(entry.references),
         site.coprime_count(map_id),
         rows,
     )
