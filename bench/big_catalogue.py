@@ -59,7 +59,7 @@ from builder.search.engine import hunt_range  # noqa: E402
 __all__ = ["GENERATOR_VERSION", "MAX_WORD_LENGTH", "Summary", "cached_catalogue", "main", "write_catalogue"]
 
 #: Bump when the output changes: cached catalogues with another version are generated again.
-GENERATOR_VERSION = "1"
+GENERATOR_VERSION = "2"
 #: Every cycle of the qx+d maps whose word has at most this many letters is listed.
 MAX_WORD_LENGTH = 20
 #: Coverage claims cover every start with |n| up to this, searched with these limits.
@@ -92,12 +92,6 @@ class Summary:
         )
 
 
-@dataclass(frozen=True)
-class Claim:
-    bound: int
-    unresolved: tuple[int, ...]
-
-
 @dataclass
 class Plan:
     """One map to write: its definition and text, and its cycles by canonical member (with their method)."""
@@ -108,11 +102,8 @@ class Plan:
     summary: str
     notes: str = ""
     references: tuple[str, ...] = ()
-    claim: Claim | None = None
+    claim: tuple[int, ...] | None = None  # the unresolved starts of its coverage claim, if it has one
     cycles: dict[int, tuple[CycleFound, str]] = field(default_factory=dict)
-
-
-# --- words and the cycle equation ----------------------------------------------------------------
 
 
 def lyndon_words(max_length: int) -> Iterator[tuple[int, ...]]:
@@ -179,9 +170,6 @@ def word_method(q: int, word: tuple[int, ...]) -> str:
         f"demo: the cycle equation n = d B(w) / (2^k - {q}^x) along a Lyndon word w of length {len(word)} with "
         f"{sum(word)} odd steps gives an integer start; confirmed by exact iteration"
     )
-
-
-# --- the maps ------------------------------------------------------------------------------------
 
 
 def signed(value: int) -> str:
@@ -262,7 +250,7 @@ def claim_for(plan: Plan) -> None:
             if plan.mapping.modulus == 2 and len(cycle.word) <= MAX_WORD_LENGTH:
                 raise AssertionError(f"{plan.id}: the search met {canonical}, which the word table missed")
             plan.cycles[canonical] = (cycle, method)
-    plan.claim = Claim(CLAIM_BOUND, tuple(result.unresolved))
+    plan.claim = tuple(result.unresolved)
 
 
 def fill_from_table(plan: Plan, table: WordTable, d: int) -> None:
@@ -313,16 +301,13 @@ def qx_notes(plan: Plan, q: int, d: int) -> str:
         f"*Demo entry* written by `bench/big_catalogue.py`. It lists every cycle of {q}x{signed(d)} whose parity "
         f"word has at most {MAX_WORD_LENGTH} letters, found through the [cycle equation]({CYCLE_EQUATION})"
     )
-    text += ", and those met by the search of its coverage claim.\n" if plan.claim else ".\n"
+    text += ", and those met by the search of its coverage claim.\n" if plan.claim is not None else ".\n"
     if q == 3:
         text += (
             f"\nEvery cycle of 3x+1 appears here multiplied by {d}, as in every 3x+d map "
             f"([Belaga and Mignotte]({THREE_X_PLUS_D})).\n"
         )
     return text
-
-
-# --- the whole catalogue -------------------------------------------------------------------------
 
 
 def plan_catalogue(scale: float, seed: int) -> list[Plan]:
@@ -340,7 +325,7 @@ def plan_catalogue(scale: float, seed: int) -> list[Plan]:
     for plan in rng.sample(plans[: counts[3]], max(2, counts[3] // 100)):
         claim_for(plan)
     for plan in plans:
-        if plan.claim or rng.random() < 1 / 12:
+        if plan.claim is not None or rng.random() < 1 / 12:
             q, d = plan.mapping.branches[1]
             plan.notes = qx_notes(plan, q, d)
     samples = max(3, round(10 * scale**0.5))
@@ -348,9 +333,12 @@ def plan_catalogue(scale: float, seed: int) -> list[Plan]:
         plans.append(long_word_plan(k, x, samples, tables[3], rng))
     for plan in residue_plans(max(2, round(maps_target / 100))):
         claim_for(plan)
+        left = (
+            f"{len(plan.claim or ())} starts were left unresolved" if plan.claim else "every orbit it followed settled"
+        )
         plan.notes = (
             f"*Demo entry.* The cycles listed are those met by the search of every start with |n| <= {CLAIM_BOUND:,}; "
-            "on average the map shrinks its argument, so every orbit it followed settled.\n"
+            f"on average the map shrinks its argument, and {left}.\n"
         )
         plans.append(plan)
     total = sum(len(p.cycles) for p in plans)
@@ -415,12 +403,12 @@ def map_text(plan: Plan) -> str:
         lines += [
             "coverage:",
             "  - kind: all-starts",
-            f"    bound: {plan.claim.bound}",
+            f"    bound: {CLAIM_BOUND}",
             f"    found_on: {FOUND_ON}",
-            f"    method: {yaml_string(f'demo: exhaustive search by bench/big_catalogue.py (the engine of periplus hunt) to {plan.claim.bound:,}')}",
+            f"    method: {yaml_string(f'demo: exhaustive search by bench/big_catalogue.py (the engine of periplus hunt) to {CLAIM_BOUND:,}')}",
             f"    max_steps: {CLAIM_STEPS}",
             f"    max_bits: {CLAIM_BITS}",
-            f"    unresolved: [{', '.join(map(str, plan.claim.unresolved))}]",
+            f"    unresolved: [{', '.join(map(str, plan.claim))}]",
         ]
     return "\n".join(lines) + "\n"
 
@@ -428,7 +416,7 @@ def map_text(plan: Plan) -> str:
 def cycle_note(cycle: CycleFound) -> str:
     odd = sum(r != 0 for r in cycle.word)
     return (
-        f"*Demo note.* This cycle has {len(cycle.word)} members, {odd} of them off the first branch; "
+        f"*Demo note.* This cycle has {len(cycle.word)} members; its word has {odd} nonzero letters, and "
         f"its least member in absolute value is `{cycle.members[0]}`. See the [cycle equation]({CYCLE_EQUATION})."
     )
 

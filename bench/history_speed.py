@@ -1,6 +1,6 @@
 """Benchmark: what releases and entry history add to `periplus build`.
 
-    python bench/build_speed.py [--releases N] [--repeat R]
+    python bench/history_speed.py [--releases N] [--repeat R]
 
 Copies the shipped catalogue into a fresh git repository in a temporary folder and
 times, best of R runs each:

@@ -162,9 +162,7 @@ def test_moreau_agrees_with_sympys_necklaces_for_small_lengths() -> None:
     # The formula used below, against an enumeration: sympy's necklaces (one representative per rotation
     # class), kept when aperiodic (no rotation by 1..k-1 fixes it).
     for k in range(1, 13):
-        found = Counter(
-            sum(n) for n in necklaces(k, 2) if all(tuple(n[r:] + n[:r]) != tuple(n) for r in range(1, k))
-        )
+        found = Counter(sum(n) for n in necklaces(k, 2) if all(tuple(n[r:] + n[:r]) != tuple(n) for r in range(1, k)))
         assert all(found[x] == moreau(k, x) for x in range(k + 1)), k
 
 
