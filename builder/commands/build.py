@@ -56,7 +56,9 @@ def run(args: argparse.Namespace) -> int:
         base_url = site_address(args.base_url)
         if base_url is None:
             raise UsageError(f"--base-url: expected {SITE_ADDRESS}, got '{args.base_url}'")
-    result = build_site(args.catalogue, args.out, limits_of(args), base_url, wait=not args.no_wait, jobs=args.jobs)
+    result = build_site(
+        args.catalogue, args.out, limits_of(args), base_url, wait=not args.no_wait, jobs=args.jobs, remove_later=True
+    )
     show_report(result.report)
     if not result.report.ok:
         print(f"nothing was written; {args.out} is as it was")

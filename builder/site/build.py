@@ -17,10 +17,12 @@ import ctypes.util
 import fcntl
 import os
 import shutil
+import subprocess
+import sys
 import tempfile
 from collections.abc import Iterator
 from contextlib import contextmanager
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 from builder.catalogue.model import Report
@@ -163,12 +165,16 @@ def build_site(
     wait: bool = True,
     jobs: int | None = None,
     reuse: bool = True,
+    remove_later: bool = False,
 ) -> BuildResult:
     """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically.
 
     ``wait`` False refuses at once (UsageError) when another build is writing ``out``, instead of waiting.
     ``jobs`` processes render the pages (default: one per usable core).  With ``reuse``, the pages whose
     inputs did not change are taken from the site already in ``out`` (hard links), not written again.
+    With ``remove_later``, the site replaced is removed by a process of its own once the new one is in
+    place, so the caller does not wait for it (a big site's folders take long to remove on some disks);
+    if that process is stopped, the next build removes what it left.
     """
     _check_target(out)
     _check_place(out)
@@ -179,15 +185,42 @@ def build_site(
     assert record is not None, "a catalogue that verifies has its record"
     history = read_history(catalogue, names=record.credit_committers)
     changelog, edition = read_changelog(report, history)
+    # The entries as written serve comparisons (the changelog, done now); the pages read the model.
+    report = replace(report, written={})
     views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)
     out = out.absolute()
     with _lock(out, wait):
         _check_target(out)  # another build may have written it while this one waited
-        pages = _write(views, out, jobs if jobs is not None else default_jobs(), reuse)
+        pages = _write(views, out, jobs if jobs is not None else default_jobs(), reuse, remove_later)
     return BuildResult(report, len(pages), edition, changelog, history)
 
 
-def _write(views: SiteViews, out: Path, jobs: int, reuse: bool) -> list[str]:
+def _remove(folder: Path, later: bool) -> None:
+    """Remove a folder this build no longer needs (a replaced site), now or in a process of its own."""
+    if not later:
+        shutil.rmtree(folder)
+        return
+    # A launcher that forks the remover and returns at once, so this process keeps no child running.
+    code = (
+        "import os, shutil, sys\n"
+        "if os.fork() == 0:\n"
+        "    os.setsid()\n"
+        "    shutil.rmtree(sys.argv[1], ignore_errors=True)\n"
+    )
+    try:
+        subprocess.run(
+            [sys.executable, "-c", code, str(folder)],
+            stdin=subprocess.DEVNULL,
+            stdout=subprocess.DEVNULL,
+            stderr=subprocess.DEVNULL,
+            check=True,
+            timeout=60,
+        )
+    except (OSError, subprocess.SubprocessError):
+        shutil.rmtree(folder, ignore_errors=True)
+
+
+def _write(views: SiteViews, out: Path, jobs: int, reuse: bool, remove_later: bool) -> list[str]:
     """Write the site into a staging folder beside ``out`` and swap it in; return the pages written."""
     staging = _staging(out)
     try:
@@ -197,7 +230,7 @@ def _write(views: SiteViews, out: Path, jobs: int, reuse: bool) -> list[str]:
         if not out.exists():
             staging.rename(out)
         elif _exchange(staging, out):
-            shutil.rmtree(staging)  # now holds the old site
+            _remove(staging, remove_later)  # now holds the old site
         else:
             retired = Path(tempfile.mkdtemp(prefix=_RETIRED.format(out.name), dir=out.parent))
             retired.rmdir()
@@ -207,7 +240,7 @@ def _write(views: SiteViews, out: Path, jobs: int, reuse: bool) -> list[str]:
             except BaseException:
                 retired.rename(out)  # put the previous site back before giving up
                 raise
-            shutil.rmtree(retired)
+            _remove(retired, remove_later)
     except BaseException:
         shutil.rmtree(staging, ignore_errors=True)
         raise

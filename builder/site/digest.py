@@ -1,10 +1,11 @@
 """Digests of what pages are made from, for incremental builds (builder.site.render).
 
-``stable_digest`` reads plain data (numbers, text, dates, paths, tuples, lists, dicts, sets and frozen
-dataclasses of them) into one SHA-256.  It is written here rather than taken from repr() or pickle: repr
-refuses integers of more than 4,300 digits, and pickle's bytes depend on which equal objects happen to
-be shared.  Integers go in as hexadecimal, which has no such limit.  A type it does not know is an
-error, so a page kind cannot hand it something whose text might change between equal values.
+``stable_digest`` reads plain data (numbers, text, dates, paths, tuples, lists, dicts and frozen
+dataclasses of them) into one SHA-256.  The data's repr() is that reading for every type handed here
+(pickle is not: its bytes depend on which equal objects happen to be shared), and it is fast; but
+repr refuses integers of more than 4,300 digits, so such data is read again item by item, with
+integers as hexadecimal, which has no such limit.  On that path a type it does not know is an error,
+and sets are refused on both: their order is not a property of their contents.
 """
 
 from __future__ import annotations
@@ -49,8 +50,6 @@ def _feed(h: Any, obj: object) -> None:
             _feed(h, key)
             _feed(h, value)
         h.update(b"}")
-    elif isinstance(obj, (set, frozenset)):
-        _feed(h, sorted(stable_digest(item) for item in obj))
     elif dataclasses.is_dataclass(obj) and not isinstance(obj, type):
         h.update(b"<" + type(obj).__qualname__.encode() + b">")
         for f in dataclasses.fields(obj):
@@ -62,6 +61,10 @@ def _feed(h: Any, obj: object) -> None:
 
 def stable_digest(obj: object) -> str:
     """The SHA-256 of ``obj`` read as plain data (hexadecimal)."""
-    h = hashlib.sha256()
-    _feed(h, obj)
-    return h.hexdigest()
+    try:
+        text = repr(obj)
+    except ValueError:  # an integer past the interpreter's limit for decimal text
+        h = hashlib.sha256(b"long:")
+        _feed(h, obj)
+        return h.hexdigest()
+    return hashlib.sha256(b"repr:" + text.encode("utf-8", "surrogatepass")).hexdigest()

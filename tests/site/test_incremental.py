@@ -150,6 +150,7 @@ def test_the_digest_reads_plain_data_of_any_size() -> None:
     assert stable_digest(("ab", "c")) != stable_digest(("a", "bc"))
     assert stable_digest((1, (2, 3))) != stable_digest(((1, 2), 3))
     assert stable_digest(None) != stable_digest(False) != stable_digest(0)
-    assert stable_digest(frozenset({"a", "b"})) == stable_digest(frozenset({"b", "a"}))
+    # Past the decimal limit the data is read item by item; a type not known there is refused.
+    assert stable_digest((huge, date(2026, 1, 1), Path("a/b"))) != stable_digest((huge, date(2026, 1, 2), Path("a/b")))
     with pytest.raises(TypeError, match="expected plain data"):
-        stable_digest(object())
+        stable_digest((huge, object()))

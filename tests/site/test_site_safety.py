@@ -17,6 +17,7 @@ import re
 import shutil
 import subprocess
 import sys
+import time
 import xml.etree.ElementTree as ET
 from pathlib import Path
 
@@ -598,7 +599,28 @@ def test_two_builds_into_one_folder_at_once_both_publish_a_whole_site(tmp_path: 
         errors = [p.communicate(timeout=300)[1] for p in procs]
         assert [p.returncode for p in procs] == [0, 0], errors
         assert tree_hashes(out) == expected
-        assert sorted(p.name for p in out.parent.iterdir()) == ["site"]
+        # The command removes a replaced site in a process of its own: wait for it.
+        assert settled_listing(out.parent) == ["site"]
+
+
+def settled_listing(parent: Path, timeout_s: float = 60.0) -> list[str]:
+    """The names in ``parent`` once no replaced site is still being removed (or after ``timeout_s``)."""
+    deadline = time.monotonic() + timeout_s
+    while True:
+        names = sorted(p.name for p in parent.iterdir())
+        if not any(".building-" in n or ".old-" in n for n in names) or time.monotonic() > deadline:
+            return names
+        time.sleep(0.05)
+
+
+def test_the_command_removes_the_replaced_site_after_it_is_done(previous: Path, cli) -> None:
+    # Issue 13: removing a big site's folders can take longer than building it incrementally, so the
+    # command leaves that to a process of its own; the new site is whole at once.
+    before = tree_hashes(previous)
+    run = cli("build", str(HOSTILE), "--out", str(previous))
+    assert run.code == 0
+    assert tree_hashes(previous) != before and (previous / "maps" / "hostile" / "index.html").is_file()
+    assert settled_listing(previous.parent) == ["site"]
 
 
 def test_the_site_does_not_depend_on_how_many_processes_wrote_it(tmp_path: Path) -> None:
