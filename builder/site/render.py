@@ -18,7 +18,7 @@ from pathlib import Path
 import jinja2
 
 from builder import __version__
-from builder.site.exports import atom_feed, catalogue_json, cycles_csv, map_json, search_index_js, sitemap_xml
+from builder.site.exports import atom_feed, catalogue_json, cycles_csv, map_json, search_files, sitemap_xml
 from builder.site.metadata import citation_cff, robots_txt
 from builder.site.pages import NAV
 from builder.site.views import SiteViews
@@ -68,7 +68,8 @@ def render_site(views: SiteViews, out: Path) -> list[str]:
     _write(out, "data/cycles.csv", cycles_csv(views))
     for map_id, record in views.maps.items():
         _write(out, f"data/maps/{map_id}.json", map_json(record))
-    _write(out, "data/search-index.js", search_index_js(views))
+    for rel, text in search_files(views):
+        _write(out, rel, text)
     _write(out, "feed.xml", atom_feed(views))
     _write(out, "sitemap.xml", sitemap_xml([p for p in pages if p != "404.html"], views.base_url))
     about = replace(views.record, base_url=views.base_url)
