@@ -30,6 +30,7 @@ from builder.catalogue.entries import cycle_file_id
 from builder.catalogue.limits import NO_RECHECK, Limits
 from builder.catalogue.verify import verify_catalogue
 from builder.site.exports import search_files
+from builder.site.render import render_site
 from builder.site.search_index import INDEX_FILE, SHARD_FOLDER, SearchLimits, map_order, search_index, shard_wrapper
 from builder.site.views import SiteViews, build_views
 
@@ -79,6 +80,10 @@ def write_index(files: Iterator[tuple[str, str]], root: Path, limits: SearchLimi
         path.parent.mkdir(parents=True, exist_ok=True)
         assert not path.exists(), f"{rel} written twice"
         path.write_text(text, encoding="utf-8", newline="\n")
+    return read_index(root, limits)
+
+
+def read_index(root: Path, limits: SearchLimits) -> Index:
     manifest = read_shard(root / INDEX_FILE, "index")
     shards = {p.stem: read_shard(p, p.stem) for p in sorted((root / SHARD_FOLDER).iterdir())}
     return Index(root, limits, manifest, shards)
@@ -174,7 +179,10 @@ def generated() -> list[GenMap]:
 
 @pytest.fixture(scope="module")
 def shipped_index(shipped_views: SiteViews, tmp_path_factory: pytest.TempPathFactory) -> Index:
-    return write_index(search_files(shipped_views), tmp_path_factory.mktemp("shipped"), SearchLimits())
+    """The index as a build writes it, with the rest of the site."""
+    root = tmp_path_factory.mktemp("shipped") / "site"
+    render_site(shipped_views, root)
+    return read_index(root, SearchLimits())
 
 
 @pytest.fixture(scope="module")
