@@ -6,7 +6,7 @@ import argparse
 from pathlib import Path
 
 from builder.catalogue.record import SITE_ADDRESS, site_address
-from builder.commands.options import Subcommands, add_catalogue, add_command, add_limits, limits_of
+from builder.commands.options import Subcommands, add_catalogue, add_command, add_limits, limits_of, positive
 from builder.commands.summary import show_report
 from builder.errors import UsageError
 from builder.history import NoHistory
@@ -38,6 +38,13 @@ def register(subparsers: Subcommands) -> None:
         action="store_true",
         help="if another build is writing DIR, stop at once (exit 2) instead of waiting for it to finish",
     )
+    parser.add_argument(
+        "--jobs",
+        type=positive,
+        default=None,
+        metavar="N",
+        help="processes that write the pages (default: the number of CPUs); the site does not depend on it",
+    )
     add_limits(parser)
     parser.set_defaults(run=run)
 
@@ -49,7 +56,7 @@ def run(args: argparse.Namespace) -> int:
         base_url = site_address(args.base_url)
         if base_url is None:
             raise UsageError(f"--base-url: expected {SITE_ADDRESS}, got '{args.base_url}'")
-    result = build_site(args.catalogue, args.out, limits_of(args), base_url, wait=not args.no_wait)
+    result = build_site(args.catalogue, args.out, limits_of(args), base_url, wait=not args.no_wait, jobs=args.jobs)
     show_report(result.report)
     if not result.report.ok:
         print(f"nothing was written; {args.out} is as it was")

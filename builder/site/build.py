@@ -28,7 +28,7 @@ from builder.catalogue.verify import Limits, verify_catalogue
 from builder.errors import UsageError
 from builder.history.changelog import Changelog, Edition, read_changelog
 from builder.history.repo import NoHistory, RepoHistory, read_history
-from builder.site.render import MARKER, render_site
+from builder.site.render import MARKER, default_jobs, render_site
 from builder.site.views import SiteViews, build_views
 
 __all__ = ["BuildResult", "build_site"]
@@ -155,11 +155,18 @@ def _clean_leftovers(parent: Path, name: str) -> None:
 
 
 def build_site(
-    catalogue: Path, out: Path, limits: Limits | None = None, base_url: str | None = None, *, wait: bool = True
+    catalogue: Path,
+    out: Path,
+    limits: Limits | None = None,
+    base_url: str | None = None,
+    *,
+    wait: bool = True,
+    jobs: int | None = None,
 ) -> BuildResult:
     """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically.
 
     ``wait`` False refuses at once (UsageError) when another build is writing ``out``, instead of waiting.
+    ``jobs`` processes render the pages (default: one per usable core).
     """
     _check_target(out)
     _check_place(out)
@@ -174,15 +181,15 @@ def build_site(
     out = out.absolute()
     with _lock(out, wait):
         _check_target(out)  # another build may have written it while this one waited
-        pages = _write(views, out)
+        pages = _write(views, out, jobs if jobs is not None else default_jobs())
     return BuildResult(report, len(pages), edition, changelog, history)
 
 
-def _write(views: SiteViews, out: Path) -> list[str]:
+def _write(views: SiteViews, out: Path, jobs: int) -> list[str]:
     """Write the site into a staging folder beside ``out`` and swap it in; return the pages written."""
     staging = _staging(out)
     try:
-        pages = render_site(views, staging)
+        pages = render_site(views, staging, jobs)
         os.chmod(staging, 0o755)  # mkdtemp makes it private; a site is for reading
         if not out.exists():
             staging.rename(out)

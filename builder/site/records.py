@@ -42,6 +42,7 @@ class AboutRecord:
     edition: str  # the edition's label
     release_status: str
     commit: str | None
+    edition_shown: str  # the label without the commit, as pages and the per-map files give it
 
     @classmethod
     def of(cls, record: Record, edition: Edition, base_url: str) -> AboutRecord:
@@ -56,6 +57,7 @@ class AboutRecord:
             edition.label,
             edition.status,
             edition.commit,
+            edition.shown,
         )
 
 

@@ -111,14 +111,14 @@ def _citations(site: SiteContext, entry: MapEntry, cycle: Cycle, title: str, per
     record, edition = site.record, site.edition
     where = f"entry {entry.id}/{cycle.id}, fingerprint {cycle.fingerprint}"
     cite = (
-        f"{title} (length {cycle.length}). {record.title}, {edition.label}, {where}, "
+        f"{title} (length {cycle.length}). {record.title}, {edition.shown}, {where}, "
         f"{permalink}. Found by {prov.found_by}, {prov.found_on.isoformat()}. "
         f"Data licence: {record.licence}."
     )
     bibtex = (
         f"@misc{{periplus:{entry.id}/{cycle.id},\n"
         f"  title        = {{{_bibtex(title)}}},\n"
-        f"  howpublished = {{{_bibtex(record.title)}, {_bibtex(edition.label)}, {_bibtex(where)}}},\n"
+        f"  howpublished = {{{_bibtex(record.title)}, {_bibtex(edition.shown)}, {_bibtex(where)}}},\n"
         f"  author       = {{{{{_bibtex(record.maintainers)}}}}},\n"
         f"  note         = {{Cycle of length {cycle.length}; found by {_bibtex(prov.found_by)}, "
         f"{prov.found_on.isoformat()}; data licence {_bibtex(record.licence)}}},\n"
@@ -181,7 +181,7 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle) -> Page:
         "history": site.history_view(r.history),
     }
     crumbs = (*MAPS_CRUMBS, Link(entry.name, map_url(entry.id)))
-    return Page(cycle_url(entry.id, cycle.id), "cycle.html", title, SECTION, context, crumbs)
+    return Page(cycle_url(entry.id, cycle.id), "cycle.html", title, SECTION, context, crumbs, in_site_map=False)
 
 
 def cycle_pages(site: SiteContext, map_id: str) -> list[Page]:
