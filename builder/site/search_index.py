@@ -14,9 +14,10 @@ truncated]`` (truncated is 1 when the cycle has more members than the index list
 - ``index`` (the manifest): the counts, the address pattern of cycle pages, and how each series
   below is cut;
 - ``m<i>``: members, each listed member of each cycle under shard CRC-32(decimal text) mod the
-  number of member shards, with the rows of every cycle that has it; a member in more cycles than
-  ``spill_rows`` has its rows in shards ``x<a>`` .. ``x<b-1>`` of its own, and the member shard
-  gives ``{"x": [a, b], "hits": n, "truncated": t}``;
+  number of member shards, with the rows of every cycle that has it; a member whose CRC-32 more
+  than ``spill_rows`` entries share (a member in many cycles, such as 0) has its rows in shards
+  ``x<a>`` .. ``x<b-1>`` of its own, and the member shard gives ``{"x": [a, b], "hits": n,
+  "truncated": t}`` (t of the n cycles have truncated members);
 - ``r<i>``: the rows, by rank range (a map's cycles are one range);
 - ``w<i>``: the words, by rank range (a word, or ``[word, modulus]`` for moduli above 10);
 - ``l<i>``: the rows by length, each with its word appended;

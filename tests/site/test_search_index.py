@@ -271,6 +271,16 @@ def expected_names(index: Index) -> set[str]:
     return names
 
 
+def test_the_index_is_the_same_every_time(shipped_views: SiteViews, shipped_index: Index) -> None:
+    # Two builds of one record write the same bytes (DEVELOPERS.md, "Deterministic output").
+    files = list(search_files(shipped_views))
+    assert files == list(search_files(shipped_views))
+    assert {rel: text for rel, text in files} == {
+        p.relative_to(shipped_index.root).as_posix(): p.read_text(encoding="utf-8")
+        for p in [shipped_index.root / INDEX_FILE, *sorted((shipped_index.root / SHARD_FOLDER).iterdir())]
+    }
+
+
 @pytest.mark.parametrize("name", INDEXES)
 def test_every_file_is_named_by_the_manifest(request: pytest.FixtureRequest, name: str) -> None:
     index: Index = request.getfixturevalue(name)
