@@ -44,7 +44,15 @@ from builder.site.search_index import INDEX_FILE, SEARCH_MEMBERS, SHARD_FOLDER, 
 from builder.site.views import SiteViews, build_views  # noqa: E402
 
 SEARCH_JS = ROOT / "templates" / "static" / "search.js"
-KINDS = {"m": "members", "x": "members' own rows", "r": "rows", "w": "words", "l": "lengths", "k": "map keys", "t": "long cycles"}
+KINDS = {
+    "m": "members",
+    "x": "members' own rows",
+    "r": "rows",
+    "w": "words",
+    "l": "lengths",
+    "k": "map keys",
+    "t": "long cycles",
+}
 
 
 def peak_mb() -> float:
@@ -129,7 +137,10 @@ def query_figures(site: Site, views: SiteViews) -> list[tuple[str, int]]:
     return [
         ("member query, worst member shard", fixed + worst),
         ("member query, median of a sample", fixed + int(statistics.median(typical))),
-        (f"map query {biggest.name} ({count:,} cycles)", fixed + site.size(key_shard) + sum(site.size(f"r{i}") for i in row_files)),
+        (
+            f"map query {biggest.name} ({count:,} cycles)",
+            fixed + site.size(key_shard) + sum(site.size(f"r{i}") for i in row_files),
+        ),
         (f"length query {common[0]}", fixed + sum(site.size(f"l{i}") for i in range(common[1], common[2] + 1))),
         ("word query alone (words, then the first rows)", fixed + words + site.size("r0")),
     ]
@@ -151,7 +162,9 @@ def main(argv: list[str] | None = None) -> int:
         print(f"{args.catalogue} does not verify")
         return 1
     views = build_views(report.catalogue)
-    print(f"{args.catalogue}: {len(views.cycles):,} cycles in {len(views.maps):,} maps (read in {time.perf_counter() - t0:.1f} s)")
+    print(
+        f"{args.catalogue}: {len(views.cycles):,} cycles in {len(views.maps):,} maps (read in {time.perf_counter() - t0:.1f} s)"
+    )
     work = Path(tempfile.mkdtemp(prefix="search-index-"))
     out = args.out or work / "site"
     try:
@@ -178,7 +191,9 @@ def main(argv: list[str] | None = None) -> int:
         for prefix, kind in KINDS.items():
             sizes = [p.stat().st_size for p in files if p.stem[0] == prefix]
             if sizes:
-                print(f"  {kind:18} {len(sizes):6,} files, {sum(sizes) / 2**20:7.2f} MB, largest {max(sizes) / 1024:6.1f} KB")
+                print(
+                    f"  {kind:18} {len(sizes):6,} files, {sum(sizes) / 2**20:7.2f} MB, largest {max(sizes) / 1024:6.1f} KB"
+                )
         print(f"search.js: {SEARCH_JS.stat().st_size / 1024:.1f} KB; downloads, every script included:")
         for what, size in query_figures(site, views):
             print(f"  {what:48} {size / 1024:8.1f} KB")
