@@ -162,11 +162,13 @@ def build_site(
     *,
     wait: bool = True,
     jobs: int | None = None,
+    reuse: bool = True,
 ) -> BuildResult:
     """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically.
 
     ``wait`` False refuses at once (UsageError) when another build is writing ``out``, instead of waiting.
-    ``jobs`` processes render the pages (default: one per usable core).
+    ``jobs`` processes render the pages (default: one per usable core).  With ``reuse``, the pages whose
+    inputs did not change are taken from the site already in ``out`` (hard links), not written again.
     """
     _check_target(out)
     _check_place(out)
@@ -181,15 +183,16 @@ def build_site(
     out = out.absolute()
     with _lock(out, wait):
         _check_target(out)  # another build may have written it while this one waited
-        pages = _write(views, out, jobs if jobs is not None else default_jobs())
+        pages = _write(views, out, jobs if jobs is not None else default_jobs(), reuse)
     return BuildResult(report, len(pages), edition, changelog, history)
 
 
-def _write(views: SiteViews, out: Path, jobs: int) -> list[str]:
+def _write(views: SiteViews, out: Path, jobs: int, reuse: bool) -> list[str]:
     """Write the site into a staging folder beside ``out`` and swap it in; return the pages written."""
     staging = _staging(out)
     try:
-        pages = render_site(views, staging, jobs)
+        previous = out if reuse and (out / MARKER).is_file() else None
+        pages = render_site(views, staging, jobs, previous)
         os.chmod(staging, 0o755)  # mkdtemp makes it private; a site is for reading
         if not out.exists():
             staging.rename(out)

@@ -58,6 +58,9 @@ class Unit:
     name: str  # unique within a build: "map:<id>" or "site:<kind>"
     cost: int  # a rough measure of its work, to share units evenly among processes
     make: Callable[[SiteContext], list[Page]]
+    # What its pages are made from (None: unknown, so an incremental build always makes them).
+    inputs: Callable[[SiteContext], object] | None = None
+    map_id: str | None = None  # for the unit of one map
 
 
 def _map_unit(kinds: tuple[PageKind, ...], map_id: str, cycles: int) -> Unit:
@@ -68,12 +71,20 @@ def _map_unit(kinds: tuple[PageKind, ...], map_id: str, cycles: int) -> Unit:
             pages += kind.map_pages(site, map_id)
         return pages
 
-    return Unit(f"map:{map_id}", 4 + cycles, make)
+    def inputs(site: SiteContext) -> object:
+        parts = []
+        for kind in kinds:
+            assert kind.map_inputs is not None
+            parts.append(kind.map_inputs(site, map_id))
+        return parts
+
+    known = all(kind.map_inputs is not None for kind in kinds)
+    return Unit(f"map:{map_id}", 4 + cycles, make, inputs if known else None, map_id)
 
 
 def _site_unit(kind: PageKind, cost: int) -> Unit:
     assert kind.site_pages is not None
-    return Unit(f"site:{kind.name}", cost, kind.site_pages)
+    return Unit(f"site:{kind.name}", cost, kind.site_pages, kind.site_inputs)
 
 
 def page_units(site: SiteContext) -> list[Unit]:

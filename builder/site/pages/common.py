@@ -18,6 +18,8 @@ __all__ = [
     "HOME_CRUMBS",
     "PAGE_ROWS",
     "IndexPages",
+    "MapInputs",
+    "SiteInputs",
     "Link",
     "MapPages",
     "NavEntry",
@@ -125,6 +127,11 @@ class NavEntry:
 SitePages = Callable[["SiteContext"], list[Page]]
 #: Makes a kind's pages for one map, given its id.
 MapPages = Callable[["SiteContext", str], list[Page]]
+#: What a kind's pages for one map are made from, as plain data (builder.site.digest reads it): an
+#: incremental build renders the map's pages again only when this changes (builder.site.render).
+MapInputs = Callable[["SiteContext", str], object]
+#: The same for a kind made for the whole site.
+SiteInputs = Callable[["SiteContext"], object]
 #: Makes a kind's pages once every other page is written, given what was written (the site map).
 IndexPages = Callable[["SiteContext", Sequence[PageInfo]], list[Page]]
 
@@ -139,6 +146,11 @@ class PageKind:
     map_pages: MapPages | None = None
     nav: NavEntry | None = None
     index_pages: IndexPages | None = None
+    # What its pages read, beyond what every page reads (the record, the edition, the code): without
+    # it, an incremental build makes the kind's pages every time.  Every value a page shows must follow
+    # from it: tests/site/test_incremental.py builds after each kind of change and compares.
+    map_inputs: MapInputs | None = None
+    site_inputs: SiteInputs | None = None
 
     def __post_init__(self) -> None:
         ways = (self.site_pages, self.map_pages, self.index_pages)

@@ -35,4 +35,9 @@ def family_pages(site: SiteContext) -> list[Page]:
     return pages
 
 
-KIND = PageKind("families", site_pages=family_pages)
+def family_inputs(site: SiteContext) -> object:
+    """What the family pages show: every map's row, family by family."""
+    return [(family, site.map_rows(map_ids)) for family, map_ids in site.families()]
+
+
+KIND = PageKind("families", site_pages=family_pages, site_inputs=family_inputs)

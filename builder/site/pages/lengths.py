@@ -56,4 +56,15 @@ def length_pages(site: SiteContext) -> list[Page]:
     return [index, *pages]
 
 
-KIND = PageKind("lengths", site_pages=length_pages, nav=NavEntry(SECTION, "Lengths", "lengths/index.html", place=3))
+def length_inputs(site: SiteContext) -> object:
+    """What the length pages show: each cycle's row (its fingerprint fixes the numbers), and the maps' names and order."""
+    names = [(map_id, site.cat.maps[map_id].name) for map_id in site.map_order]
+    return names, [(key, r.fingerprint, site.marks(key)) for key, r in site.records.items()]
+
+
+KIND = PageKind(
+    "lengths",
+    site_pages=length_pages,
+    site_inputs=length_inputs,
+    nav=NavEntry(SECTION, "Lengths", "lengths/index.html", place=3),
+)

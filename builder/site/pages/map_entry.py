@@ -112,4 +112,20 @@ def map_pages(site: SiteContext, map_id: str) -> list[Page]:
     return pages
 
 
-KIND = PageKind("map", map_pages=map_pages)
+def map_inputs(site: SiteContext, map_id: str) -> object:
+    """What the map's pages and its table pages show: the entry, its history and mirror, the sources it
+    cites, and for each cycle what its row shows (the fingerprint fixes the members, length and word)."""
+    entry = site.cat.maps[map_id]
+    mirror = site.maps[map_id].mirror_map
+    rows = [(c.id, c.fingerprint, site.marks((map_id, c.id))) for c in site.cat.cycles.get(map_id, ())]
+    return (
+        entry,
+        site.maps[map_id].history,
+        (mirror, site.cat.maps[mirror].name) if mirror else None,
+        site.reference_links(entry.references),
+        site.coprime_count(map_id),
+        rows,
+    )
+
+
+KIND = PageKind("map", map_pages=map_pages, map_inputs=map_inputs)
