@@ -153,7 +153,7 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--out", type=Path, help="keep the index in this new folder (default: a temporary one)")
     args = parser.parse_args(argv)
     if args.catalogue is None:
-        from bench.big_catalogue import cached_catalogue
+        from big_catalogue import cached_catalogue  # beside this script
 
         args.catalogue = cached_catalogue(args.scale)
     t0 = time.perf_counter()

@@ -18,7 +18,7 @@ from xml.sax.saxutils import escape, quoteattr
 from builder.arith.fingerprint import FINGERPRINT_DIGITS, FINGERPRINT_HEADER
 from builder.catalogue.model import Reference
 from builder.site.records import AboutRecord, CycleRecord, HistoryRecord, MapRecord
-from builder.site.search_index import DEFAULT_LIMITS, SearchLimits, map_order, search_index
+from builder.site.search_index import DEFAULT_LIMITS, ListedMap, SearchLimits, map_order, search_index
 from builder.site.views import SiteViews
 
 __all__ = [
@@ -222,7 +222,7 @@ def search_files(views: SiteViews, limits: SearchLimits = DEFAULT_LIMITS) -> Ite
     (builder.site.search_index.map_order), then by least |member|.
     """
     maps = sorted(views.maps.values(), key=lambda m: map_order(m.id, m.name, m.modulus, m.branches))
-    return search_index(maps, limits)
+    return search_index([ListedMap(m, limits.members) for m in maps], limits)
 
 
 def _entry_id(*parts: str) -> str:

@@ -271,8 +271,9 @@ def _search_export(views: SiteViews, writer: Writer, env: jinja2.Environment) ->
 
 def _search_inputs(views: SiteViews) -> object:
     """What the search index holds: each cycle's key and fingerprint (which fix its members, word and
-    length) and its map's name."""
-    return [(c.map_id, c.id, c.fingerprint, views.maps[c.map_id].name) for c in views.cycles]
+    length) and its map's name, and the id and name of every map (maps without cycles are searchable)."""
+    cycles = [(c.map_id, c.id, c.fingerprint, views.maps[c.map_id].name) for c in views.cycles]
+    return [cycles, [(m.id, m.name) for m in views.maps.values()]]
 
 
 def _perform(

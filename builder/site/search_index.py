@@ -37,13 +37,15 @@ import re
 import zlib
 from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass
+from itertools import islice
 from typing import Any, Protocol
 
 import numpy as np
 
 from builder.arith.dynamics import AffineMap, shortcut_form
-from builder.arith.integers import parse_decimal
+from builder.arith.integers import parse_decimal, to_decimal
 from builder.site.paths import cycle_url
+from builder.site.records import CycleRecord, MapRecord
 
 __all__ = [
     "DEFAULT_LIMITS",
@@ -52,6 +54,8 @@ __all__ = [
     "SHARD_FOLDER",
     "IndexedCycle",
     "IndexedMap",
+    "ListedCycle",
+    "ListedMap",
     "SearchLimits",
     "map_key",
     "map_order",
@@ -112,7 +116,47 @@ class IndexedMap(Protocol):
     @property
     def modulus(self) -> int: ...
     @property
-    def cycles(self) -> Sequence[IndexedCycle]: ...
+    def cycles(self) -> Iterable[IndexedCycle]: ...
+
+
+@dataclass(frozen=True, slots=True)
+class ListedCycle:
+    """A cycle with only the members the index lists written out (a record writes out all of them)."""
+
+    id: str
+    canonical: str
+    length: int
+    word: str
+    members: tuple[str, ...]
+
+    @classmethod
+    def of(cls, record: CycleRecord, listed: int) -> ListedCycle:
+        members = tuple(to_decimal(n) for n in islice(record.cycle.canonical_members, listed))
+        return cls(record.id, record.canonical, record.length, record.word, members)
+
+
+@dataclass(frozen=True, slots=True)
+class ListedMap:
+    """A map whose cycles are made into ListedCycles one at a time, as the index reads them."""
+
+    record: MapRecord
+    listed: int
+
+    @property
+    def id(self) -> str:
+        return self.record.id
+
+    @property
+    def name(self) -> str:
+        return self.record.name
+
+    @property
+    def modulus(self) -> int:
+        return self.record.modulus
+
+    @property
+    def cycles(self) -> Iterator[ListedCycle]:
+        return (ListedCycle.of(c, self.listed) for c in self.record.cycles)
 
 
 def map_order(
@@ -196,7 +240,7 @@ class _Table:
             head = f"{_js(m.id)},{_js(m.name)}"  # once a map: names are free text, escaped by _js
             for c in m.cycles:
                 rank = len(table.rows)
-                cut = len(c.members) > listed
+                cut = c.length > listed  # a cycle of length k has k members
                 fields = f"{_plain(c.id)},{_plain(c.canonical)},{c.length},{m.modulus},{int(cut)}"
                 table.rows.append(f"[{rank},{head},{fields}]")
                 table.words.append(_plain(c.word) if m.modulus <= 10 else _js([c.word, m.modulus]))
@@ -205,7 +249,8 @@ class _Table:
                 table.cut.append(cut)
                 if cut:
                     table.truncated.append(rank)
-            entry = _js([m.id, m.name, first, len(table.rows) - first])
+            count = len(table.rows) - first  # a map without cycles is at rank 0, wherever it would sort
+            entry = _js([m.id, m.name, first if count else 0, count])
             for key in sorted({map_key(m.id), map_key(m.name)}):
                 table.keys.setdefault(key, []).append(entry)
         return table

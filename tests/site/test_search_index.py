@@ -3,8 +3,8 @@ and, under node when it is installed, the search page's own script answering que
 
 Three indexes are checked: the shipped catalogue's as a build writes it; the same with tight limits
 (5 members a cycle, 4 KB files, members in more than 3 cycles spilled), so that every kind of file
-comes in several parts; and a generated record of about 3,500 real cycles of 3x+d maps (made here
-from the cycle equation and confirmed by iteration; demo data, written by this test).
+comes in several parts; and the big demo catalogue of bench/big_catalogue.py at scale 0.1 (about
+5,000 cycles in 300 maps).
 """
 
 from __future__ import annotations
@@ -13,26 +13,28 @@ import json
 import re
 import shutil
 import subprocess
+import sys
 import zlib
 from collections import Counter
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
-from math import gcd
 from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import REPO, cycle_offset
-from sympy import mobius
+from conftest import REPO
 
-from builder.arith.words import word_text
-from builder.catalogue.entries import cycle_file_id
 from builder.catalogue.limits import NO_RECHECK, Limits
 from builder.catalogue.verify import verify_catalogue
 from builder.site.exports import search_files
+from builder.site.records import MapRecord
 from builder.site.render import render_site
-from builder.site.search_index import INDEX_FILE, SHARD_FOLDER, SearchLimits, map_order, search_index, shard_wrapper
+from builder.site.search_index import INDEX_FILE, SHARD_FOLDER, SearchLimits, map_order, shard_wrapper
 from builder.site.views import SiteViews, build_views
+
+sys.path.insert(0, str(REPO / "bench"))
+
+from big_catalogue import cached_catalogue  # noqa: E402
 
 SEARCH_JS = REPO / "templates" / "static" / "search.js"
 DRIVER = Path(__file__).with_name("search_driver.js")
@@ -99,82 +101,11 @@ def shipped_views() -> SiteViews:
     return build_views(report.catalogue)
 
 
-@dataclass(frozen=True)
-class GenCycle:
-    id: str
-    canonical: str
-    length: int
-    word: str
-    members: tuple[str, ...]
-
-
-@dataclass(frozen=True)
-class GenMap:
-    id: str
-    name: str
-    modulus: int
-    branches: tuple[tuple[str, str], ...]
-    cycles: tuple[GenCycle, ...]
-
-
-def lyndon_words(n: int) -> Iterator[str]:
-    """The binary Lyndon words of length 1 to n (J.-P. Duval, Theoret. Comput. Sci. 60 (1988) 255-283)."""
-    w = [-1]
-    while w:
-        w[-1] += 1
-        yield "".join(map(str, w))
-        m = len(w)
-        while len(w) < n:
-            w.append(w[-m])
-        while w and w[-1] == 1:
-            w.pop()
-
-
-def cycle_through(start: int, d: int, length: int) -> tuple[int, ...]:
-    """The orbit of start under n/2, (3n+d)/2, which must return to start after length steps."""
-    members, n = [], start
-    for _ in range(length):
-        members.append(n)
-        n = n // 2 if n % 2 == 0 else (3 * n + d) // 2
-    assert n == start, (start, d)
-    return tuple(members)
-
-
-def generated_maps(bound: int = 600, longest: int = 14) -> list[GenMap]:
-    """Every cycle of 3x+d (|d| <= bound, d coprime to 6) whose word has at most ``longest`` letters, and
-    four long-word maps with d = 2^k - 3^x whose members pass 64 bits.  Demo data.
-
-    The cycle equation (J. C. Lagarias, Acta Arith. 56 (1990) 33-53, Thm 2.1, via
-    /work/shared/literature.md): the word w of length k with x ones is the parity vector of the cycle
-    of 3x+d starting at d B(w) / (2^k - 3^x), an integer cycle exactly when that quotient is one.
-    """
-    found: dict[int, dict[int, tuple[int, ...]]] = {}
-    words = [(w, bound) for w in lyndon_words(longest)]
-    words += [("0" * (k - x) + "1" * x, 0) for k, x in ((64, 40), (63, 40), (72, 45), (80, 50))]
-    for w, reach in words:
-        k, x, b = len(w), w.count("1"), cycle_offset(w)
-        target = 2**k - 3**x
-        step = abs(target // gcd(b, target))
-        ds = [m * step for m in range(-(reach // step), reach // step + 1)] if reach else [target]
-        for d in ds:
-            if d % 2 and d % 3:
-                members = cycle_through(d * b // target, d, k)
-                least = min(range(k), key=lambda i: (abs(members[i]), members[i] < 0))
-                found.setdefault(d, {})[members[least]] = members[least:] + members[:least]
-    maps = []
-    for d, cycles in found.items():
-        records = tuple(
-            GenCycle(cycle_file_id(c), str(c), len(ms), word_text(tuple(n % 2 for n in ms), 2), tuple(map(str, ms)))
-            for c, ms in sorted(cycles.items(), key=lambda kv: (abs(kv[0]), kv[0] < 0))
-        )
-        sign = "plus" if d > 0 else "minus"
-        maps.append(GenMap(f"3x-{sign}-{abs(d)}", f"3x{d:+d}", 2, (("1", "0"), ("3", str(d))), records))
-    return sorted(maps, key=lambda m: map_order(m.id, m.name, m.modulus, m.branches))
-
-
 @pytest.fixture(scope="module")
-def generated() -> list[GenMap]:
-    return generated_maps()
+def big_views() -> SiteViews:
+    report = verify_catalogue(cached_catalogue(0.1), Limits(recheck_up_to=NO_RECHECK))
+    assert report.ok
+    return build_views(report.catalogue)
 
 
 @pytest.fixture(scope="module")
@@ -191,49 +122,25 @@ def tight_index(shipped_views: SiteViews, tmp_path_factory: pytest.TempPathFacto
 
 
 @pytest.fixture(scope="module")
-def generated_index(generated: list[GenMap], tmp_path_factory: pytest.TempPathFactory) -> Index:
-    return write_index(search_index(generated), tmp_path_factory.mktemp("generated"), SearchLimits())
+def big_index(big_views: SiteViews, tmp_path_factory: pytest.TempPathFactory) -> Index:
+    return write_index(search_files(big_views), tmp_path_factory.mktemp("big"), SearchLimits())
 
 
-INDEXES = ["shipped_index", "tight_index", "generated_index"]
+INDEXES = ["shipped_index", "tight_index", "big_index"]
 
 
-def ordered_maps(request: pytest.FixtureRequest, name: str) -> Sequence[Any]:
+def ordered_maps(request: pytest.FixtureRequest, name: str) -> list[MapRecord]:
     """The maps of an index, in the order the index ranks them."""
-    if name == "generated_index":
-        maps: list[GenMap] = request.getfixturevalue("generated")
-        return maps
-    views: SiteViews = request.getfixturevalue("shipped_views")
+    views: SiteViews = request.getfixturevalue("big_views" if name == "big_index" else "shipped_views")
     return sorted(views.maps.values(), key=lambda m: map_order(m.id, m.name, m.modulus, m.branches))
 
 
-# --- the generator and the hash, against outside facts ---------------------------------------------------
+def listed(maps: Sequence[MapRecord], count: int) -> list[tuple[str, ...]]:
+    """The members each cycle lists, by rank (a record writes its members out each time it is asked)."""
+    return [c.members[:count] for m in maps for c in m.cycles]
 
 
-def test_the_generator_lists_every_lyndon_word() -> None:
-    # The number of binary Lyndon words of length n is (1/n) sum_{e | n} mu(e) 2^(n/e) (Moreau's necklace
-    # formula, common practice, no source at hand); mobius from sympy.
-    counts = {n: 0 for n in range(1, 15)}
-    for w in lyndon_words(14):
-        counts[len(w)] += 1
-    for n, found in counts.items():
-        assert found == sum(mobius(e) * 2 ** (n // e) for e in range(1, n + 1) if n % e == 0) // n
-
-
-def test_the_generated_record_holds_published_cycles(generated: list[GenMap]) -> None:
-    by_name = {m.name: m for m in generated}
-    # J. C. Lagarias, Amer. Math. Monthly 92 (1985), via /work/shared/literature.md (memory): 3x+1 has the
-    # cycles through 0, 1, -1, -5, -17 with shortcut lengths 1, 2, 1, 3, 11.
-    expected = [("0", 1), ("1", 2), ("-1", 1), ("-5", 3), ("-17", 11)]
-    assert [(c.canonical, c.length) for c in by_name["3x+1"].cycles] == expected
-    # Belaga and Mignotte 2006 via literature.md (recomputed there): positive cycles of 3x+5 coprime to 5
-    # with words of at most 14 letters have least members 1, 19, 23 (lengths 3, 5, 5).
-    positive = [
-        (c.canonical, c.length) for c in by_name["3x+5"].cycles if int(c.canonical) > 0 and int(c.canonical) % 5
-    ]
-    assert positive == [("1", 3), ("19", 5), ("23", 5)]
-    assert 3000 <= sum(len(m.cycles) for m in generated) <= 5000
-    assert max(len(m) for mp in generated for c in mp.cycles for m in c.members) > 20  # members beyond 64 bits
+# --- the hash ----------------------------------------------------------------------------------------------
 
 
 def crc32_bitwise(data: bytes) -> int:
@@ -297,7 +204,7 @@ def test_rows_give_every_cycle_once_in_natural_order(request: pytest.FixtureRequ
     index: Index = request.getfixturevalue(name)
     maps = ordered_maps(request, name)
     expected = [
-        [m.id, m.name, c.id, c.canonical, c.length, m.modulus, int(len(c.members) > index.limits.members)]
+        [m.id, m.name, c.id, c.canonical, c.length, m.modulus, int(c.length > index.limits.members)]
         for m in maps
         for c in m.cycles
     ]
@@ -321,14 +228,11 @@ def test_rows_give_every_cycle_once_in_natural_order(request: pytest.FixtureRequ
 @pytest.mark.parametrize("name", INDEXES)
 def test_every_listed_member_is_in_the_shard_its_hash_names(request: pytest.FixtureRequest, name: str) -> None:
     index: Index = request.getfixturevalue(name)
-    listed = index.limits.members
     expected: dict[str, set[int]] = {}
-    rank = 0
-    for m in ordered_maps(request, name):
-        for c in m.cycles:
-            for member in c.members[:listed]:
-                expected.setdefault(member, set()).add(rank)
-            rank += 1
+    for rank, members in enumerate(listed(ordered_maps(request, name), index.limits.members)):
+        assert len(members) == min(index.limits.members, index.rows()[rank][5])  # as many as its length
+        for member in members:
+            expected.setdefault(member, set()).add(rank)
     found: dict[str, set[int]] = {}
     spilled = 0
     for i in range(index.manifest["members"]):
@@ -336,7 +240,7 @@ def test_every_listed_member_is_in_the_shard_its_hash_names(request: pytest.Fixt
             assert crc32_bitwise(member.encode("ascii")) % index.manifest["members"] == i, member
             if isinstance(entry, dict):
                 rows = [r for x in range(*entry["x"]) for r in index.data(f"x{x}")]
-                assert entry["hits"] == len(rows) > index.limits.spill_rows
+                assert entry["hits"] == len(rows)  # more than spill_rows, with any member of the same CRC-32
                 assert entry["truncated"] == sum(r[7] for r in rows)
                 spilled += 1
             else:
@@ -347,6 +251,10 @@ def test_every_listed_member_is_in_the_shard_its_hash_names(request: pytest.Fixt
     assert found == expected
     if name == "tight_index":
         assert spilled > 0  # -2 is in more than 3 cycles of the shipped record
+    if name == "big_index":
+        # 0 is a fixed point of every qx+d map (common practice, no source): in more than 64 cycles.
+        assert isinstance(index.data(f"m{crc32_bitwise(b'0') % index.manifest['members']}")["0"], dict)
+        assert max(len(m) for m in expected) > 20  # members beyond 64 bits, as in the records of the field
 
 
 @pytest.mark.parametrize("name", INDEXES)
@@ -376,9 +284,9 @@ def test_map_keys_name_each_map_by_its_whole_id_and_name(request: pytest.Fixture
     for m in ordered_maps(request, name):
         for key in {m.id.lower(), "".join(m.name.split()).lower()}:
             entries = index.data(f"k{crc32_bitwise(key.encode('utf-8')) % keys}")[key]
-            assert [m.id, m.name, first, len(m.cycles)] in entries
+            assert [m.id, m.name, first if m.cycles else 0, len(m.cycles)] in entries
         first += len(m.cycles)
-    if name != "generated_index":
+    if name != "big_index":
         shard = index.data(f"k{crc32_bitwise(b'3x+5') % keys}")
         assert [e[0] for e in shard["3x+5"]] == ["3x-plus-5"]  # not 3x+53, 3x+55 or 3x+59
         assert "3x+1(standardform)" in index.data(f"k{crc32_bitwise(b'3x+1(standardform)') % keys}")
@@ -433,15 +341,15 @@ def run_driver(root: Path, queries: list[dict[str, str]], *extra: str) -> list[d
     return [json.loads(line) for line in result.stdout.splitlines()]
 
 
-def queries_for(maps: Sequence[Any], listed: int) -> list[dict[str, str]]:
+def queries_for(maps: Sequence[MapRecord], count: int) -> list[dict[str, str]]:
     """Queries of every kind, from the record's own data: members (first, middle, beyond the listed ones,
     in no cycle), maps (whole name, id, other spelling, part, none), lengths, words, and mixtures."""
     cycles = [(m, c) for m in maps for c in m.cycles]
     longest = max(cycles, key=lambda mc: mc[1].length)
-    busiest = Counter(n for _, c in cycles for n in c.members[:listed]).most_common(1)[0][0]
+    busiest = Counter(n for members in listed(maps, count) for n in members).most_common(1)[0][0]
     some = [cycles[i] for i in range(0, len(cycles), max(1, len(cycles) // 12))]
     out: list[dict[str, str]] = [{"member": c.canonical} for _, c in some]
-    out += [{"member": c.members[len(c.members) // 2]} for _, c in some]
+    out += [{"member": c.members[c.length // 2]} for _, c in some]
     out += [{"member": busiest}, {"member": longest[1].members[-1]}, {"member": "0"}, {"member": "987654321987654321"}]
     out += [{"member": " +00" + busiest}, {"member": "\u2212" + busiest.lstrip("-")}, {"member": "x1"}]
     out += [{"map": m.name} for m, _ in some] + [{"map": m.id.upper()} for m, _ in some[:3]]
@@ -463,7 +371,7 @@ def queries_for(maps: Sequence[Any], listed: int) -> list[dict[str, str]]:
     return out
 
 
-def expected_matches(maps: Sequence[Any], q: dict[str, str], listed: int) -> list[int]:
+def expected_matches(maps: Sequence[MapRecord], q: dict[str, str], members: list[tuple[str, ...]]) -> list[int]:
     """The ranks a plain query must find, by the rules of the search page written out again here (common
     practice, no source): exact members among the listed ones, whole map name or id else part of one,
     exact length, and a digit fragment read round the cyclic word."""
@@ -475,7 +383,7 @@ def expected_matches(maps: Sequence[Any], q: dict[str, str], listed: int) -> lis
     for m in maps:
         for c in m.cycles:
             ok = (not needle or m.id in chosen) and q.get("length", "") in ("", str(c.length))
-            ok = ok and (q.get("member", "") == "" or q["member"] in c.members[:listed])
+            ok = ok and (q.get("member", "") == "" or q["member"] in members[rank])
             fragment = q.get("word", "")
             ok = ok and fragment in c.word * (len(fragment) // max(1, len(c.word)) + 2)
             if ok:
@@ -490,6 +398,7 @@ def test_the_page_finds_what_the_whole_index_holds(request: pytest.FixtureReques
     index: Index = request.getfixturevalue(name)
     maps = ordered_maps(request, name)
     queries = queries_for(maps, index.limits.members)
+    members = listed(maps, index.limits.members)
     answers = run_driver(index.root, queries)
     assert len(answers) == len(queries)
     spilled = fallback = unsearchable = 0
@@ -505,7 +414,7 @@ def test_the_page_finds_what_the_whole_index_holds(request: pytest.FixtureReques
         unsearchable += sharded["unsearchable"] > 0
         plain = all(re.fullmatch(r"-?[1-9]\d*|0", v) or k != "member" for k, v in q.items())
         if plain and "," not in q.get("word", "") and " " not in q.get("map", "") and q.get("map") != "3X + 5":
-            ranks = expected_matches(maps, q, index.limits.members)
+            ranks = expected_matches(maps, q, members)
             assert (sharded["count"], sharded["ranks"]) == (len(ranks), ranks[:200]), q
         if set(q) == {"member"}:
             total = sum(f["bytes"] for f in loaded) + SEARCH_JS.stat().st_size + index.size("index")
