@@ -6,6 +6,8 @@ beside the catalogued counts (builder.arith.odds).
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 from markupsafe import Markup
 
 from builder.arith.integers import to_decimal
@@ -119,7 +121,7 @@ def map_inputs(site: SiteContext, map_id: str) -> object:
     mirror = site.maps[map_id].mirror_map
     rows = [(c.id, c.fingerprint, site.marks((map_id, c.id))) for c in site.cat.cycles.get(map_id, ())]
     return (
-        entry,
+        replace(entry, path=entry.path.relative_to(site.cat.root)),  # where the catalogue lies is not shown
         site.maps[map_id].history,
         (mirror, site.cat.maps[mirror].name) if mirror else None,
         site.reference_links(entry.references),
