@@ -35,9 +35,10 @@ from __future__ import annotations
 import json
 import re
 import zlib
+from array import array
 from collections.abc import Iterable, Iterator, Sequence
-from dataclasses import dataclass
-from itertools import islice
+from dataclasses import dataclass, field
+from itertools import islice, repeat
 from typing import Any, Protocol
 
 import numpy as np
@@ -221,20 +222,42 @@ def _spans(starts: Sequence[int], total: int) -> list[tuple[int, int]]:
 
 
 @dataclass(slots=True)
+class _Listed:
+    """Every listed member of every cycle, one entry each, kept compactly: the texts joined into one
+    string, and for each entry the length of its text, its cycle's rank and the CRC-32 of its text."""
+
+    pieces: list[str] = field(default_factory=list)  # each cycle's members joined, until text is asked for
+    sizes: array[int] = field(default_factory=lambda: array("I"))
+    owners: array[int] = field(default_factory=lambda: array("I"))
+    hashes: array[int] = field(default_factory=lambda: array("I"))
+
+    def add(self, rank: int, members: Sequence[str]) -> None:
+        self.pieces.append("".join(members))
+        self.sizes.extend(map(len, members))
+        self.owners.extend(repeat(rank, len(members)))
+        self.hashes.extend(zlib.crc32(m.encode("ascii")) for m in members)
+
+    def text(self) -> str:
+        whole = "".join(self.pieces)
+        self.pieces = [whole]
+        return whole
+
+
+@dataclass(slots=True)
 class _Table:
     """Every cycle by rank: its row, word, length and listed members; each map's key entry."""
 
     rows: list[str]
     words: list[str]
     lengths: list[int]
-    members: list[Sequence[str]]
+    members: _Listed
     truncated: list[int]  # ranks
     cut: bytearray  # 1 for each rank whose members are truncated
     keys: dict[str, list[str]]  # map key -> the JSON of [id, name, first rank, count] of each map
 
     @classmethod
     def of(cls, maps: Sequence[IndexedMap], listed: int) -> _Table:
-        table = cls([], [], [], [], [], bytearray(), {})
+        table = cls([], [], [], _Listed(), [], bytearray(), {})
         for m in maps:
             first = len(table.rows)
             head = f"{_js(m.id)},{_js(m.name)}"  # once a map: names are free text, escaped by _js
@@ -245,7 +268,7 @@ class _Table:
                 table.rows.append(f"[{rank},{head},{fields}]")
                 table.words.append(_plain(c.word) if m.modulus <= 10 else _js([c.word, m.modulus]))
                 table.lengths.append(c.length)
-                table.members.append(c.members[:listed])
+                table.members.add(rank, c.members[:listed])
                 table.cut.append(cut)
                 if cut:
                     table.truncated.append(rank)
@@ -256,14 +279,17 @@ class _Table:
         return table
 
 
-def _series(prefix: str, items: Sequence[str], limit: int, first: int = 0) -> tuple[list[int], list[tuple[str, str]]]:
-    """Items cut into files ``<prefix><first>``, ``<prefix><first + 1>``, ...: where each starts, and the files."""
+def _series(
+    prefix: str, items: Sequence[str], limit: int, first: int = 0
+) -> tuple[list[int], Iterator[tuple[str, str]]]:
+    """Items cut into files ``<prefix><first>``, ``<prefix><first + 1>``, ...: where each starts, and the
+    files, made as they are taken."""
     starts = _cuts((len(s) for s in items), limit - _overhead(prefix + "999999"))
     spans = _spans(starts, len(items))
-    return starts, [_file(f"{prefix}{first + i}", "[" + ",".join(items[a:b]) + "]") for i, (a, b) in enumerate(spans)]
+    return starts, (_file(f"{prefix}{first + i}", "[" + ",".join(items[a:b]) + "]") for i, (a, b) in enumerate(spans))
 
 
-def _length_series(table: _Table, limit: int) -> tuple[list[list[int]], list[tuple[str, str]]]:
+def _length_series(table: _Table, limit: int) -> tuple[list[list[int]], Iterator[tuple[str, str]]]:
     """Rows by length, each with its word: for each length [length, first file, last file], and the files."""
     by_length: dict[int, list[int]] = {}
     for rank, k in enumerate(table.lengths):
@@ -311,9 +337,11 @@ def _key_series(table: _Table, limit: int) -> tuple[int, list[tuple[str, str]]]:
 
 @dataclass(slots=True)
 class _Members:
-    """Every listed member of every cycle, one entry each: its text and cycle, CRC-32 and cost in bytes."""
+    """The listed members as arrays, one entry each: where its text is, its rank, CRC-32 and cost in bytes."""
 
-    texts: list[str]
+    text: str  # every listed member's text, one after another
+    starts: np.ndarray[Any, Any]
+    ends: np.ndarray[Any, Any]
     ranks: np.ndarray[Any, Any]
     hashes: np.ndarray[Any, Any]  # uint32
     weights: np.ndarray[Any, Any]  # bytes in its shard, counted generously
@@ -321,16 +349,15 @@ class _Members:
 
     @classmethod
     def of(cls, table: _Table, spill_rows: int) -> _Members:
-        texts: list[str] = []
-        owners: list[int] = []
-        for rank, members in enumerate(table.members):
-            texts.extend(members)
-            owners.extend([rank] * len(members))
-        ranks = np.array(owners, dtype=np.int64)
-        hashes = np.fromiter((zlib.crc32(m.encode("ascii")) for m in texts), dtype=np.uint32, count=len(texts))
-        rows = np.array([len(r) + 1 for r in table.rows], dtype=np.int64)
+        listed = table.members
+        sizes = np.frombuffer(listed.sizes, dtype=np.uint32)
+        ends = np.cumsum(sizes, dtype=np.int64)
+        ranks = np.frombuffer(listed.owners, dtype=np.uint32)
+        hashes = np.frombuffer(listed.hashes, dtype=np.uint32)
+        rows = np.array([len(r) + 1 for r in table.rows], dtype=np.uint32)
         # "m":[row] and a comma: the key is counted for every entry, though a shard writes it once.
-        weights = np.fromiter(map(len, texts), dtype=np.int64, count=len(texts)) + 6 + rows[ranks]
+        weights = sizes + 6 + rows[ranks]
+        text = listed.text()
         # A hash shared by more entries than spill_rows spills: the rows of each member with that hash
         # go to shards of their own, and its member shard keeps a stub (80 bytes at most) for it.
         values, counts = np.unique(hashes, return_counts=True)
@@ -338,9 +365,10 @@ class _Members:
         if heavy:
             seen: set[str] = set()
             for i in np.flatnonzero(np.isin(hashes, np.array(sorted(heavy), dtype=np.uint32))).tolist():
-                weights[i] = 0 if texts[i] in seen else len(texts[i]) + 80
-                seen.add(texts[i])
-        return cls(texts, ranks, hashes, weights, heavy)
+                name = text[int(ends[i] - sizes[i]) : int(ends[i])]
+                weights[i] = 0 if name in seen else len(name) + 80
+                seen.add(name)
+        return cls(text, ends - sizes, ends, ranks, hashes, weights, heavy)
 
 
 def _member_files(table: _Table, limits: SearchLimits) -> tuple[int, Iterator[tuple[str, str]]]:
@@ -355,26 +383,27 @@ def _member_shards(table: _Table, found: _Members, count: int, limits: SearchLim
     buckets = found.hashes % np.uint32(count)
     order = np.argsort(buckets, kind="stable")  # ranks stay ascending within a bucket
     edges = np.searchsorted(buckets[order], np.arange(count + 1)).tolist()
-    texts, rows, spilled = found.texts, table.rows, 0
+    text, rows, spilled = found.text, table.rows, 0
     for b in range(count):
         grouped: dict[str, list[int]] = {}
         chosen = order[edges[b] : edges[b + 1]]
-        for member, rank in zip([texts[i] for i in chosen.tolist()], found.ranks[chosen].tolist(), strict=True):
-            grouped.setdefault(member, []).append(rank)
+        places = zip(found.starts[chosen].tolist(), found.ends[chosen].tolist(), strict=True)
+        for (start, end), rank in zip(places, found.ranks[chosen].tolist(), strict=True):
+            grouped.setdefault(text[start:end], []).append(rank)
         entries = []
         for member, ranks in grouped.items():
             if not found.heavy or zlib.crc32(member.encode("ascii")) not in found.heavy:
                 entries.append(f'"{member}":[' + ",".join([rows[r] for r in ranks]) + "]")
                 continue
-            _, files = _series("x", [rows[r] for r in ranks], limits.shard_bytes, spilled)
+            starts, files = _series("x", [rows[r] for r in ranks], limits.shard_bytes, spilled)
             yield from files
             stub = {
-                "x": [spilled, spilled + len(files)],
+                "x": [spilled, spilled + len(starts)],
                 "hits": len(ranks),
                 "truncated": sum(table.cut[r] for r in ranks),
             }
             entries.append(f'"{member}":' + _js(stub))
-            spilled += len(files)
+            spilled += len(starts)
         yield _file(f"m{b}", "{" + ",".join(entries) + "}")
 
 
@@ -389,7 +418,7 @@ def search_index(maps: Sequence[IndexedMap], limits: SearchLimits = DEFAULT_LIMI
     word_starts, word_files = _series("w", table.words, limits.word_bytes)
     lengths, length_files = _length_series(table, limits.shard_bytes)
     key_count, key_files = _key_series(table, limits.shard_bytes)
-    _, long_files = _series("t", [table.rows[r] for r in table.truncated], limits.shard_bytes)
+    long_starts, long_files = _series("t", [table.rows[r] for r in table.truncated], limits.shard_bytes)
     member_count, member_files = _member_files(table, limits)
     manifest = {
         "format": FORMAT,
@@ -402,7 +431,7 @@ def search_index(maps: Sequence[IndexedMap], limits: SearchLimits = DEFAULT_LIMI
         "rows": row_starts,
         "words": word_starts,
         "lengths": lengths,
-        "long": len(long_files),
+        "long": len(long_starts),
     }
     yield _file("index", _js(manifest))
     yield from row_files
