@@ -12,10 +12,11 @@ subprocess into a fresh folder, and prints:
   the site is read into memory first; making the folders is timed with the writes);
 - the wall time of `python -m builder verify CATALOGUE` against the parse floor alone
   (goal: verify <= 1.5 x parse floor);
-- the peak resident memory of the build: the resident sets of the whole process tree (the build and
-  any processes it starts) read from /proc and added up every ~20 ms (new processes are looked for
-  every ~60 ms; shared pages count once per process, and a peak shorter than a sample can be
-  missed), and ru_maxrss of the largest single process (goal: at most 400 MB);
+- the peak memory of the build: the proportional set sizes of the whole process tree (the build and
+  the worker processes it forks) read from /proc/PID/smaps_rollup and added up every ~20 ms, so that
+  the pages the workers share with the build count once (new processes are looked for every ~60 ms,
+  and a peak shorter than a sample can be missed); beside it, the resident sets added up (which count
+  a shared page once per process) and ru_maxrss of the largest single process (goal: at most 400 MB);
 - the size of the site (bytes and files) and its largest HTML page.
 
 The commands are timed as a user runs them (interpreter start and imports included); the floors are
@@ -55,6 +56,7 @@ class Run:
     seconds: float
     peak_tree_bytes: int  # the largest sum of the tree's resident sets seen
     maxrss_bytes: int  # ru_maxrss of the largest process of the tree
+    peak_pss_bytes: int = 0  # the largest sum of the tree's proportional set sizes seen
 
 
 def catalogue_of(scale: float) -> Path:
@@ -91,6 +93,19 @@ def resident(pid: int) -> int:
         return 0
 
 
+def proportional(pid: int) -> int:
+    """The proportional set size of ``pid`` (Linux, /proc/PID/smaps_rollup): its private pages plus its
+    share of each page it shares, so that pages forked workers inherit are counted once in a sum."""
+    try:
+        with open(f"/proc/{pid}/smaps_rollup", "rb") as f:
+            for line in f:
+                if line.startswith(b"Pss:"):
+                    return int(line.split()[1]) * 1024
+    except OSError:
+        pass
+    return 0
+
+
 class TreeSampler(threading.Thread):
     """Adds up the resident sets of ``root`` and its descendants every SAMPLE_EVERY seconds; keeps the peak."""
 
@@ -99,6 +114,7 @@ class TreeSampler(threading.Thread):
         self.root = root
         self.tree = {root}
         self.peak = 0
+        self.peak_pss = 0
         self.done = threading.Event()
 
     def run(self) -> None:
@@ -114,6 +130,7 @@ class TreeSampler(threading.Thread):
                     if p in self.tree:
                         self.tree.update(chain)
             self.peak = max(self.peak, sum(resident(pid) for pid in self.tree))
+            self.peak_pss = max(self.peak_pss, sum(proportional(pid) for pid in self.tree))
             tick += 1
             self.done.wait(SAMPLE_EVERY)
 
@@ -133,11 +150,16 @@ def run_command(args: list[str]) -> Run:
     sampler.join()
     if child.returncode:
         raise SystemExit(f"python -m builder {' '.join(args)} exited {child.returncode}:\n{output.decode()[-2000:]}")
-    return Run(seconds, sampler.peak, usage.ru_maxrss * 1024)  # Linux gives ru_maxrss in KiB
+    return Run(seconds, sampler.peak, usage.ru_maxrss * 1024, sampler.peak_pss)  # Linux gives ru_maxrss in KiB
 
 
 def best(runs: list[Run]) -> Run:
-    return Run(min(r.seconds for r in runs), max(r.peak_tree_bytes for r in runs), max(r.maxrss_bytes for r in runs))
+    return Run(
+        min(r.seconds for r in runs),
+        max(r.peak_tree_bytes for r in runs),
+        max(r.maxrss_bytes for r in runs),
+        max(r.peak_pss_bytes for r in runs),
+    )
 
 
 def best_of(repeat: int, fn: Callable[[], object]) -> float:
@@ -197,7 +219,8 @@ def report(scale: float, catalogue: Path, build: Run, verify: Run, floors: tuple
         f"verify: {verify.seconds:7.2f} s   ratio {verify.seconds / parse:5.2f}   (goal <= {VERIFY_GOAL:.1f} x parse floor)"
     )
     print(
-        f"build peak memory: process tree {build.peak_tree_bytes / MB:.0f} MB, largest process (ru_maxrss) "
+        f"build peak memory: process tree {build.peak_pss_bytes / MB:.0f} MB proportional (shared pages counted "
+        f"once; resident sets added up: {build.peak_tree_bytes / MB:.0f} MB), largest process (ru_maxrss) "
         f"{build.maxrss_bytes / MB:.0f} MB   (goal <= {MEMORY_GOAL_MB} MB)"
     )
     print(f"verify peak memory: process tree {verify.peak_tree_bytes / MB:.0f} MB")
