@@ -11,13 +11,14 @@ from __future__ import annotations
 import csv
 import json
 import uuid
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Iterable, Iterator, Mapping, Sequence
 from typing import IO, Any
 from xml.sax.saxutils import escape, quoteattr
 
 from builder.arith.fingerprint import FINGERPRINT_DIGITS, FINGERPRINT_HEADER
 from builder.catalogue.model import Reference
 from builder.site.records import AboutRecord, CycleRecord, HistoryRecord, MapRecord
+from builder.site.search_index import DEFAULT_LIMITS, ListedMap, SearchLimits, map_order, search_index
 from builder.site.views import SiteViews
 
 __all__ = [
@@ -29,7 +30,7 @@ __all__ = [
     "atom_feed",
     "json_text",
     "map_json",
-    "search_index_js",
+    "search_files",
     "sitemap_files",
     "write_catalogue_json",
     "write_cycles_csv",
@@ -40,8 +41,6 @@ CSV_COLUMNS = (
     "standard_length", "found_by", "found_on", "url",
 )  # fmt: skip
 _FEED_NAMESPACE = uuid.UUID("6f1e3a52-8d1b-4c55-9a53-5c2f0e9b7d11")  # fixed, so entry ids never change
-#: The search index lists up to this many members of each cycle.
-SEARCH_MEMBERS = 1000
 #: How exports describe the fingerprint recipe (catalogue/README.md, "Fingerprints", has it in full).
 FINGERPRINT_NOTE = (
     f"SHA-256 of the ASCII lines '{FINGERPRINT_HEADER}', the modulus m, 'a_i b_i' for each residue i = 0..m-1, "
@@ -216,31 +215,14 @@ def write_cycles_csv(views: SiteViews, out: IO[str]) -> None:
         )  # fmt: skip
 
 
-def search_index_js(views: SiteViews) -> str:
-    """The search index as a script (pages opened from disk cannot fetch JSON)."""
-    maps = views.maps
-    index = {
-        "cycles": [
-            {
-                "map": c.map_id,
-                "map_name": maps[c.map_id].name,
-                "cycle": c.id,
-                "fingerprint": c.fingerprint,
-                "url": c.url,
-                "length": c.length,
-                "canonical": c.canonical,
-                "word": c.word,
-                "modulus": maps[c.map_id].modulus,
-                "members": c.members[:SEARCH_MEMBERS],
-                "members_truncated": len(c.members) > SEARCH_MEMBERS,
-            }
-            for c in views.cycles
-        ]
-    }
-    data = json.dumps(index, ensure_ascii=True, sort_keys=True, separators=(",", ":"))
-    # No data may close the script element or open a comment inside it.
-    data = data.replace("<", "\\u003c").replace(">", "\\u003e").replace("&", "\\u0026")
-    return f"window.PERIPLUS_SEARCH = {data};\n"
+def search_files(views: SiteViews, limits: SearchLimits = DEFAULT_LIMITS) -> Iterator[tuple[str, str]]:
+    """Every file of the search index as (path relative to the site root, text), made one at a time.
+
+    The layout is builder.site.search_index's; results come in the natural order of maps
+    (builder.site.search_index.map_order), then by least |member|.
+    """
+    maps = sorted(views.maps.values(), key=lambda m: map_order(m.id, m.name, m.modulus, m.branches))
+    return search_index([ListedMap(m, limits.members) for m in maps], limits)
 
 
 def _entry_id(*parts: str) -> str:

@@ -46,7 +46,7 @@ from builder.site.digest import stable_digest
 from builder.site.exports import (
     atom_feed,
     map_json,
-    search_index_js,
+    search_files,
     sitemap_files,
     write_catalogue_json,
     write_cycles_csv,
@@ -264,14 +264,16 @@ def _csv_export(views: SiteViews, writer: Writer, env: jinja2.Environment) -> li
 
 
 def _search_export(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
-    writer.text("data/search-index.js", search_index_js(views))
+    for rel, text in search_files(views):
+        writer.text(rel, text)
     return []
 
 
 def _search_inputs(views: SiteViews) -> object:
     """What the search index holds: each cycle's key and fingerprint (which fix its members, word and
-    length) and its map's name."""
-    return [(c.map_id, c.id, c.fingerprint, views.maps[c.map_id].name) for c in views.cycles]
+    length) and its map's name, and the id and name of every map (maps without cycles are searchable)."""
+    cycles = [(c.map_id, c.id, c.fingerprint, views.maps[c.map_id].name) for c in views.cycles]
+    return [cycles, [(m.id, m.name) for m in views.maps.values()]]
 
 
 def _perform(
