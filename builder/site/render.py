@@ -273,7 +273,7 @@ def _search_inputs(views: SiteViews) -> object:
     """What the search index holds: each cycle's key and fingerprint (which fix its members, word and
     length) and its map's name, and the id and name of every map (maps without cycles are searchable)."""
     cycles = [(c.map_id, c.id, c.fingerprint, views.maps[c.map_id].name) for c in views.cycles]
-    return [cycles, [(m.id, m.name) for m in views.maps.values()]]
+    return [cycles, [(m.id, m.name, m.branches) for m in views.maps.values()]]
 
 
 def _perform(
