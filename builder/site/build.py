@@ -17,8 +17,6 @@ import ctypes.util
 import fcntl
 import os
 import shutil
-import subprocess
-import sys
 import tempfile
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -200,24 +198,20 @@ def _remove(folder: Path, later: bool) -> None:
     if not later:
         shutil.rmtree(folder)
         return
-    # A launcher that forks the remover and returns at once, so this process keeps no child running.
-    code = (
-        "import os, shutil, sys\n"
-        "if os.fork() == 0:\n"
-        "    os.setsid()\n"
-        "    shutil.rmtree(sys.argv[1], ignore_errors=True)\n"
-    )
-    try:
-        subprocess.run(
-            [sys.executable, "-c", code, str(folder)],
-            stdin=subprocess.DEVNULL,
-            stdout=subprocess.DEVNULL,
-            stderr=subprocess.DEVNULL,
-            check=True,
-            timeout=60,
-        )
-    except (OSError, subprocess.SubprocessError):
-        shutil.rmtree(folder, ignore_errors=True)
+    if not hasattr(os, "fork"):
+        shutil.rmtree(folder)
+        return
+    # Fork twice, so that the remover belongs to no one (no child of this process is left running, and
+    # the terminal's Ctrl-C meant for the next command does not reach it); the first child returns at once.
+    child = os.fork()
+    if child == 0:
+        try:
+            os.setsid()
+            if os.fork() == 0:
+                shutil.rmtree(folder, ignore_errors=True)
+        finally:
+            os._exit(0)
+    os.waitpid(child, 0)
 
 
 def _write(views: SiteViews, out: Path, jobs: int, reuse: bool, remove_later: bool) -> list[str]:
