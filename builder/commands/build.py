@@ -5,8 +5,17 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
+from builder.catalogue.cache import default_cache_folder
 from builder.catalogue.record import SITE_ADDRESS, site_address
-from builder.commands.options import Subcommands, add_catalogue, add_command, add_limits, limits_of
+from builder.commands.options import (
+    Subcommands,
+    add_cache,
+    add_catalogue,
+    add_command,
+    add_limits,
+    limits_of,
+    open_cache,
+)
 from builder.commands.summary import show_report
 from builder.errors import UsageError
 from builder.history import NoHistory
@@ -39,6 +48,7 @@ def register(subparsers: Subcommands) -> None:
         help="if another build is writing DIR, stop at once (exit 2) instead of waiting for it to finish",
     )
     add_limits(parser)
+    add_cache(parser)
     parser.set_defaults(run=run)
 
 
@@ -49,7 +59,8 @@ def run(args: argparse.Namespace) -> int:
         base_url = site_address(args.base_url)
         if base_url is None:
             raise UsageError(f"--base-url: expected {SITE_ADDRESS}, got '{args.base_url}'")
-    result = build_site(args.catalogue, args.out, limits_of(args), base_url, wait=not args.no_wait)
+    with open_cache(args, default_cache_folder(args.catalogue)) as cache:
+        result = build_site(args.catalogue, args.out, limits_of(args), base_url, wait=not args.no_wait, cache=cache)
     show_report(result.report)
     if not result.report.ok:
         print(f"nothing was written; {args.out} is as it was")

@@ -23,6 +23,7 @@ from contextlib import contextmanager
 from dataclasses import dataclass
 from pathlib import Path
 
+from builder.catalogue.cache import VerifyCache
 from builder.catalogue.model import Report
 from builder.catalogue.verify import Limits, verify_catalogue
 from builder.errors import UsageError
@@ -155,21 +156,28 @@ def _clean_leftovers(parent: Path, name: str) -> None:
 
 
 def build_site(
-    catalogue: Path, out: Path, limits: Limits | None = None, base_url: str | None = None, *, wait: bool = True
+    catalogue: Path,
+    out: Path,
+    limits: Limits | None = None,
+    base_url: str | None = None,
+    *,
+    wait: bool = True,
+    cache: VerifyCache | None = None,
 ) -> BuildResult:
     """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically.
 
     ``wait`` False refuses at once (UsageError) when another build is writing ``out``, instead of waiting.
+    ``cache`` keeps verification results between builds (the catalogue's and its releases').
     """
     _check_target(out)
     _check_place(out)
-    report = verify_catalogue(catalogue, limits or Limits())
+    report = verify_catalogue(catalogue, limits or Limits(), cache)
     if not report.ok:
         return BuildResult(report, 0)
     record = report.catalogue.record
     assert record is not None, "a catalogue that verifies has its record"
     history = read_history(catalogue, names=record.credit_committers)
-    changelog, edition = read_changelog(report, history)
+    changelog, edition = read_changelog(report, history, cache)
     views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)
     out = out.absolute()
     with _lock(out, wait):

@@ -1,0 +1,95 @@
+"""Verification outcomes as bytes and back, for the cache (:mod:`builder.catalogue.cache`): pickles that load fast.
+
+A warm cache reads one outcome per file of the catalogue, so loading dominates its time.  Dataclasses
+(the model objects, problems, entries as written) are pickled field by field and restored by a
+function made once per class that sets each field in turn, instead of the generic ``__setstate__``
+of ``dataclasses``, which looks the fields up again for every object; named tuples are restored by
+``tuple.__new__``.  A file's own path, which its problems and model objects all name, is written as
+a reference and restored as the path the file is read at, which the cache key makes equal to it.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import io
+import pickle
+import threading
+from pathlib import Path
+from typing import Any
+
+__all__ = ["dumps", "loads"]
+
+
+class _Pickler(pickle.Pickler):
+    """Pickles what loads fast: dataclasses field by field (restored by code made for each class, not by the
+    generic ``__setstate__``), named tuples as tuples, and the file's own path as a reference to the path it
+    is read at."""
+
+    def __init__(self, out: io.BytesIO, path: Path | None) -> None:
+        super().__init__(out, pickle.HIGHEST_PROTOCOL)
+        self.path = path
+
+    def reducer_override(self, obj: Any) -> Any:
+        cls = type(obj)
+        if hasattr(cls, "__dataclass_fields__") and not isinstance(obj, type):
+            return _rebuild, (cls, tuple([getattr(obj, name) for name in _fields(cls)]))
+        if cls is _PATH and obj == self.path:
+            return _here, ()
+        if issubclass(cls, tuple) and hasattr(cls, "_fields"):
+            return _new_tuple, (cls, tuple(obj))
+        return NotImplemented
+
+
+_PATH = type(Path())
+_new_tuple = tuple.__new__
+_here_now = threading.local()
+
+
+def _here() -> Path:
+    """The path of the file whose outcome is being read."""
+    path: Path = _here_now.path
+    return path
+
+
+def _fields(cls: type) -> tuple[str, ...]:
+    return tuple(f.name for f in dataclasses.fields(cls))
+
+
+class _Makers(dict[type, Any]):
+    """For each dataclass, a function setting each field of a new instance in turn (frozen ones included)."""
+
+    def __missing__(self, cls: type) -> Any:
+        lines = [f"    set(obj, {name!r}, values[{i}])" for i, name in enumerate(_fields(cls))]
+        code = "def make(values):\n    obj = new(cls)\n" + "\n".join(lines) + "\n    return obj\n"
+        scope = {"new": object.__new__, "set": object.__setattr__, "cls": cls}
+        exec(code, scope)  # as dataclasses makes __init__: one straight-line function per class
+        self[cls] = scope["make"]
+        return scope["make"]
+
+
+_MAKERS = _Makers()
+
+
+def _rebuild(cls: type, values: tuple[Any, ...]) -> Any:
+    return _MAKERS[cls](values)
+
+
+def dumps(value: Any, path: Path | None) -> bytes:
+    """``value`` as bytes; ``path``, wherever it occurs in it, as a reference to the path it is read at."""
+    out = io.BytesIO()
+    _Pickler(out, path).dump(value)
+    return out.getvalue()
+
+
+def loads(data: bytes, path: Path | None) -> Any | None:
+    """The value of ``dumps(value, ...)`` with ``path`` for the path it referred to; None if it cannot be read.
+
+    Only for bytes this program wrote (the cache checks their signature first): unpickling runs code.
+    """
+    _here_now.path = path
+    try:
+        return pickle.loads(data)
+    except Exception:  # a row written by other code under the same version, cut short...: checked again
+        return None
+    finally:
+        _here_now.path = None
