@@ -224,16 +224,16 @@ def read_bytes(raw: RawCatalogue, file: RawFile) -> tuple[bytes | None, list[Pro
         return None, [_problem(file.path, f"cannot read the file: {exc.strerror}", "unreadable")]
 
 
-def parse_bytes(file: RawFile, data: bytes | None, problems: list[Problem]) -> RawFile:
+def parse_bytes(file: RawFile, data: bytes | None, problems: list[Problem], digest: bytes | None = None) -> RawFile:
     """The file parsed from ``data`` (its bytes, None when they could not be read), with ``problems`` and its digest.
 
     ``problems`` holds what was found before parsing (why the bytes could not be read); the
-    parse's own are added to it.
+    parse's own are added to it.  ``digest``: the SHA-256 of ``data`` when the caller has it already.
     """
     parsed = RawFile(file.path, file.kind, file.id, file.folder, file.rel, None, problems)
     if data is None:
         return parsed
-    parsed.digest = hashlib.sha256(data).digest()
+    parsed.digest = digest if digest is not None else hashlib.sha256(data).digest()
     text = _decode(data, file.path, problems)
     if text is not None:
         parsed.root, found = parse_yaml(text, file.path)
@@ -280,10 +280,11 @@ def _join(folder: str, name: str) -> str:
 def _entry_files(raw: RawCatalogue, folder: str, what: str) -> Iterator[tuple[str, Path]]:
     """Yield (id, path) for each ``<id>.yaml`` in folder, reporting anything else there."""
     problems = raw.layout_problems
+    base = raw.root / folder
     for name, kind in _listing(raw, folder):
         if name.startswith("."):
             continue  # .gitkeep and editor files
-        path = raw.root / folder / name
+        path = base / name
         if kind is PathKind.LINK:
             problems.append(_problem(path, "expected a regular file, got a symbolic link", "layout"))
             continue

@@ -5,7 +5,8 @@ A warm cache reads one outcome per file of the catalogue, so loading dominates i
 function made once per class that sets each field in turn, instead of the generic ``__setstate__``
 of ``dataclasses``, which looks the fields up again for every object; named tuples are restored by
 ``tuple.__new__``.  A file's own path, which its problems and model objects all name, is written as
-a reference and restored as the path the file is read at, which the cache key makes equal to it.
+a reference to the file (its path from the catalogue root) and restored as the path it is read at,
+which the cache key makes equal to it.
 """
 
 from __future__ import annotations
@@ -14,6 +15,7 @@ import dataclasses
 import io
 import pickle
 import threading
+from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
 
@@ -25,16 +27,16 @@ class _Pickler(pickle.Pickler):
     generic ``__setstate__``), named tuples as tuples, and the file's own path as a reference to the path it
     is read at."""
 
-    def __init__(self, out: io.BytesIO, path: Path | None) -> None:
+    def __init__(self, out: io.BytesIO, rels: Mapping[Path, str]) -> None:
         super().__init__(out, pickle.HIGHEST_PROTOCOL)
-        self.path = path
+        self.rels = rels
 
     def reducer_override(self, obj: Any) -> Any:
         cls = type(obj)
         if hasattr(cls, "__dataclass_fields__") and not isinstance(obj, type):
             return _rebuild, (cls, tuple([getattr(obj, name) for name in _fields(cls)]))
-        if cls is _PATH and obj == self.path:
-            return _here, ()
+        if cls is _PATH and obj in self.rels:
+            return _here, (self.rels[obj],)
         if issubclass(cls, tuple) and hasattr(cls, "_fields"):
             return _new_tuple, (cls, tuple(obj))
         return NotImplemented
@@ -45,10 +47,10 @@ _new_tuple = tuple.__new__
 _here_now = threading.local()
 
 
-def _here() -> Path:
-    """The path of the file whose outcome is being read."""
-    path: Path = _here_now.path
-    return path
+def _here(rel: str) -> Path | None:
+    """The path the file ``rel`` is read at (None for a file no longer there, whose outcome is not used)."""
+    paths: Mapping[str, Path] = _here_now.paths
+    return paths.get(rel)
 
 
 def _fields(cls: type) -> tuple[str, ...]:
@@ -74,22 +76,23 @@ def _rebuild(cls: type, values: tuple[Any, ...]) -> Any:
     return _MAKERS[cls](values)
 
 
-def dumps(value: Any, path: Path | None) -> bytes:
-    """``value`` as bytes; ``path``, wherever it occurs in it, as a reference to the path it is read at."""
+def dumps(value: Any, rels: Mapping[Path, str]) -> bytes:
+    """``value`` as bytes; each path of ``rels`` in it as a reference to the file (``rels[path]``), not the path."""
     out = io.BytesIO()
-    _Pickler(out, path).dump(value)
+    _Pickler(out, rels).dump(value)
     return out.getvalue()
 
 
-def loads(data: bytes, path: Path | None) -> Any | None:
-    """The value of ``dumps(value, ...)`` with ``path`` for the path it referred to; None if it cannot be read.
+def loads(data: bytes, paths: Mapping[str, Path]) -> Any | None:
+    """The value of ``dumps(value, ...)``, each file referred to by the path ``paths`` gives it; None if the bytes
+    cannot be read.
 
     Only for bytes this program wrote (the cache checks their signature first): unpickling runs code.
     """
-    _here_now.path = path
+    _here_now.paths = paths
     try:
         return pickle.loads(data)
     except Exception:  # a row written by other code under the same version, cut short...: checked again
         return None
     finally:
-        _here_now.path = None
+        _here_now.paths = {}

@@ -23,6 +23,7 @@ from test_coverage import with_claim
 
 from builder.catalogue import cache as cache_module
 from builder.catalogue import coverage as coverage_module
+from builder.catalogue import serial
 from builder.catalogue import verify as verify_module
 from builder.catalogue.cache import DATABASE, FOLDER_NAME, VerifyCache, default_cache_folder
 from builder.catalogue.model import Report
@@ -47,9 +48,9 @@ def parses(monkeypatch: pytest.MonkeyPatch) -> list[str]:
     seen: list[str] = []
     real = verify_module.parse_bytes
 
-    def counting(file: Any, data: Any, problems: Any) -> Any:
+    def counting(file: Any, *args: Any) -> Any:
         seen.append(file.rel)
-        return real(file, data, problems)
+        return real(file, *args)
 
     monkeypatch.setattr(verify_module, "parse_bytes", counting)
     return seen
@@ -243,17 +244,39 @@ def test_a_cache_signed_with_another_key_is_not_trusted(catalogue, tmp_path, par
     assert detail(warm) == detail(verify_catalogue(root, NO_RECHECK))
 
 
-def test_a_planted_outcome_is_not_believed(catalogue, tmp_path):
-    # The row of the cycle through -5 is given the outcome of the cycle through 1: believed, it would
-    # list the cycle through 1 twice and lose the one through -5.
+def test_a_planted_outcome_is_believed_only_with_the_users_own_signature(catalogue, tmp_path):
+    # The outcome kept for the cycle through -5 is replaced by that of the cycle through 1: believed,
+    # it would list the cycle through 1 twice and lose the one through -5.
     root = catalogue()
     folder = tmp_path / "cache"
     cold = verified(root, folder)
+    cycles = "cycles/3x-plus-1"
+    paths = {f"{cycles}/{p.name}": p for p in (root / "cycles" / "3x-plus-1").iterdir()}
     with sqlite3.connect(folder / DATABASE) as db:
-        (value,) = db.execute("SELECT value FROM files WHERE rel = 'cycles/3x-plus-1/through-1.yaml'").fetchone()
-        db.execute("UPDATE files SET value = ? WHERE rel = 'cycles/3x-plus-1/through-minus-5.yaml'", (value,))
+        (value,) = db.execute("SELECT value FROM files WHERE folder = ?", (cycles,)).fetchone()
     db.close()
-    assert detail(verified(root, folder)) == detail(cold)
+    kept = serial.loads(value, paths)
+    planted = dict(kept)
+    planted[f"{cycles}/through-minus-5.yaml"] = (
+        kept[f"{cycles}/through-minus-5.yaml"][0],
+        kept[f"{cycles}/through-1.yaml"][1],
+    )
+    data = serial.dumps(planted, {path: rel for rel, path in paths.items()})
+
+    def plant(signer: VerifyCache) -> Report:
+        with sqlite3.connect(folder / DATABASE) as db:
+            scope = db.execute("SELECT scope FROM files WHERE folder = ?", (cycles,)).fetchone()[0]
+            mac = signer._mac(b"f", scope, cycles.encode(), data)
+            db.execute("UPDATE files SET value = ?, mac = ? WHERE folder = ?", (data, mac, cycles))
+        db.close()
+        return verified(root, folder)
+
+    stranger = VerifyCache(None, b"\x01" * 32, False, (), None)
+    assert detail(plant(stranger)) == detail(cold)  # signed by another key: checked again
+    with VerifyCache.open(None) as nobody:
+        nobody._key = cache_module._signing_key() or b""
+        fooled = plant(nobody)  # signed with the user's own key, as only this program does
+    assert [p.code for p in fooled.errors] == ["duplicate-cycle"]
 
 
 def test_a_read_only_cache_is_read_and_not_written(catalogue, tmp_path, parses, monkeypatch):
@@ -404,4 +427,3 @@ def test_the_readme_names_the_cache_folder_and_its_options() -> None:
     readme = (REPO / "README.md").read_text(encoding="utf-8")
     assert FOLDER_NAME in readme
     assert "--no-cache" in readme and "--cache DIR" in readme
-
