@@ -1,115 +1,257 @@
-"""Benchmark: what releases and entry history add to `periplus build`.
+"""Benchmark: a full `periplus build` of the big demo catalogue against the floor of reading and writing its files.
 
-    python bench/build_speed.py [--releases N] [--repeat R]
+    python bench/build_speed.py [--scale S] [--repeat R]
 
-Copies the shipped catalogue into a fresh git repository in a temporary folder and
-times, best of R runs each:
+Builds the catalogue of bench/big_catalogue.py at scale S (1.0: about 50,000 cycles in 3,000 maps,
+generated once into bench/out) with `python -m builder build CATALOGUE --out SITE`, run as a
+subprocess into a fresh folder, and prints:
 
-- the floor: a build of the same catalogue outside any repository (verify, views,
-  pages and exports, with no history and no changelog);
-- a build of the repository with one commit and no release tag (one `git log` pass
-  for the entry dates);
-- a build with N tagged releases, each editing a few cycle files and renaming one,
-  so each changelog step has something to list (removing a cycle would break the
-  shipped maps' completeness claims, which the build rightly refuses).
+- the wall time of the build, the floor and their ratio (goal: build <= 2 x floor).  The floor is
+  the time to parse every catalogue file with PyYAML's C loader (yaml.CSafeLoader), which any build
+  must read, plus the time to write the bytes of the built site into a fresh folder (every file of
+  the site is read into memory first; making the folders is timed with the writes);
+- the wall time of `python -m builder verify CATALOGUE` against the parse floor alone
+  (goal: verify <= 1.5 x parse floor);
+- the peak memory of the build: the proportional set sizes of the whole process tree (the build and
+  the worker processes it forks) read from /proc/PID/smaps_rollup and added up every ~20 ms, so that
+  the pages the workers share with the build count once (new processes are looked for every ~60 ms,
+  and a peak shorter than a sample can be missed); beside it, the resident sets added up (which count
+  a shared page once per process) and ru_maxrss of the largest single process (goal: at most 400 MB);
+- the size of the site (bytes and files) and its largest HTML page.
 
-Each release is read from its tagged commit and verified again (with coverage
-rechecks off), so the cost is expected to grow with N: the figures are per release.
-Figures, not pass/fail: timings on a shared machine vary, so no test depends on them.
-The repository is made here from the shipped catalogue; its releases are demo
-releases, not releases of a real record.
+The commands are timed as a user runs them (interpreter start and imports included); the floors are
+measured in this process, in the same run.  Best of R runs each.  Figures, not pass/fail: the machine
+may be shared, so only the ratios mean much, and no test depends on them.
 """
 
 from __future__ import annotations
 
 import argparse
 import os
-import re
 import shutil
 import subprocess
 import sys
 import tempfile
+import threading
 import time
 from collections.abc import Callable
+from dataclasses import dataclass
 from pathlib import Path
 
-ROOT = Path(__file__).resolve().parent.parent
-sys.path.insert(0, str(ROOT))
+import yaml
 
-from builder.site.build import build_site  # noqa: E402
+ROOT = Path(__file__).resolve().parent.parent
+
+BUILD_GOAL = 2.0
+VERIFY_GOAL = 1.5
+MEMORY_GOAL_MB = 400
+SAMPLE_EVERY = 0.02
+DISCOVER_EVERY = 3  # samples between scans of /proc for new processes
+PAGE = os.sysconf("SC_PAGE_SIZE")
+MB = 1 << 20
+
+
+@dataclass(frozen=True)
+class Run:
+    seconds: float
+    peak_tree_bytes: int  # the largest sum of the tree's resident sets seen
+    maxrss_bytes: int  # ru_maxrss of the largest process of the tree
+    peak_pss_bytes: int = 0  # the largest sum of the tree's proportional set sizes seen
+
+
+def catalogue_of(scale: float) -> Path:
+    """bench/big_catalogue.py's cached catalogue, made in another process so that this one stays small.
+
+    The kernel counts in a command's ru_maxrss the memory of the process that started it (it records
+    the old address space's peak at exec), so this process loads nothing big before its last command.
+    """
+    code = f"from big_catalogue import cached_catalogue; print(cached_catalogue({scale!r}))"
+    done = subprocess.run([sys.executable, "-c", code], cwd=ROOT / "bench", capture_output=True, text=True, check=True)
+    return Path(done.stdout.strip())
+
+
+def parents() -> dict[int, int]:
+    """pid -> parent pid of every process on the machine."""
+    out = {}
+    for name in os.listdir("/proc"):
+        if name.isdigit():
+            try:
+                with open(f"/proc/{name}/stat", "rb") as f:
+                    stat = f.read()
+            except OSError:
+                continue
+            # The command name (field 2) is in parentheses and may hold spaces: fields after it split cleanly.
+            out[int(name)] = int(stat[stat.rindex(b")") + 2 :].split()[1])
+    return out
+
+
+def resident(pid: int) -> int:
+    try:
+        with open(f"/proc/{pid}/statm", "rb") as f:
+            return int(f.read().split()[1]) * PAGE
+    except OSError:
+        return 0
+
+
+def proportional(pid: int) -> int:
+    """The proportional set size of ``pid`` (Linux, /proc/PID/smaps_rollup): its private pages plus its
+    share of each page it shares, so that pages forked workers inherit are counted once in a sum."""
+    try:
+        with open(f"/proc/{pid}/smaps_rollup", "rb") as f:
+            for line in f:
+                if line.startswith(b"Pss:"):
+                    return int(line.split()[1]) * 1024
+    except OSError:
+        pass
+    return 0
+
+
+class TreeSampler(threading.Thread):
+    """Adds up the resident sets of ``root`` and its descendants every SAMPLE_EVERY seconds; keeps the peak."""
+
+    def __init__(self, root: int) -> None:
+        super().__init__(daemon=True)
+        self.root = root
+        self.tree = {root}
+        self.peak = 0
+        self.peak_pss = 0
+        self.done = threading.Event()
+
+    def run(self) -> None:
+        tick = 0
+        while not self.done.is_set():
+            if tick % DISCOVER_EVERY == 0:
+                ppid = parents()
+                for pid in sorted(ppid):
+                    chain, p = [], pid
+                    while p in ppid and p not in self.tree and p > 1:
+                        chain.append(p)
+                        p = ppid[p]
+                    if p in self.tree:
+                        self.tree.update(chain)
+            self.peak = max(self.peak, sum(resident(pid) for pid in self.tree))
+            self.peak_pss = max(self.peak_pss, sum(proportional(pid) for pid in self.tree))
+            tick += 1
+            self.done.wait(SAMPLE_EVERY)
+
+
+def run_command(args: list[str]) -> Run:
+    """Run ``python -m builder ARGS`` from the repository's top folder, timed and sampled."""
+    t0 = time.perf_counter()
+    child = subprocess.Popen([sys.executable, "-m", "builder", *args], cwd=ROOT, stdout=subprocess.PIPE)
+    sampler = TreeSampler(child.pid)
+    sampler.start()
+    assert child.stdout is not None
+    output = child.stdout.read()
+    _, status, usage = os.wait4(child.pid, 0)
+    seconds = time.perf_counter() - t0
+    child.returncode = os.waitstatus_to_exitcode(status)
+    sampler.done.set()
+    sampler.join()
+    if child.returncode:
+        raise SystemExit(f"python -m builder {' '.join(args)} exited {child.returncode}:\n{output.decode()[-2000:]}")
+    return Run(seconds, sampler.peak, usage.ru_maxrss * 1024, sampler.peak_pss)  # Linux gives ru_maxrss in KiB
+
+
+def best(runs: list[Run]) -> Run:
+    return Run(
+        min(r.seconds for r in runs),
+        max(r.peak_tree_bytes for r in runs),
+        max(r.maxrss_bytes for r in runs),
+        max(r.peak_pss_bytes for r in runs),
+    )
 
 
 def best_of(repeat: int, fn: Callable[[], object]) -> float:
-    best = float("inf")
+    times = []
     for _ in range(repeat):
         t0 = time.perf_counter()
         fn()
-        best = min(best, time.perf_counter() - t0)
-    return best
+        times.append(time.perf_counter() - t0)
+    return min(times)
 
 
-def git(repo: Path, *args: str, when: str | None = None) -> None:
-    env = {k: v for k, v in os.environ.items() if not k.startswith("GIT_")}
-    env.update(GIT_CONFIG_NOSYSTEM="1", GIT_CONFIG_GLOBAL=os.devnull, LC_ALL="C")
-    env.update(GIT_AUTHOR_NAME="Bench", GIT_AUTHOR_EMAIL="bench@example.org")
-    env.update(GIT_COMMITTER_NAME="Bench", GIT_COMMITTER_EMAIL="bench@example.org")
-    if when is not None:
-        env.update(GIT_AUTHOR_DATE=when, GIT_COMMITTER_DATE=when)
-    subprocess.run(["git", *args], cwd=repo, env=env, check=True, capture_output=True)
+def parse_all(catalogue: Path) -> Callable[[], None]:
+    files = sorted(p for p in catalogue.rglob("*.yaml") if "schema" not in p.relative_to(catalogue).parts)
+
+    def run() -> None:
+        for path in files:
+            yaml.load(path.read_text(encoding="utf-8"), Loader=yaml.CSafeLoader)
+
+    return run
 
 
-def set_version(catalogue: Path, version: str) -> None:
-    path = catalogue / "record.yaml"
-    text = path.read_text(encoding="utf-8")
-    path.write_text(re.sub(r"(?m)^version: .*$", f'version: "{version}"', text), encoding="utf-8")
+def read_site(site: Path) -> list[tuple[str, bytes]]:
+    return [(str(p.relative_to(site)), p.read_bytes()) for p in sorted(site.rglob("*")) if p.is_file()]
 
 
-def make_repository(folder: Path, releases: int) -> Path:
-    repo = folder / "repo"
-    catalogue = repo / "catalogue"
-    shutil.copytree(ROOT / "catalogue", catalogue)
-    git(repo, "init", "-q", "-b", "main")
-    cycles = sorted((catalogue / "cycles").rglob("*.yaml"))
-    for i in range(releases):
-        if i:
-            # A few edits and one rename per release.
-            for path in cycles[i * 6 : i * 6 + 5]:
-                path.write_text(path.read_text(encoding="utf-8") + f"# demo edit for release 1.{i}\n", "utf-8")
-            moved = cycles[i * 6 + 5]
-            moved.rename(moved.with_name(f"renamed-{i}-{moved.name}"))
-        set_version(catalogue, f"1.{i}")
-        git(repo, "add", "-A")
-        git(repo, "commit", "-q", "-m", f"demo release 1.{i}", when=f"2026-01-{i + 1:02d}T12:00:00+00:00")
-        git(repo, "tag", f"record-1.{i}")
-    return catalogue
+def write_floor(files: list[tuple[str, bytes]], scratch: Path, repeat: int) -> float:
+    """The least time to write ``files`` into a fresh folder, making its folders (each copy removed untimed)."""
+    times = []
+    for i in range(repeat):
+        target = scratch / f"copy-{i}"
+        t0 = time.perf_counter()
+        made: set[Path] = set()
+        for rel, data in files:
+            path = target / rel
+            if path.parent not in made:
+                path.parent.mkdir(parents=True, exist_ok=True)
+                made.add(path.parent)
+            path.write_bytes(data)
+        times.append(time.perf_counter() - t0)
+        shutil.rmtree(target)
+    return min(times)
 
 
-def main() -> None:
+def report(scale: float, catalogue: Path, build: Run, verify: Run, floors: tuple[float, float], site: Path) -> None:
+    parse, write = floors
+    floor = parse + write
+    sizes = [(p.stat().st_size, str(p.relative_to(site))) for p in sorted(site.rglob("*")) if p.is_file()]
+    size, page = max(s for s in sizes if s[1].endswith(".html"))
+    yaml_files = sum(1 for _ in catalogue.rglob("*.yaml"))
+    print(f"catalogue: {catalogue} (scale {scale:g}, {yaml_files:,} files)")
+    print(
+        f"PyYAML {yaml.__version__}, C loader {'yes' if yaml.__with_libyaml__ else 'no'}; Python {sys.version.split()[0]}"
+    )
+    print(f"floor: parse {parse:.2f} s + write {write:.2f} s = {floor:.2f} s")
+    print(f"build:  {build.seconds:7.2f} s   ratio {build.seconds / floor:5.2f}   (goal <= {BUILD_GOAL:.1f} x floor)")
+    print(
+        f"verify: {verify.seconds:7.2f} s   ratio {verify.seconds / parse:5.2f}   (goal <= {VERIFY_GOAL:.1f} x parse floor)"
+    )
+    print(
+        f"build peak memory: process tree {build.peak_pss_bytes / MB:.0f} MB proportional (shared pages counted "
+        f"once; resident sets added up: {build.peak_tree_bytes / MB:.0f} MB), largest process (ru_maxrss) "
+        f"{build.maxrss_bytes / MB:.0f} MB   (goal <= {MEMORY_GOAL_MB} MB)"
+    )
+    print(f"verify peak memory: process tree {verify.peak_tree_bytes / MB:.0f} MB")
+    total = sum(s for s, _ in sizes)
+    print(f"site: {total / MB:.1f} MB in {len(sizes):,} files; largest HTML page {page} ({size / 1024:.0f} KB)")
+
+
+def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
-    parser.add_argument("--releases", type=int, default=10)
-    parser.add_argument("--repeat", type=int, default=3)
+    parser.add_argument(
+        "--scale", type=float, default=1.0, help="size of the demo catalogue (1.0: about 50,000 cycles)"
+    )
+    parser.add_argument("--repeat", type=int, default=1)
     args = parser.parse_args()
-    with tempfile.TemporaryDirectory(prefix="periplus-bench-") as tmp:
-        folder = Path(tmp)
-        plain = folder / "plain"
-        shutil.copytree(ROOT / "catalogue", plain)
-        floor = best_of(args.repeat, lambda: build_site(plain, folder / "site-plain"))
-        one = make_repository(folder / "one", 1)
-        untagged = one.parent
-        git(untagged, "tag", "-d", "record-1.0")
-        no_tags = best_of(args.repeat, lambda: build_site(one, folder / "site-one"))
-        many = make_repository(folder / "many", args.releases)
-        result = build_site(many, folder / "site-many")
-        assert result.report.ok, [str(p) for p in result.report.problems][:3]
-        assert result.changelog is not None
-        assert len(result.changelog.releases) == args.releases, result.changelog
-        tagged = best_of(args.repeat, lambda: build_site(many, folder / "site-many"))
-    per_release = (tagged - no_tags) / args.releases
-    print(f"build outside git (floor):             {floor:6.2f} s")
-    print(f"build in git, history, no release tag: {no_tags:6.2f} s  (ratio {no_tags / floor:.2f})")
-    print(f"build in git with {args.releases:3d} releases:         {tagged:6.2f} s  (ratio {tagged / floor:.2f})")
-    print(f"cost per release:                      {per_release:6.2f} s  ({per_release / floor:.2f} of the floor)")
+    catalogue = catalogue_of(args.scale)
+    with tempfile.TemporaryDirectory(prefix="periplus-build-speed-") as tmp:
+        scratch = Path(tmp)
+        builds = []
+        for i in range(args.repeat):
+            site = scratch / f"site-{i}"
+            builds.append(run_command(["build", str(catalogue), "--out", str(site)]))
+            if i:
+                shutil.rmtree(site)
+        verify = best([run_command(["verify", str(catalogue)]) for _ in range(args.repeat)])
+        parse = best_of(args.repeat, parse_all(catalogue))
+        files = read_site(scratch / "site-0")
+        write = write_floor(files, scratch, args.repeat)
+        del files
+        report(args.scale, catalogue, best(builds), verify, (parse, write), scratch / "site-0")
+    return 0
 
 
 if __name__ == "__main__":
-    main()
+    sys.exit(main())

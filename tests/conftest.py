@@ -196,3 +196,38 @@ def big() -> BigCycle:
 
 def int_limit() -> int:
     return sys.get_int_max_str_digits()
+
+
+@dataclass(frozen=True)
+class BigSite:
+    """The big demo catalogue (bench/big_catalogue.py) and its site, built once per session."""
+
+    catalogue: Path
+    site: Path
+    scale: float
+    biggest_map: str
+    cycles: int
+    maps: int
+
+
+@pytest.fixture(scope="session")
+def big_site(tmp_path_factory: pytest.TempPathFactory) -> BigSite:
+    """The site of the big demo catalogue at scale PERIPLUS_SCALE (default 1.0: over 50,000 cycles in
+    over 3,000 maps, the size issue 13 asks pages, search and sitemaps to handle), built once."""
+    import os
+
+    if str(REPO / "bench") not in sys.path:
+        sys.path.insert(0, str(REPO / "bench"))
+    from big_catalogue import cached_catalogue
+
+    from builder.site.build import build_site
+
+    scale = float(os.environ.get("PERIPLUS_SCALE", "1.0"))
+    catalogue = cached_catalogue(scale)
+    counts = {folder.name: len(list(folder.glob("*.yaml"))) for folder in (catalogue / "cycles").iterdir()}
+    biggest = max(counts, key=lambda map_id: (counts[map_id], map_id))
+    maps = len(list((catalogue / "maps").glob("*.yaml")))
+    site = tmp_path_factory.mktemp("big") / "site"
+    result = build_site(catalogue, site)
+    assert result.report.ok and result.pages > 0, [str(p) for p in result.report.errors][:5]
+    return BigSite(catalogue, site, scale, biggest, sum(counts.values()), maps)

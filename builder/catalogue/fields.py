@@ -181,6 +181,7 @@ BRANCH = Shape("a branch", (
     Field("increment", {"type": "integer"}, "b_i, with a_i i + b_i divisible by m", True, reads=Reads.INTEGER),
 ))  # fmt: skip
 
+
 def _claim_limit(name: str, what: str) -> Field:
     """A claim's step or bit limit: a positive integer a JSON reader keeps exactly."""
     schema = {"type": "integer", "minimum": 1, "maximum": MAX_LIMIT}

@@ -55,13 +55,24 @@ class Scaling:
 class Relations:
     """Every relation found, keyed by (map id, cycle id)."""
 
-    same_word: dict[CycleKey, tuple[CycleKey, ...]] = field(default_factory=dict)
+    # Every cycle with the same word (in other maps, since one map has one cycle per word), the cycle
+    # itself included: one tuple shared by the whole group, so a word shared by thousands of maps (the
+    # fixed point 0 of every qx+d map) costs its size once, not its square.  Read it with ``same_word``.
+    word_group: dict[CycleKey, tuple[CycleKey, ...]] = field(default_factory=dict)
     mirror: dict[CycleKey, CycleKey] = field(default_factory=dict)
     mirror_map: dict[str, str] = field(default_factory=dict)  # map id -> its catalogued mirror map
     scaled_from: dict[CycleKey, Scaling] = field(default_factory=dict)  # copy -> how it is scaled
     scaled_to: dict[CycleKey, tuple[Scaling, ...]] = field(default_factory=dict)  # base -> its copies
     # For qx+d maps: the common factor of a cycle's members with d (1: coprime to d).
     shared_factor: dict[CycleKey, int] = field(default_factory=dict)
+
+    def same_word(self, key: CycleKey) -> Iterator[CycleKey]:
+        """The cycles of other maps with the word of ``key``, in catalogue order."""
+        return (k for k in self.word_group.get(key, ()) if k[0] != key[0])
+
+    def same_word_count(self, key: CycleKey) -> int:
+        group = self.word_group.get(key, ())
+        return len(group) - 1 if group else 0
 
 
 def _all_cycles(catalogue: Catalogue) -> Iterator[tuple[MapEntry, Cycle]]:
@@ -84,10 +95,11 @@ def find_relations(catalogue: Catalogue) -> Relations:
         lyndon = rotate(word, least_rotation_index(word))
         groups.setdefault((entry.modulus, lyndon), []).append((entry.id, cycle.id))
     for keys in groups.values():
-        for key in keys:
-            others = tuple(k for k in keys if k[0] != key[0])
-            if others:
-                rel.same_word[key] = others
+        if len(keys) > 1:
+            group = tuple(keys)
+            assert len({k[0] for k in group}) == len(group), "one map has one cycle per word (the cycle equation)"
+            for key in group:
+                rel.word_group[key] = group
 
     # Mirrors: n -> -T(-n).
     for map_id, entry in catalogue.maps.items():

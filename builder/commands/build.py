@@ -15,6 +15,7 @@ from builder.commands.options import (
     add_limits,
     limits_of,
     open_cache,
+    positive,
 )
 from builder.commands.summary import show_report
 from builder.errors import UsageError
@@ -47,6 +48,13 @@ def register(subparsers: Subcommands) -> None:
         action="store_true",
         help="if another build is writing DIR, stop at once (exit 2) instead of waiting for it to finish",
     )
+    parser.add_argument(
+        "--jobs",
+        type=positive,
+        default=None,
+        metavar="N",
+        help="processes that write the pages (default: the number of CPUs); the site does not depend on it",
+    )
     add_limits(parser)
     add_cache(parser)
     parser.set_defaults(run=run)
@@ -60,7 +68,9 @@ def run(args: argparse.Namespace) -> int:
         if base_url is None:
             raise UsageError(f"--base-url: expected {SITE_ADDRESS}, got '{args.base_url}'")
     with open_cache(args, default_cache_folder(args.catalogue)) as cache:
-        result = build_site(args.catalogue, args.out, limits_of(args), base_url, wait=not args.no_wait, cache=cache)
+        result = build_site(
+            args.catalogue, args.out, limits_of(args), base_url, wait=not args.no_wait, jobs=args.jobs, cache=cache
+        )
     show_report(result.report)
     if not result.report.ok:
         print(f"nothing was written; {args.out} is as it was")

@@ -87,8 +87,19 @@ class Edition:
         return self.status == "release"
 
     @property
+    def shown(self) -> str:
+        """How pages name this edition: like ``label`` but without the commit, so that the pages a commit
+        does not change stay byte-identical until the next release ("release 1.0 with later changes")."""
+        if self.status == "release":
+            return f"release {self.version}"
+        if self.status == "after-release":
+            return f"release {self.version} with later changes"
+        return f"version {self.version}, not yet released"
+
+    @property
     def label(self) -> str:
-        """How pages and citations name this edition, e.g. "release 1.0"."""
+        """How the citation files and the data page name this edition, e.g. "release 1.0", or
+        "release 1.0 with later changes (commit 0123456789ab)"."""
         if self.status == "release":
             return f"release {self.version}"
         state = f"commit {self.commit[:12]}" if self.commit else "a copy outside git"

@@ -29,7 +29,7 @@ from builder.catalogue.verify import Limits, verify_catalogue
 from builder.errors import UsageError
 from builder.history.changelog import Changelog, Edition, read_changelog
 from builder.history.repo import NoHistory, RepoHistory, read_history
-from builder.site.render import MARKER, render_site
+from builder.site.render import MARKER, default_jobs, render_site
 from builder.site.views import SiteViews, build_views
 
 __all__ = ["BuildResult", "build_site"]
@@ -162,11 +162,15 @@ def build_site(
     base_url: str | None = None,
     *,
     wait: bool = True,
+    jobs: int | None = None,
+    reuse: bool = True,
     cache: VerifyCache | None = None,
 ) -> BuildResult:
     """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically.
 
     ``wait`` False refuses at once (UsageError) when another build is writing ``out``, instead of waiting.
+    ``jobs`` processes render the pages (default: one per usable core).  With ``reuse``, the pages whose
+    inputs did not change are taken from the site already in ``out`` (hard links), not written again.
     ``cache`` keeps verification results between builds (the catalogue's and its releases').
     """
     _check_target(out)
@@ -182,15 +186,16 @@ def build_site(
     out = out.absolute()
     with _lock(out, wait):
         _check_target(out)  # another build may have written it while this one waited
-        pages = _write(views, out)
+        pages = _write(views, out, jobs if jobs is not None else default_jobs(), reuse)
     return BuildResult(report, len(pages), edition, changelog, history)
 
 
-def _write(views: SiteViews, out: Path) -> list[str]:
+def _write(views: SiteViews, out: Path, jobs: int, reuse: bool) -> list[str]:
     """Write the site into a staging folder beside ``out`` and swap it in; return the pages written."""
     staging = _staging(out)
     try:
-        pages = render_site(views, staging)
+        previous = out if reuse and (out / MARKER).is_file() else None
+        pages = render_site(views, staging, jobs, previous)
         os.chmod(staging, 0o755)  # mkdtemp makes it private; a site is for reading
         if not out.exists():
             staging.rename(out)

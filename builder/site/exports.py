@@ -9,10 +9,10 @@ build time): the same catalogue always gives the same bytes.
 from __future__ import annotations
 
 import csv
-import io
 import json
 import uuid
-from typing import Any
+from collections.abc import Iterable, Mapping, Sequence
+from typing import IO, Any
 from xml.sax.saxutils import escape, quoteattr
 
 from builder.arith.fingerprint import FINGERPRINT_DIGITS, FINGERPRINT_HEADER
@@ -22,14 +22,17 @@ from builder.site.views import SiteViews
 
 __all__ = [
     "CSV_COLUMNS",
+    "FEED_ENTRIES",
     "FINGERPRINT_NOTE",
+    "SITEMAP_BYTES",
+    "SITEMAP_URLS",
     "atom_feed",
-    "catalogue_json",
-    "cycles_csv",
     "json_text",
     "map_json",
     "search_index_js",
-    "sitemap_xml",
+    "sitemap_files",
+    "write_catalogue_json",
+    "write_cycles_csv",
 ]
 
 CSV_COLUMNS = (
@@ -46,8 +49,38 @@ FINGERPRINT_NOTE = (
 )
 
 
+#: The feed lists this many of the newest cycles (a feed is read for what is new, and every reader
+#: fetches it whole).
+FEED_ENTRIES = 100
+#: The sitemap protocol's limits for one file (sitemaps.org, "Sitemaps XML format"): 50,000 addresses
+#: and 50 MB (52,428,800 bytes) uncompressed; a site with more gets a sitemap index.
+SITEMAP_URLS = 50_000
+SITEMAP_BYTES = 52_428_800
+
+# Compact separators keep Python's C encoder (an indent turns it off) and the files small.
+_ENCODER = json.JSONEncoder(ensure_ascii=False, sort_keys=True, separators=(",", ":"))
+
+
 def json_text(data: Any) -> str:
-    return json.dumps(data, ensure_ascii=False, indent=1, sort_keys=True) + "\n"
+    """Compact JSON with sorted keys and a final line feed."""
+    return _ENCODER.encode(data) + "\n"
+
+
+def _write_json_object(fh: IO[str], fields: Mapping[str, Any], lists: Mapping[str, Iterable[Any]]) -> None:
+    """Write a JSON object whose ``lists`` are written item by item, one item a line, so a whole record
+    is never held as one text; keys sorted as json_text sorts them, so the bytes do not depend on it."""
+    fh.write("{")
+    keys = sorted([*fields, *lists])
+    for n, key in enumerate(keys):
+        fh.write(("," if n else "") + _ENCODER.encode(key) + ":")
+        if key in fields:
+            fh.write(_ENCODER.encode(fields[key]))
+            continue
+        fh.write("[")
+        for i, item in enumerate(lists[key]):
+            fh.write(("," if i else "") + "\n" + _ENCODER.encode(item))
+        fh.write("\n]")
+    fh.write("}\n")
 
 
 def _pick(obj: object, names: str, **renamed: str) -> dict[str, Any]:
@@ -58,10 +91,15 @@ def _pick(obj: object, names: str, **renamed: str) -> dict[str, Any]:
     return out
 
 
-def _about(about: AboutRecord) -> dict[str, Any]:
-    return _pick(
+def _about(about: AboutRecord, *, whole: bool = True) -> dict[str, Any]:
+    """The record's description; a file of one map (``whole`` False) names the edition without the
+    commit, so that it changes only when its map does, or at a release."""
+    out = _pick(
         about, "title description maintainers licence licence_url base_url version edition release_status commit"
     )
+    if not whole:
+        out.update(edition=about.edition_shown, commit=None)
+    return out
 
 
 def _reference(ref: Reference) -> dict[str, Any]:
@@ -116,24 +154,23 @@ def _map(m: MapRecord) -> dict[str, Any]:
     }
 
 
-def catalogue_json(views: SiteViews) -> str:
-    """data/catalogue.json: the whole verified record."""
-    whole = {
+def write_catalogue_json(views: SiteViews, fh: IO[str]) -> None:
+    """data/catalogue.json: the whole verified record, one map and one cycle a line."""
+    fields = {
         "format": "periplus-record",
         "format_version": 2,
         "record": _about(views.about),
         "note": "Every integer that belongs to a cycle is a decimal string; JSON numbers lose precision.",
         "fingerprint_recipe": FINGERPRINT_NOTE,
-        "maps": [_map(m) for m in views.maps.values()],
-        "cycles": [_cycle(c) for c in views.cycles],
         "references": {key: _reference(ref) for key, ref in views.references.items()},
     }
-    return json_text(whole)
+    lists = {"maps": (_map(m) for m in views.maps.values()), "cycles": (_cycle(c) for c in views.cycles)}
+    _write_json_object(fh, fields, lists)
 
 
 def map_json(m: MapRecord) -> str:
     """data/maps/<id>.json: one map with its cycles in full and the record it belongs to."""
-    return json_text({**_map(m), "cycles": [_cycle(c) for c in m.cycles], "record": _about(m.about)})
+    return json_text({**_map(m), "cycles": [_cycle(c) for c in m.cycles], "record": _about(m.about, whole=False)})
 
 
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
@@ -157,8 +194,8 @@ def _comment(text: str) -> str:
     return ",".join(pieces)
 
 
-def cycles_csv(views: SiteViews) -> str:
-    out = io.StringIO()
+def write_cycles_csv(views: SiteViews, out: IO[str]) -> None:
+    """data/cycles.csv: one row per cycle, after one comment line."""
     record, edition = views.record, views.edition
     # One comment line first (RFC 4180 has none; readers skip it with comment='#' or skiprows=1).
     header = (
@@ -177,7 +214,6 @@ def cycles_csv(views: SiteViews) -> str:
                 _cell(c.provenance.found_by), c.provenance.found_on.isoformat(), c.url,
             ]
         )  # fmt: skip
-    return out.getvalue()
 
 
 def search_index_js(views: SiteViews) -> str:
@@ -212,8 +248,10 @@ def _entry_id(*parts: str) -> str:
 
 
 def atom_feed(views: SiteViews) -> str:
-    """An Atom feed (RFC 4287) of the cycles by found_on, newest first; entry ids follow fingerprints."""
+    """An Atom feed (RFC 4287) of the newest ``FEED_ENTRIES`` cycles by found_on, newest first; entry ids
+    follow fingerprints."""
     entries = sorted(views.cycles, key=lambda c: (c.provenance.found_on, c.map_id, c.id), reverse=True)
+    entries = entries[:FEED_ENTRIES]
     record = views.record
     updated = f"{entries[0].provenance.found_on.isoformat()}T00:00:00Z" if entries else "1970-01-01T00:00:00Z"
     rights = f"Data licence {record.licence} ({record.licence_url}); {views.edition.label}"
@@ -249,8 +287,34 @@ def atom_feed(views: SiteViews) -> str:
     return "\n".join(lines) + "\n"
 
 
-def sitemap_xml(paths: list[str], base_url: str) -> str:
-    """A sitemaps.org sitemap; it needs absolute addresses, hence a base URL."""
-    base = base_url if base_url.endswith("/") else base_url + "/"
-    rows = "".join(f"  <url><loc>{escape(base + p)}</loc></url>\n" for p in sorted(paths))
+def _urlset(locations: Sequence[str]) -> str:
+    rows = "".join(f"  <url><loc>{escape(loc)}</loc></url>\n" for loc in locations)
     return f'<?xml version="1.0" encoding="utf-8"?>\n<urlset xmlns="http://www.sitemaps.org/schemas/sitemap/0.9">\n{rows}</urlset>\n'
+
+
+def sitemap_files(
+    paths: Sequence[str], base_url: str, *, max_urls: int = SITEMAP_URLS, max_bytes: int = SITEMAP_BYTES
+) -> list[tuple[str, str]]:
+    """sitemap.xml (sitemaps.org protocol; it needs absolute addresses, hence a base URL), as
+    (address, text) pairs.  Within one file's limits it is one urlset; beyond them, sitemap.xml is a
+    sitemap index of sitemaps/<n>.xml, each within the limits."""
+    base = base_url if base_url.endswith("/") else base_url + "/"
+    locations = [base + p for p in sorted(paths)]
+    parts: list[list[str]] = [[]]
+    size = len(_urlset([]).encode())
+    for loc in locations:
+        row = len(f"  <url><loc>{escape(loc)}</loc></url>\n".encode())
+        if parts[-1] and (len(parts[-1]) >= max_urls or size + row > max_bytes):
+            parts.append([])
+            size = len(_urlset([]).encode())
+        parts[-1].append(loc)
+        size += row
+    if len(parts) == 1:
+        return [("sitemap.xml", _urlset(parts[0]))]
+    files = [(f"sitemaps/{n}.xml", _urlset(part)) for n, part in enumerate(parts, start=1)]
+    rows = "".join(f"  <sitemap><loc>{escape(base + path)}</loc></sitemap>\n" for path, _ in files)
+    index = (
+        '<?xml version="1.0" encoding="utf-8"?>\n'
+        f'<sitemapindex xmlns="http://www.sitemaps.org/schemas/sitemap/0.9">\n{rows}</sitemapindex>\n'
+    )
+    return [("sitemap.xml", index), *files]

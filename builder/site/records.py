@@ -10,7 +10,7 @@ published as the model's own frozen type (builder.catalogue.model), not copied i
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from builder.arith.integers import to_decimal
 from builder.arith.words import word_text
@@ -42,6 +42,7 @@ class AboutRecord:
     edition: str  # the edition's label
     release_status: str
     commit: str | None
+    edition_shown: str  # the label without the commit, as pages and the per-map files give it
 
     @classmethod
     def of(cls, record: Record, edition: Edition, base_url: str) -> AboutRecord:
@@ -56,6 +57,7 @@ class AboutRecord:
             edition.label,
             edition.status,
             edition.commit,
+            edition.shown,
         )
 
 
@@ -115,7 +117,6 @@ class CycleRecord:
     canonical: str
     length: int
     word: str
-    members: tuple[str, ...]  # from the canonical member, in the order the map visits them
     residue_counts: tuple[int, ...]
     minimum: str
     maximum: str
@@ -127,6 +128,13 @@ class CycleRecord:
     start: str  # the member the entry starts from
     provenance: Provenance
     history: HistoryRecord | None
+    cycle: Cycle = field(repr=False, compare=False)  # the verified cycle it was made from
+
+    @property
+    def members(self) -> tuple[str, ...]:
+        """The members from the canonical member, in the order the map visits them: written out when
+        asked for (they are most of a record's size, and a build needs them for one page and one file)."""
+        return tuple(to_decimal(n) for n in self.cycle.canonical_members)
 
     @classmethod
     def of(cls, entry: MapEntry, cycle: Cycle, rel: Relations, history: HistoryRecord | None) -> CycleRecord:
@@ -139,7 +147,6 @@ class CycleRecord:
             to_decimal(cycle.canonical),
             cycle.length,
             word_text(cycle.canonical_word, entry.modulus),
-            tuple(to_decimal(n) for n in cycle.canonical_members),
             tuple(cycle.residue_counts),
             to_decimal(cycle.minimum),
             to_decimal(cycle.maximum),
@@ -151,6 +158,7 @@ class CycleRecord:
             to_decimal(cycle.start),
             cycle.provenance,
             history,
+            cycle,
         )
 
 

@@ -6,32 +6,76 @@ MathML and SVG built by Periplus from numbers, each returned as Markup by
 the module that escapes it.  Every output path is checked to stay inside the
 output directory, whatever the ids (they are validated long before, this is
 a second line of defence).
+
+The work is cut into tasks: one per unit of pages (builder.site.pages.page_units: a map with
+its cycles, or one kind of page for the whole site) and one per large export.  Each task makes
+its pages, renders them and writes them at once, so a build holds one task's text at a time.
+With more than one process the tasks are shared among worker processes forked from the build:
+they inherit the site's records instead of receiving copies, and send back only the addresses
+and titles of the pages they wrote.  What needs every page (the site map, sitemap.xml) is
+written last, by the build itself.  The output never depends on how the tasks were shared.
+
+Builds are incremental: a task whose inputs are known (a unit's ``inputs``, builder.site.pages)
+has a digest of them and of what every page reads (the code and templates, the record, the
+edition, the base address).  The manifest ``.periplus-build.json`` in the site lists each task's
+digest and files; a build that finds the same digest in the site it replaces hard-links that
+task's files from it instead of writing them again, so the result is the clean build's, byte
+for byte (tests/site/test_incremental.py).
 """
 
 from __future__ import annotations
 
+import gc
+import hashlib
+import json
+import multiprocessing
+import os
 import shutil
-from dataclasses import replace
+import signal
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass, replace
 from importlib import resources
 from pathlib import Path
+from typing import IO
 
 import jinja2
 
 from builder import __version__
-from builder.site.exports import atom_feed, catalogue_json, cycles_csv, map_json, search_index_js, sitemap_xml
+from builder.site.digest import stable_digest
+from builder.site.exports import (
+    atom_feed,
+    map_json,
+    search_index_js,
+    sitemap_files,
+    write_catalogue_json,
+    write_cycles_csv,
+)
 from builder.site.metadata import citation_cff, robots_txt
-from builder.site.pages import NAV
+from builder.site.pages import NAV, Unit, index_pages
+from builder.site.pages.common import Page, PageInfo
 from builder.site.views import SiteViews
 
-__all__ = ["MARKER", "render_site", "template_dir"]
+__all__ = ["MANIFEST", "MARKER", "Writer", "default_jobs", "render_site", "template_dir"]
 
 #: Written at the top of every built site, so a later build knows the folder is its own to replace.
 MARKER = ".periplus-site"
+#: What each task of the build wrote, with the digest of its inputs, for the next build.
+MANIFEST = ".periplus-build.json"
+_MANIFEST_FORMAT = "periplus-build/1"
 
 
 def template_dir() -> Path:
     """The folder holding the templates and static assets (the top-level templates/ folder)."""
     return Path(str(resources.files("builder.templates")))
+
+
+def default_jobs() -> int:
+    """How many processes a build uses unless told: the cores this process may run on."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # not on Linux
+        return max(1, os.cpu_count() or 1)
 
 
 def _environment() -> jinja2.Environment:
@@ -42,46 +86,301 @@ def _environment() -> jinja2.Environment:
         trim_blocks=True,
         lstrip_blocks=True,
         keep_trailing_newline=True,
+        auto_reload=False,
     )
     env.globals.update(nav=NAV, version=__version__)
     return env
 
 
-def _write(out: Path, relative: str, text: str) -> None:
-    target = (out / relative).resolve()
-    if not target.is_relative_to(out.resolve()):
-        raise AssertionError(f"refusing to write outside the site: {relative!r}")
-    target.parent.mkdir(parents=True, exist_ok=True)
-    target.write_text(text, encoding="utf-8", newline="\n")
+class Writer:
+    """Writes files below one folder, refusing any address that would leave it."""
+
+    def __init__(self, out: Path) -> None:
+        self.out = out.resolve()
+        self._folders: set[str] = set()
+        self.files: list[str] = []  # every file written, in order
+
+    def _target(self, relative: str) -> str:
+        # Addresses are built from validated ids; this is the second line of defence, done on the text
+        # (no resolve() per file): a relative POSIX path with no empty, "." or ".." part.
+        parts = relative.split("/")
+        if relative.startswith("/") or "\\" in relative or any(p in ("", ".", "..") for p in parts):
+            raise AssertionError(f"refusing to write outside the site: {relative!r}")
+        folder = "/".join(parts[:-1])
+        if folder and folder not in self._folders:
+            path = os.path.join(self.out, folder)
+            try:
+                os.mkdir(path)  # most folders hold one page, below a folder that exists
+            except FileExistsError:
+                pass
+            except FileNotFoundError:
+                os.makedirs(path, exist_ok=True)
+            self._folders.add(folder)
+        self.files.append(relative)
+        return os.path.join(self.out, relative)
+
+    def link(self, relative: str, source: Path) -> None:
+        """Put the file ``source`` (of the site this build replaces) at ``relative``, as a hard link."""
+        os.link(source, self._target(relative))
+
+    def text(self, relative: str, text: str) -> None:
+        with open(self._target(relative), "w", encoding="utf-8", newline="\n") as fh:
+            fh.write(text)
+
+    @contextmanager
+    def stream(self, relative: str) -> Iterator[IO[str]]:
+        with open(self._target(relative), "w", encoding="utf-8", newline="\n") as fh:
+            yield fh
 
 
-def render_site(views: SiteViews, out: Path) -> list[str]:
-    """Write every page, export and asset into ``out`` (an empty folder); return the pages written."""
-    env = _environment()
-    pages = []
-    for page in views.pages:
+@dataclass(frozen=True, slots=True)
+class _Task:
+    name: str
+    cost: int
+    run: Callable[[SiteViews, Writer, jinja2.Environment], list[PageInfo]]
+    inputs: Callable[[SiteViews], object] | None = None  # None: made at every build
+
+
+@dataclass(frozen=True, slots=True)
+class _Done:
+    """What a task left: its digest (None without known inputs), its pages and every file it wrote."""
+
+    digest: str | None
+    pages: list[PageInfo]
+    files: list[str]
+
+
+@dataclass(frozen=True, slots=True)
+class _Previous:
+    """The site a build replaces, as its manifest describes it."""
+
+    root: Path
+    tasks: dict[str, _Done]
+
+
+def _source_digest() -> str:
+    """A digest of the code and templates that write pages: a build by other code makes every page again."""
+    h = hashlib.sha256(__version__.encode())
+    for folder in (Path(__file__).resolve().parent.parent, template_dir()):
+        for path in sorted(folder.rglob("*")):
+            if path.suffix in (".py", ".html", ".css", ".js") and "__pycache__" not in path.parts:
+                h.update(path.relative_to(folder).as_posix().encode() + b"\0" + path.read_bytes() + b"\0")
+    return h.hexdigest()
+
+
+def _common_inputs(views: SiteViews) -> str:
+    """What every page reads besides its own inputs."""
+    history = views.history
+    return stable_digest(
+        (
+            _source_digest(),
+            views.record,
+            views.edition.shown,
+            views.base_url,
+            views.site.fixed_root,
+            getattr(history, "reason", None),
+            getattr(history, "shallow", None),
+        )
+    )
+
+
+def _digest(common: str, inputs: object) -> str:
+    return stable_digest((common, inputs))
+
+
+def _read_previous(site: Path | None) -> _Previous | None:
+    """The manifest of the site a build replaces; None when there is none or it cannot be read."""
+    if site is None:
+        return None
+    try:
+        data = json.loads((site / MANIFEST).read_text(encoding="utf-8"))
+        if data.get("format") != _MANIFEST_FORMAT:
+            return None
+        tasks = {
+            name: _Done(entry["digest"], [PageInfo(*page) for page in entry["pages"]], list(entry["files"]))
+            for name, entry in data["tasks"].items()
+        }
+    except (OSError, ValueError, KeyError, TypeError):
+        return None
+    return _Previous(site, tasks)
+
+
+def _manifest(names: list[str], done: list[_Done]) -> str:
+    tasks = {
+        name: {"digest": d.digest, "pages": [list(_page_row(p)) for p in d.pages], "files": d.files}
+        for name, d in zip(names, done, strict=True)
+        if d.digest is not None
+    }
+    return json.dumps({"format": _MANIFEST_FORMAT, "tasks": tasks}, sort_keys=True, separators=(",", ":")) + "\n"
+
+
+def _page_row(p: PageInfo) -> tuple[str, str, bool, bool]:
+    return (p.path, p.title, p.listed, p.in_site_map)
+
+
+def _render(views: SiteViews, writer: Writer, env: jinja2.Environment, pages: list[Page]) -> list[PageInfo]:
+    written = []
+    for page in pages:
         template = env.get_template(page.template)
         html = template.render(page=page, root=page.root, about=views.record, edition=views.edition, **page.context)
-        _write(out, page.path, html)
-        pages.append(page.path)
-    _write(out, "data/catalogue.json", catalogue_json(views))
-    _write(out, "data/cycles.csv", cycles_csv(views))
-    for map_id, record in views.maps.items():
-        _write(out, f"data/maps/{map_id}.json", map_json(record))
-    _write(out, "data/search-index.js", search_index_js(views))
-    _write(out, "feed.xml", atom_feed(views))
-    _write(out, "sitemap.xml", sitemap_xml([p for p in pages if p != "404.html"], views.base_url))
+        writer.text(page.path, html)
+        written.append(PageInfo(page.path, page.title, page.listed, page.in_site_map))
+    return written
+
+
+def _tasks(views: SiteViews) -> list[_Task]:
+    tasks = []
+    for unit in views.units:
+        known = unit.inputs
+        inputs = None if known is None else (lambda v, known=known: known(v.site))
+        tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs))
+    size = len(views.cycles)
+    tasks.append(_Task("export:catalogue", 1 + size // 3, _catalogue_export))
+    tasks.append(_Task("export:csv", 1 + size // 20, _csv_export))
+    tasks.append(_Task("export:search", 1 + size // 10, _search_export, _search_inputs))
+    return tasks
+
+
+def _unit_pages(unit: Unit) -> Callable[[SiteViews, Writer, jinja2.Environment], list[PageInfo]]:
+    def run(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
+        pages = _render(views, writer, env, unit.make(views.site))
+        if unit.map_id is not None:  # the map's data file, from the same inputs as its pages
+            writer.text(f"data/maps/{unit.map_id}.json", map_json(views.maps[unit.map_id]))
+        return pages
+
+    return run
+
+
+def _catalogue_export(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
+    with writer.stream("data/catalogue.json") as fh:
+        write_catalogue_json(views, fh)
+    return []
+
+
+def _csv_export(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
+    with writer.stream("data/cycles.csv") as fh:
+        write_cycles_csv(views, fh)
+    return []
+
+
+def _search_export(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
+    writer.text("data/search-index.js", search_index_js(views))
+    return []
+
+
+def _search_inputs(views: SiteViews) -> object:
+    """What the search index holds: each cycle's key and fingerprint (which fix its members, word and
+    length) and its map's name."""
+    return [(c.map_id, c.id, c.fingerprint, views.maps[c.map_id].name) for c in views.cycles]
+
+
+def _perform(
+    task: _Task, views: SiteViews, out: Path, env: jinja2.Environment, common: str, previous: _Previous | None
+) -> _Done:
+    """Run one task, or reuse its files from the previous site when its inputs are the same."""
+    digest = None if task.inputs is None else _digest(common, task.inputs(views))
+    before = previous.tasks.get(task.name) if previous is not None else None
+    if digest is not None and before is not None and before.digest == digest:
+        assert previous is not None
+        writer = Writer(out)
+        try:
+            for relative in before.files:
+                writer.link(relative, previous.root / relative)
+            return _Done(digest, before.pages, before.files)
+        except OSError:  # a file gone or another file system: write them after all
+            for relative in writer.files:
+                Path(writer.out, relative).unlink(missing_ok=True)
+    writer = Writer(out)
+    pages = task.run(views, writer, env)
+    return _Done(digest, pages, writer.files)
+
+
+# The state a worker process works from: set by the build just before it forks its workers, so they
+# inherit it (copy-on-write) instead of receiving it through a pipe.
+_FORKED: tuple[SiteViews, list[_Task], Path, str, _Previous | None] | None = None
+_ENV: jinja2.Environment | None = None
+
+
+class _Stopped(Exception):
+    """A worker was stopped by an exception that is not an Exception (KeyboardInterrupt, SystemExit),
+    which would otherwise end the worker and leave the build waiting for its result forever."""
+
+    def __init__(self, name: str) -> None:
+        super().__init__(name)
+        self.name = name
+
+
+def _worker_start() -> None:
+    # Ctrl-C reaches every process of the terminal's group: the build itself handles it, and ends the workers.
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
+def _worker_run(index: int) -> _Done:
+    global _ENV
+    assert _FORKED is not None, "a worker runs only in a process forked by render_site"
+    views, tasks, out, common, previous = _FORKED
+    if _ENV is None:
+        _ENV = _environment()
+    try:
+        return _perform(tasks[index], views, out, _ENV, common, previous)
+    except Exception:
+        raise
+    except BaseException as exc:
+        raise _Stopped(type(exc).__name__) from None
+
+
+def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previous: _Previous | None) -> list[_Done]:
+    """Run every task, in ``jobs`` processes; what each left, in the order of the tasks."""
+    common = _common_inputs(views)
+    if jobs <= 1 or len(tasks) < 2 or "fork" not in multiprocessing.get_all_start_methods():
+        env = _environment()
+        return [_perform(task, views, out, env, common, previous) for task in tasks]
+    global _FORKED
+    results: list[_Done | None] = [None] * len(tasks)
+    # Largest first, so that no process is left with a big task at the end.
+    order = sorted(range(len(tasks)), key=lambda i: (-tasks[i].cost, i))
+    _FORKED = (views, tasks, out, common, previous)
+    gc.collect()
+    gc.freeze()  # the collector would otherwise touch, and so copy, every object the workers inherit
+    try:
+        with multiprocessing.get_context("fork").Pool(jobs, initializer=_worker_start) as pool:
+            for i, result in zip(order, pool.imap(_worker_run, order, chunksize=1), strict=True):
+                results[i] = result
+    except _Stopped as stopped:
+        if stopped.name == "KeyboardInterrupt":
+            raise KeyboardInterrupt from None
+        raise SystemExit(f"a page-writing process stopped ({stopped.name})") from None
+    finally:
+        _FORKED = None
+        gc.unfreeze()
+    assert all(r is not None for r in results)
+    return [r for r in results if r is not None]
+
+
+def render_site(views: SiteViews, out: Path, jobs: int = 1, previous: Path | None = None) -> list[str]:
+    """Write every page, export and asset into ``out`` (an empty folder), in ``jobs`` processes;
+    return the pages written.  ``previous`` is the site this one replaces, if any: the files of the
+    tasks whose inputs did not change are taken from it."""
+    writer = Writer(out)
+    tasks = _tasks(views)
+    done = _run_tasks(views, tasks, out, jobs, _read_previous(previous))
+    written = [info for d in done for info in d.pages]
+    written += _render(views, writer, _environment(), index_pages(views.site, written))
+    pages = [info.path for info in written]
+    for path, text in sitemap_files([info.path for info in written if info.listed], views.base_url):
+        writer.text(path, text)
+    writer.text("feed.xml", atom_feed(views))
     about = replace(views.record, base_url=views.base_url)
-    _write(
-        out,
+    writer.text(
         "CITATION.cff",
         citation_cff(about, release=about.version, released_on=views.edition.released_on, commit=views.edition.commit),
     )
-    _write(out, "robots.txt", robots_txt(views.base_url))
+    writer.text("robots.txt", robots_txt(views.base_url))
     static = template_dir() / "static"
     for asset in sorted(static.iterdir()):
         if asset.is_file() and not asset.name.startswith("."):
             (out / "static").mkdir(exist_ok=True)
             shutil.copyfile(asset, out / "static" / asset.name)
-    _write(out, MARKER, f"This folder was written by periplus {__version__}; periplus build replaces it whole.\n")
+    writer.text(MANIFEST, _manifest([t.name for t in tasks], done))
+    writer.text(MARKER, f"This folder was written by periplus {__version__}; periplus build replaces it whole.\n")
     return pages

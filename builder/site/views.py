@@ -15,8 +15,7 @@ from pathlib import Path
 from builder.catalogue.model import Catalogue, Record, Reference
 from builder.catalogue.relations import find_relations
 from builder.history import Changelog, Edition, NoHistory, RepoHistory
-from builder.site.pages import all_pages
-from builder.site.pages.common import Page
+from builder.site.pages import Unit, page_units
 from builder.site.pages.context import SiteContext
 from builder.site.records import AboutRecord, CycleRecord, HistoryRecord, MapRecord
 
@@ -25,9 +24,10 @@ __all__ = ["SiteViews", "build_views"]
 
 @dataclass(frozen=True, slots=True)
 class SiteViews:
-    """Everything a build writes: the pages, and the typed records the exports are written from."""
+    """Everything a build writes: the units of pages, and the typed records the exports are written from."""
 
-    pages: list[Page]
+    site: SiteContext  # what the pages are made from
+    units: list[Unit]  # every page of the site, in units made when they are rendered
     about: AboutRecord  # the record's description, as every export carries it
     maps: Mapping[str, MapRecord]  # map id -> its record with its cycles, in catalogue order
     cycles: tuple[CycleRecord, ...]  # every cycle, in catalogue order
@@ -95,5 +95,6 @@ def build_views(
         changelog=changelog,
         history=history,
     )
-    pages = all_pages(site)
-    return SiteViews(pages, about, map_records, cycle_records, catalogue.references, record, edition, base, history)
+    return SiteViews(
+        site, page_units(site), about, map_records, cycle_records, catalogue.references, record, edition, base, history
+    )

@@ -6,9 +6,11 @@ import math
 
 import gmpy2
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from builder.arith.dynamics import AffineMap
-from builder.arith.odds import length_odds, modelled, odds_table
+from builder.arith.odds import length_chances, length_odds, modelled, odds_table
 
 SHORTCUT_3X1 = AffineMap(2, ((1, 0), (3, 1)))
 SHORTCUT_3X_MINUS_1 = AffineMap(2, ((1, 0), (3, -1)))
@@ -92,3 +94,29 @@ def test_the_model_is_not_computed_for_multipliers_beyond_a_machine_word(cli, ca
     run = cli("odds", "wide", "--lengths", "1..5", "--catalogue", str(root))
     assert run.code == 2
     assert run.err.startswith("periplus: error: odds: expected multipliers of at most 64 bits, got larger ones in wide")
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    q=st.sampled_from([1, 3, 5, 7, 181, 2**61 - 1]),
+    half=st.one_of(st.integers(-5000, 5000), st.integers(2**30 - 5, 2**30 + 5), st.integers(-(10**60), 10**60)),
+    top=st.integers(1, 45),
+)
+def test_the_chart_computes_the_same_model_at_once(q, half, top):
+    # Rule (builder.arith.odds): the chance at length k is 1 - prod_x (1 - g/|2^k - A|)^L(k, x), with
+    # g = gcd(target, d) for n/2, (qn + d)/2; length_chances computes it for k = 1..top with arrays,
+    # and must agree with the exact per-length computation to rounding.  d is odd, as q is, so that
+    # the map sends integers to integers (common practice, no source); d near 2^31 takes both gcd paths.
+    d = 2 * half + 1
+    mapping = AffineMap(2, ((1, 0), (q, d)))
+    fast = length_chances(mapping, top)
+    assert len(fast) == top
+    for k, chance in enumerate(fast, start=1):
+        assert math.isclose(chance, length_odds(mapping, k), rel_tol=1e-9, abs_tol=1e-12), (q, d, k)
+
+
+def test_the_chart_sees_certain_lengths_as_certain():
+    # 3x+13: the target 2^8 - 3^5 = 13 divides d = 13, so every word of length 8 with 5 odd steps
+    # gives an integer cycle (issue 16, citing the cycle equation; common practice, no source).
+    assert length_chances(AffineMap(2, ((1, 0), (3, 13))), 8)[7] == 1.0
+    assert length_chances(AffineMap(2, ((1, 0), (3, 13))), 0) == []

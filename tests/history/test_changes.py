@@ -149,7 +149,12 @@ def test_later_changes_are_listed_as_unreleased_and_citations_say_so(releases: R
     assert result.edition.label == f"release 2.0 with later changes (commit {head[:12]} with uncommitted changes)"
     page = (tmp_path / "site/maps/3x-plus-1/through-1/index.html").read_text(encoding="utf-8")
     cite = BeautifulSoup(page, "html.parser").select("pre.cite")[0].get_text()
-    assert f"release 2.0 with later changes (commit {head[:12]}" in cite
+    # Issue 13: pages name the edition without the commit, so a commit leaves untouched pages as they
+    # were; the commit is in the citation file and on the data page.
+    assert "release 2.0 with later changes," in cite and head[:12] not in page
+    assert head in (tmp_path / "site/CITATION.cff").read_text(encoding="utf-8")
+    data = (tmp_path / "site/data/index.html").read_text(encoding="utf-8")
+    assert head in data and "with changes not yet committed" in data
     assert (tmp_path / "site/changes/unreleased/index.html").is_file()
 
 
@@ -230,3 +235,25 @@ def test_a_series_of_comparisons_is_each_pair_compared(releases: Repo, tmp_path:
     series = compare_series(reports)
     assert series == [compare(reports[0], reports[1]), compare(reports[1], reports[2])]
     assert all(c.changes for c in series)
+
+
+def test_a_commit_leaves_the_pages_it_does_not_touch_byte_identical(
+    releases: Repo, tmp_path: Path, tmp_path_factory: pytest.TempPathFactory
+) -> None:
+    # Issue 13: pages name the edition, not the commit, so two commits after one release differ only
+    # in the pages of what changed (and the pages that list every change or every commit).
+    copy = tmp_path_factory.mktemp("one-more") / "repo"
+    shutil.copytree(releases.path, copy)
+    repo = Repo.existing(copy)
+    path = copy / "catalogue/cycles/3x-plus-1/through-0.yaml"
+    path.write_text(path.read_text(encoding="utf-8") + "# a comment\n", "utf-8")
+    repo.commit("a comment", "2026-05-01T12:00:00+00:00")
+    build_site(copy / "catalogue", tmp_path / "before")
+    path.write_text(path.read_text(encoding="utf-8") + "# another comment\n", "utf-8")
+    repo.commit("another comment", "2026-05-02T12:00:00+00:00")
+    build_site(copy / "catalogue", tmp_path / "after")
+    for page in ("maps/3x-minus-1/index.html", "maps/3x-minus-1/through-5/index.html", "lengths/index.html"):
+        assert (tmp_path / "before" / page).read_bytes() == (tmp_path / "after" / page).read_bytes(), page
+    changed = (tmp_path / "after/maps/3x-plus-1/through-0/index.html").read_text(encoding="utf-8")
+    assert "2026-05-02" in changed  # the edited entry's own page says when it last changed
+    assert (tmp_path / "before/data/index.html").read_bytes() != (tmp_path / "after/data/index.html").read_bytes()

@@ -32,7 +32,9 @@ from builder.catalogue.verify import Limits, verify_catalogue
 from builder.errors import UsageError
 from builder.site.build import build_site
 from builder.site.markdown import render_notes
-from builder.site.render import render_site
+from builder.site.pages import Unit
+from builder.site.pages.common import Page
+from builder.site.render import Writer, render_site
 from builder.site.views import build_views
 
 HOSTILE = FIXTURES / "hostile"
@@ -299,13 +301,21 @@ def test_render_refuses_a_path_outside_the_site(tmp_path: Path) -> None:
     report = verify_catalogue(VALID, Limits())
     assert report.ok
     views = build_views(report.catalogue)
-    views.pages[-1].path = "../escaped.html"
+    escaping = Page("../escaped.html", "404.html", "Escaped", "")
+    views.units.append(Unit("site:escaping", 1, lambda site: [escaping]))
     out = tmp_path / "inner" / "site"
     out.mkdir(parents=True)
     with pytest.raises(AssertionError, match="outside the site"):
         render_site(views, out)
     assert not (tmp_path / "inner" / "escaped.html").exists()
     assert not (tmp_path / "escaped.html").exists()
+
+
+@pytest.mark.parametrize("path", ["../x.html", "a/../../x.html", "/etc/x", "a//b.html", "./x.html", "a\\..\\x", ""])
+def test_the_writer_refuses_every_address_that_could_leave_the_site(tmp_path: Path, path: str) -> None:
+    with pytest.raises(AssertionError, match="outside the site"):
+        Writer(tmp_path).text(path, "x")
+    assert list(tmp_path.iterdir()) == []
 
 
 # --- 6. atomicity and safety ---------------------------------------------------------------------
@@ -336,17 +346,18 @@ def test_a_failed_build_leaves_the_previous_site_untouched(previous: Path, cli, 
 
 
 def interrupt_after(monkeypatch: pytest.MonkeyPatch, writes: int, exc: BaseException) -> list[str]:
-    """Make builder.site.render._write raise ``exc`` after ``writes`` files were written."""
-    real = builder.site.render._write
+    """Make builder.site.render.Writer.text raise ``exc`` after ``writes`` files were written (by this
+    process: a forked worker counts its own)."""
+    real = builder.site.render.Writer.text
     written: list[str] = []
 
-    def write(out: Path, relative: str, text: str) -> None:
+    def write(self: Writer, relative: str, text: str) -> None:
         if len(written) == writes:
             raise exc
-        real(out, relative, text)
+        real(self, relative, text)
         written.append(relative)
 
-    monkeypatch.setattr(builder.site.render, "_write", write)
+    monkeypatch.setattr(builder.site.render.Writer, "text", write)
     return written
 
 
@@ -358,16 +369,31 @@ def test_an_interrupted_build_leaves_the_previous_site_untouched(
     siblings = listing(previous.parent)
     written = interrupt_after(monkeypatch, 5, exc)
     with pytest.raises(type(exc)):
-        build_site(HOSTILE, previous)
+        build_site(HOSTILE, previous, jobs=1)
     assert len(written) == 5  # the interruption came partway through the writing
     assert tree_hashes(previous) == before
     assert listing(previous.parent) == siblings  # no staging folder left behind
 
 
+@pytest.mark.parametrize("exc", [KeyboardInterrupt(), OSError(28, "No space left on device")])
+def test_a_build_interrupted_in_a_worker_process_leaves_the_previous_site_untouched(
+    previous: Path, monkeypatch: pytest.MonkeyPatch, exc: BaseException
+) -> None:
+    # The workers are forked after the patch, so each stops after its own fifth file; the build
+    # raises what stopped them (a KeyboardInterrupt too, which must not leave it waiting).
+    before = tree_hashes(previous)
+    siblings = listing(previous.parent)
+    interrupt_after(monkeypatch, 5, exc)
+    with pytest.raises(type(exc)):
+        build_site(VALID, previous, jobs=2)
+    assert tree_hashes(previous) == before
+    assert listing(previous.parent) == siblings
+
+
 def test_an_interrupted_build_through_the_cli(previous: Path, monkeypatch: pytest.MonkeyPatch, cli) -> None:
     before = tree_hashes(previous)
     interrupt_after(monkeypatch, 3, KeyboardInterrupt())
-    run = cli("build", str(HOSTILE), "--out", str(previous))
+    run = cli("build", str(HOSTILE), "--out", str(previous), "--jobs", "1")
     assert run.code == 130  # common practice, no source: 128 + SIGINT
     assert "interrupted" in run.err
     assert tree_hashes(previous) == before
@@ -574,3 +600,13 @@ def test_two_builds_into_one_folder_at_once_both_publish_a_whole_site(tmp_path: 
         assert [p.returncode for p in procs] == [0, 0], errors
         assert tree_hashes(out) == expected
         assert sorted(p.name for p in out.parent.iterdir()) == ["site"]
+
+
+def test_the_site_does_not_depend_on_how_many_processes_wrote_it(tmp_path: Path) -> None:
+    # Issue 13: pages are shared among worker processes; the bytes must not depend on it
+    # (common practice, no source: reproducible builds).
+    one, two, three = tmp_path / "one", tmp_path / "two", tmp_path / "three"
+    assert build_site(REPO / "catalogue", one, jobs=1).pages > 700
+    assert build_site(REPO / "catalogue", two, jobs=2).pages > 700
+    assert build_site(REPO / "catalogue", three, jobs=3).pages > 700
+    assert tree_hashes(one) == tree_hashes(two) == tree_hashes(three)

@@ -6,7 +6,6 @@ links to its page while the entry still exists.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
 from dataclasses import dataclass
 
 from builder.diff import KINDS, Change, field_summary
@@ -75,7 +74,7 @@ def _groups(site: SiteContext, step: Step) -> list[ChangeGroup]:
     return groups
 
 
-def change_pages(site: SiteContext, earlier: Sequence[Page]) -> list[Page]:
+def change_pages(site: SiteContext) -> list[Page]:
     """The index of releases, newest first, then one page per release."""
     log = site.changelog
     crumbs = (*HOME_CRUMBS, Link("Changes", "changes/index.html"))

@@ -14,7 +14,22 @@ from typing import TYPE_CHECKING, Any
 if TYPE_CHECKING:
     from builder.site.pages.context import SiteContext
 
-__all__ = ["HOME_CRUMBS", "Link", "MapPages", "NavEntry", "Page", "PageKind", "SitePages"]
+__all__ = [
+    "HOME_CRUMBS",
+    "PAGE_ROWS",
+    "IndexPages",
+    "MapInputs",
+    "SiteInputs",
+    "Link",
+    "MapPages",
+    "NavEntry",
+    "Page",
+    "PageInfo",
+    "PageKind",
+    "Pager",
+    "SitePages",
+    "pagers",
+]
 
 
 @dataclass(frozen=True, slots=True)
@@ -26,6 +41,43 @@ class Link:
 
 #: The breadcrumbs of a page one step below the home page.
 HOME_CRUMBS = (Link("Record", "index.html"),)
+
+#: A table longer than this is split into pages of this many rows: a page stays small enough to open
+#: and to sort at once on a phone, whatever the size of the record.
+PAGE_ROWS = 1000
+
+
+@dataclass(frozen=True, slots=True)
+class Pager:
+    """Where one page of a long table stands: its rows, every page of the same order, the other orders."""
+
+    first: int  # the number of its first row, from 1
+    last: int
+    total: int
+    order: str  # how the rows are ordered, as a reader is told: "by least |member|"
+    pages: tuple[Link, ...]  # every page of this order, labelled "1", "2", ...
+    current: int  # the index of this page in ``pages``
+    others: tuple[Link, ...]  # the first page of each other order of the same rows
+
+    @property
+    def span(self) -> str:
+        return f"{self.first:,}–{self.last:,} of {self.total:,}"
+
+
+def pagers(
+    total: int, order: str, url: Callable[[int], str], others: tuple[Link, ...] = (), per_page: int = PAGE_ROWS
+) -> list[tuple[slice, Pager | None]]:
+    """How ``total`` rows fall into pages of ``per_page``: each page's slice of the rows and its pager
+    (None when one page holds them all).  ``url(n)`` is the address of page n, from 1."""
+    if total <= per_page:
+        return [(slice(0, total), None)]
+    count = -(-total // per_page)
+    links = tuple(Link(str(n), url(n)) for n in range(1, count + 1))
+    out: list[tuple[slice, Pager | None]] = []
+    for i in range(count):
+        rows = slice(i * per_page, min(total, (i + 1) * per_page))
+        out.append((rows, Pager(rows.start + 1, rows.stop, total, order, links, i, others)))
+    return out
 
 
 @dataclass(slots=True)
@@ -39,6 +91,8 @@ class Page:
     context: dict[str, Any] = field(default_factory=dict)
     crumbs: tuple[Link, ...] = ()
     fixed_root: str | None = None  # an absolute site address, for pages served from any path (404)
+    listed: bool = True  # whether sitemap.xml lists it (not the 404 page)
+    in_site_map: bool = True  # whether the site map page lists it (not cycles, nor pages 2.. of a table)
 
     @property
     def root(self) -> str:
@@ -47,6 +101,16 @@ class Page:
             return self.fixed_root
         depth = self.path.count("/")
         return "../" * depth
+
+
+@dataclass(frozen=True, slots=True)
+class PageInfo:
+    """What the build keeps of a page once it is written: where it is and what it is called."""
+
+    path: str
+    title: str
+    listed: bool
+    in_site_map: bool
 
 
 @dataclass(frozen=True, slots=True)
@@ -59,20 +123,35 @@ class NavEntry:
     place: int
 
 
-#: Makes a kind's pages for the whole site, given the pages made before them (the site map lists those).
-SitePages = Callable[["SiteContext", Sequence[Page]], list[Page]]
+#: Makes a kind's pages for the whole site.
+SitePages = Callable[["SiteContext"], list[Page]]
 #: Makes a kind's pages for one map, given its id.
 MapPages = Callable[["SiteContext", str], list[Page]]
+#: What a kind's pages for one map are made from, as plain data (builder.site.digest reads it): an
+#: incremental build renders the map's pages again only when this changes (builder.site.render).
+MapInputs = Callable[["SiteContext", str], object]
+#: The same for a kind made for the whole site.
+SiteInputs = Callable[["SiteContext"], object]
+#: Makes a kind's pages once every other page is written, given what was written (the site map).
+IndexPages = Callable[["SiteContext", Sequence[PageInfo]], list[Page]]
 
 
 @dataclass(frozen=True, slots=True)
 class PageKind:
-    """One kind of page: its name, how its pages are made (``site_pages`` or ``map_pages``), its nav entry."""
+    """One kind of page: its name, how its pages are made (``site_pages``, ``map_pages`` or
+    ``index_pages``), its nav entry."""
 
     name: str
     site_pages: SitePages | None = None
     map_pages: MapPages | None = None
     nav: NavEntry | None = None
+    index_pages: IndexPages | None = None
+    # What its pages read, beyond what every page reads (the record, the edition, the code): without
+    # it, an incremental build makes the kind's pages every time.  Every value a page shows must follow
+    # from it: tests/site/test_incremental.py builds after each kind of change and compares.
+    map_inputs: MapInputs | None = None
+    site_inputs: SiteInputs | None = None
 
     def __post_init__(self) -> None:
-        assert (self.site_pages is None) != (self.map_pages is None), f"{self.name}: expected one way to make pages"
+        ways = (self.site_pages, self.map_pages, self.index_pages)
+        assert sum(way is not None for way in ways) == 1, f"{self.name}: expected one way to make pages"

@@ -16,16 +16,19 @@ from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Referenc
 from builder.catalogue.relations import Relations, qx_plus_d
 from builder.history import Changelog, Edition, NoHistory, RepoHistory
 from builder.site.pages.common import Link
-from builder.site.paths import map_url, reference_url
+from builder.site.paths import family_url, map_url, reference_url
 from builder.site.records import CycleRecord, HistoryRecord, MapRecord
 
 __all__ = [
     "CycleRow",
+    "Family",
+    "FamilyRow",
     "HistoryView",
     "MapRow",
     "ReferenceLink",
     "SiteContext",
     "counts_text",
+    "family_rows",
     "reference_href",
     "reference_label",
 ]
@@ -105,6 +108,35 @@ def counts_text(entry: MapEntry, cycle: Cycle) -> str:
     if entry.modulus == 2:
         return f"{counts[1]} odd, {counts[0]} even"
     return ", ".join(f"{r}: {c}" for r, c in enumerate(counts) if c)
+
+
+@dataclass(frozen=True, slots=True)
+class Family:
+    """Maps grouped as readers look for them: the qx+d maps of one q, or the other maps of one modulus."""
+
+    key: str  # part of its address: "3x-plus-d", "minus-3x-plus-d", "mod-3"
+    label: str  # "3x+d", "maps mod 3"
+    description: str
+    order: tuple[int, int]  # qx+d families first, by |q| then sign; then moduli
+
+
+#: qx+d maps whose |q| reaches this share one family (a family's key is part of an address).
+LARGE_Q = 10**18
+
+
+def family_of(entry: MapEntry) -> Family:
+    form = qx_plus_d(entry)
+    if form is not None and abs(form[0]) >= LARGE_Q:
+        what = f"n/2 for even n and (qn + d)/2 for odd n, with |q| of more than {len(str(LARGE_Q)) - 1} digits"
+        return Family("large-qx-plus-d", "qx+d, large q", what, (1, 0))
+    if form is not None:
+        q = form[0]
+        sign = "minus-" if q < 0 else ""
+        label = f"{to_decimal(q)}x+d"
+        what = f"n/2 for even n and ({to_decimal(q)}n + d)/2 for odd n, for odd d"
+        return Family(f"{sign}{to_decimal(abs(q))}x-plus-d", label, what, (0, 2 * abs(q) + (q < 0)))
+    m = entry.modulus
+    return Family(f"mod-{m}", f"maps mod {m}", f"maps acting by the residue of n mod {m}, other than qx+d", (2, m))
 
 
 def _display_order(entry: MapEntry) -> tuple[int, int, int, bool, str]:
@@ -204,9 +236,17 @@ class SiteContext:
             return None
         return sum(1 for c in self.cat.cycles.get(map_id, ()) if self.rel.shared_factor.get((map_id, c.id)) == 1)
 
-    def map_rows(self) -> list[MapRow]:
-        rows = []
+    def families(self) -> list[tuple[Family, list[str]]]:
+        """Every family with its maps in display order, families in their own order."""
+        found: dict[str, tuple[Family, list[str]]] = {}
         for map_id in self.map_order:
+            family = family_of(self.cat.maps[map_id])
+            found.setdefault(family.key, (family, []))[1].append(map_id)
+        return sorted(found.values(), key=lambda pair: pair[0].order)
+
+    def map_rows(self, map_ids: Iterable[str] | None = None) -> list[MapRow]:
+        rows = []
+        for map_id in self.map_order if map_ids is None else map_ids:
             entry = self.cat.maps[map_id]
             count = len(self.cat.cycles.get(map_id, ()))
             rows.append(
@@ -220,3 +260,25 @@ class SiteContext:
             return HistoryView(None, self.history.reason, False)
         shallow = isinstance(self.history, RepoHistory) and self.history.shallow
         return HistoryView(past, None, shallow)
+
+
+@dataclass(frozen=True, slots=True)
+class FamilyRow:
+    """One family in a table of families: its page and its counts, as text."""
+
+    url: str
+    label: str
+    description: str
+    maps: str
+    cycles: str
+
+
+def family_rows(site: SiteContext) -> list[FamilyRow]:
+    """Every family of the record, with its counts."""
+    rows = []
+    for family, map_ids in site.families():
+        cycles = sum(len(site.cat.cycles.get(m, ())) for m in map_ids)
+        rows.append(
+            FamilyRow(family_url(family.key), family.label, family.description, f"{len(map_ids):,}", f"{cycles:,}")
+        )
+    return rows

@@ -7,7 +7,11 @@ file has every one); the equation is shown in MathML and in plain text.
 from __future__ import annotations
 
 import posixpath
+import re
 from dataclasses import dataclass
+from itertools import islice
+
+from markupsafe import Markup
 
 from builder.arith.integers import show, to_decimal
 from builder.catalogue.model import Cycle, MapEntry
@@ -61,21 +65,26 @@ def _equation_text(entry: MapEntry, cycle: Cycle) -> str:
     return f"{head} = {show(eq.offset)} / {show(eq.target)} = {show(cycle.canonical)}"
 
 
+#: The characters BibTeX and LaTeX treat specially, and how each is written.
+_BIBTEX = str.maketrans(
+    {"{": "\\{", "}": "\\}", "\\": "\\textbackslash{}", **{c: "\\" + c for c in "%&#$_"}, "^": "\\^{}", "~": "\\~{}"}
+)
+
+
 def _bibtex(text: str) -> str:
     """Escape the characters BibTeX and LaTeX treat specially."""
-    out = []
-    for ch in text:
-        if ch in "{}":
-            out.append("\\" + ch)
-        elif ch in "\\":
-            out.append("\\textbackslash{}")
-        elif ch in "%&#$_":
-            out.append("\\" + ch)
-        elif ch in "^~":
-            out.append("\\" + ch + "{}")
-        else:
-            out.append(ch)
-    return "".join(out)
+    return text.translate(_BIBTEX)
+
+
+# Members are decimal text from builder.arith.integers: digits with an optional minus sign.
+_DECIMAL_LINES = re.compile(r"[-0-9\n]*")
+
+
+def _member_items(members: tuple[str, ...]) -> Markup:
+    """The list items of members, built here rather than item by item in the template (a long cycle
+    has thousands); each is checked to be decimal text once, so nothing in it needs escaping."""
+    assert _DECIMAL_LINES.fullmatch("\n".join(members)), "members are decimal text"
+    return Markup("".join(f"<li>{n}</li>\n" for n in members))
 
 
 def _related(site: SiteContext, key: tuple[str, str], length: int) -> list[RelatedGroup]:
@@ -94,12 +103,15 @@ def _related(site: SiteContext, key: tuple[str, str], length: int) -> list[Relat
         related.append(
             RelatedGroup("Scaled copies", [site.cycle_link(s.copy, f"times {to_decimal(s.factor)}") for s in copies])
         )
-    listed = {mirror, scaled.base if scaled else None, *(s.copy for s in copies)}
-    same = [k for k in site.rel.same_word.get(key, ()) if k not in listed]
+    listed = {k for k in (mirror, scaled.base if scaled else None, *(s.copy for s in copies)) if k is not None}
+    group = site.rel.word_group.get(key, ())
+    # The listed cycles that share the word are shown above, not again (a group is one shared tuple).
+    count = site.rel.same_word_count(key) - sum(1 for k in listed if site.rel.word_group.get(k) is group)
+    same = list(islice((k for k in site.rel.same_word(key) if k not in listed), SAME_WORD_SHOWN))
     if same:
-        links = [site.cycle_link(k) for k in same[:SAME_WORD_SHOWN]]
-        if len(same) > SAME_WORD_SHOWN:
-            more = len(same) - SAME_WORD_SHOWN
+        links = [site.cycle_link(k) for k in same]
+        if count > SAME_WORD_SHOWN:
+            more = count - SAME_WORD_SHOWN
             links.append(Link(f"{more} more cycles of length {length}", length_url(length)))
         related.append(RelatedGroup("Same word in other maps", links))
     return related
@@ -111,14 +123,14 @@ def _citations(site: SiteContext, entry: MapEntry, cycle: Cycle, title: str, per
     record, edition = site.record, site.edition
     where = f"entry {entry.id}/{cycle.id}, fingerprint {cycle.fingerprint}"
     cite = (
-        f"{title} (length {cycle.length}). {record.title}, {edition.label}, {where}, "
+        f"{title} (length {cycle.length}). {record.title}, {edition.shown}, {where}, "
         f"{permalink}. Found by {prov.found_by}, {prov.found_on.isoformat()}. "
         f"Data licence: {record.licence}."
     )
     bibtex = (
         f"@misc{{periplus:{entry.id}/{cycle.id},\n"
         f"  title        = {{{_bibtex(title)}}},\n"
-        f"  howpublished = {{{_bibtex(record.title)}, {_bibtex(edition.label)}, {_bibtex(where)}}},\n"
+        f"  howpublished = {{{_bibtex(record.title)}, {_bibtex(edition.shown)}, {_bibtex(where)}}},\n"
         f"  author       = {{{{{_bibtex(record.maintainers)}}}}},\n"
         f"  note         = {{Cycle of length {cycle.length}; found by {_bibtex(prov.found_by)}, "
         f"{prov.found_on.isoformat()}; data licence {_bibtex(record.licence)}}},\n"
@@ -139,8 +151,8 @@ def _members(r: CycleRecord) -> dict[str, object]:
         hidden = len(members) - HEAD_MEMBERS - TAIL_MEMBERS
     word = r.word if len(r.word) <= WORD_ON_PAGE else r.word[:WORD_ON_PAGE]
     return {
-        "head": head,
-        "tail": tail,
+        "head": _member_items(head),
+        "tail": _member_items(tail),
         "hidden": hidden,
         "tail_start": len(members) - len(tail) + 1,
         "word": word,
@@ -181,7 +193,7 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle) -> Page:
         "history": site.history_view(r.history),
     }
     crumbs = (*MAPS_CRUMBS, Link(entry.name, map_url(entry.id)))
-    return Page(cycle_url(entry.id, cycle.id), "cycle.html", title, SECTION, context, crumbs)
+    return Page(cycle_url(entry.id, cycle.id), "cycle.html", title, SECTION, context, crumbs, in_site_map=False)
 
 
 def cycle_pages(site: SiteContext, map_id: str) -> list[Page]:
@@ -189,4 +201,25 @@ def cycle_pages(site: SiteContext, map_id: str) -> list[Page]:
     return [cycle_page(site, entry, cycle) for cycle in site.cat.cycles.get(map_id, ())]
 
 
-KIND = PageKind("cycle", map_pages=cycle_pages)
+def cycle_inputs(site: SiteContext, map_id: str) -> object:
+    """What the map's cycle pages show: each entry as written and verified (the fingerprint fixes the
+    map's definition and the members, word and equation), its history, relations and sources."""
+    out = []
+    for c in site.cat.cycles.get(map_id, ()):
+        key = (map_id, c.id)
+        out.append(
+            (
+                c.id,
+                c.fingerprint,
+                c.start,
+                c.provenance,
+                site.records[key].history,
+                _related(site, key, c.length),
+                site.reference_links(c.provenance.references),
+                site.marks(key),
+            )
+        )
+    return (site.cat.maps[map_id].name, out)
+
+
+KIND = PageKind("cycle", map_pages=cycle_pages, map_inputs=cycle_inputs)

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-
 from builder.site.pages.common import HOME_CRUMBS, Link, NavEntry, Page, PageKind
 from builder.site.pages.context import SiteContext
 
@@ -12,7 +10,7 @@ __all__ = ["KIND"]
 SECTION = "data"
 
 
-def data_pages(site: SiteContext, earlier: Sequence[Page]) -> list[Page]:
+def data_pages(site: SiteContext) -> list[Page]:
     files = [Link(site.cat.maps[m].name, f"data/maps/{m}.json") for m in site.map_order]
     return [Page("data/index.html", "data.html", "Data exports", SECTION, {"maps": files}, HOME_CRUMBS)]
 

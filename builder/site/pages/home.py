@@ -1,4 +1,4 @@
-"""The home page: what the record is, its size and edition, every map, the latest cycles, how to cite it.
+"""The home page: what the record is, its size and edition, its families of maps, the latest cycles, how to cite it.
 
 The page also carries the record's schema.org description (builder.site.metadata) for search
 engines, with the exports as its downloads.
@@ -6,7 +6,6 @@ engines, with the exports as its downloads.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from datetime import date
 from typing import Any
@@ -14,7 +13,7 @@ from typing import Any
 from builder.history import RepoHistory
 from builder.site.metadata import Download, dataset_jsonld, jsonld_script
 from builder.site.pages.common import Link, NavEntry, Page, PageKind
-from builder.site.pages.context import SiteContext
+from builder.site.pages.context import SiteContext, family_rows
 
 __all__ = ["KIND", "RECENT", "RecentCycle"]
 
@@ -51,15 +50,15 @@ def _dataset(site: SiteContext) -> dict[str, Any]:
 
 def _citation(site: SiteContext) -> str:
     r = site.record
-    return f"{r.maintainers}. {r.title}, {site.edition.label}. {site.base_url}. Data licence: {r.licence}."
+    return f"{r.maintainers}. {r.title}, {site.edition.shown}. {site.base_url}. Data licence: {r.licence}."
 
 
-def home_pages(site: SiteContext, earlier: Sequence[Page]) -> list[Page]:
+def home_pages(site: SiteContext) -> list[Page]:
     recent = sorted(site.records.items(), key=lambda kv: (kv[1].provenance.found_on, kv[0]), reverse=True)[:RECENT]
     context = {
         "cite": _citation(site),
         "dataset_jsonld": jsonld_script(_dataset(site)),
-        "maps": site.map_rows(),
+        "families": family_rows(site),
         "total_cycles": sum(len(c) for c in site.cat.cycles.values()),
         "total_maps": len(site.cat.maps),
         "recent": [RecentCycle(site.cycle_link(key), r.provenance.found_on, r.length) for key, r in recent],

@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
 from dataclasses import dataclass
+from functools import partial
 
-from builder.site.pages.common import HOME_CRUMBS, Link, NavEntry, Page, PageKind
+from builder.site.pages.common import HOME_CRUMBS, Link, NavEntry, Page, PageKind, pagers
 from builder.site.pages.context import SiteContext
 from builder.site.paths import length_url
 
@@ -24,7 +24,7 @@ class LengthRow:
     maps: int
 
 
-def length_pages(site: SiteContext, earlier: Sequence[Page]) -> list[Page]:
+def length_pages(site: SiteContext) -> list[Page]:
     """The index of lengths, then one page per length (cycles by map, then by least |member|)."""
     by_length: dict[int, list[tuple[str, str]]] = {}
     for key, r in site.records.items():
@@ -32,14 +32,39 @@ def length_pages(site: SiteContext, earlier: Sequence[Page]) -> list[Page]:
     crumbs = (*HOME_CRUMBS, Link("Lengths", "lengths/index.html"))
     rows = []
     pages = []
+    place = {map_id: i for i, map_id in enumerate(site.map_order)}
     for k in sorted(by_length):
-        keys = sorted(by_length[k], key=lambda kk: (kk[0], abs(site.cycles[kk].canonical)))
+        # Maps in display order (q, then |d|), then cycles by least |member|, positive first.
+        keys = sorted(by_length[k], key=lambda kk: (place[kk[0]], abs(site.cycles[kk].canonical), kk[1]))
         map_names = {site.cat.maps[m].name for m, _ in keys}
         rows.append(LengthRow(k, length_url(k), len(keys), len(map_names)))
-        context = {"length": k, "rows": site.cycle_rows(keys, with_map=True)}
-        pages.append(Page(length_url(k), "length.html", f"Cycles of length {k}", SECTION, context, crumbs))
+        order = "by map, then least |member|"
+        for part, pager in pagers(len(keys), order, partial(length_url, k)):
+            title = f"Cycles of length {k}" + (f", {pager.span}" if pager and pager.current else "")
+            context = {
+                "length": k,
+                "count": f"{len(keys):,}",
+                "rows": site.cycle_rows(keys[part], with_map=True),
+                "pager": pager,
+            }
+            page = Page(
+                length_url(k, 1 + (pager.current if pager else 0)), "length.html", title, SECTION, context, crumbs
+            )
+            page.in_site_map = pager is None or pager.current == 0
+            pages.append(page)
     index = Page("lengths/index.html", "lengths.html", "Cycles by length", SECTION, {"rows": rows}, HOME_CRUMBS)
     return [index, *pages]
 
 
-KIND = PageKind("lengths", site_pages=length_pages, nav=NavEntry(SECTION, "Lengths", "lengths/index.html", place=3))
+def length_inputs(site: SiteContext) -> object:
+    """What the length pages show: each cycle's row (its fingerprint fixes the numbers), and the maps' names and order."""
+    names = [(map_id, site.cat.maps[map_id].name) for map_id in site.map_order]
+    return names, [(key, r.fingerprint, site.marks(key)) for key, r in site.records.items()]
+
+
+KIND = PageKind(
+    "lengths",
+    site_pages=length_pages,
+    site_inputs=length_inputs,
+    nav=NavEntry(SECTION, "Lengths", "lengths/index.html", place=3),
+)

@@ -6,18 +6,20 @@ beside the catalogued counts (builder.arith.odds).
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 from markupsafe import Markup
 
 from builder.arith.integers import to_decimal
-from builder.arith.odds import length_odds, modelled
+from builder.arith.odds import length_chances, modelled
 from builder.catalogue.model import MapEntry
 from builder.catalogue.relations import qx_plus_d
 from builder.site.markdown import render_notes
 from builder.site.mathml import map_definition_mathml
-from builder.site.pages.common import Link, Page, PageKind
+from builder.site.pages.common import Link, Page, PageKind, Pager, pagers
 from builder.site.pages.context import SiteContext
 from builder.site.pages.maps_index import MAPS_CRUMBS, SECTION
-from builder.site.paths import map_url
+from builder.site.paths import map_table_url, map_url
 from builder.site.svg import odds_chart
 
 __all__ = ["KIND", "UNRESOLVED_SHOWN"]
@@ -36,14 +38,38 @@ def _odds_svg(site: SiteContext, entry: MapEntry) -> Markup | None:
     counts: dict[int, int] = {}
     for c in cycles:
         counts[c.length] = counts.get(c.length, 0) + 1
-    rows = [(k, length_odds(entry.dynamics, k), counts.get(k, 0)) for k in range(1, top + 1)]
+    chances = length_chances(entry.dynamics, top)
+    rows = [(k, chances[k - 1], counts.get(k, 0)) for k in range(1, top + 1)]
     title = f"Heuristic chance of a cycle of each length for {entry.name}, with the catalogued cycles"
     return odds_chart(rows, title, f"odds-{entry.id}")
+
+
+BY_LEAST, BY_LENGTH = "by least |member|", "by length, then least |member|"
+
+
+def _table_pages(site: SiteContext, map_id: str) -> tuple[list[tuple[str, slice, Pager | None]], list[str]]:
+    """The map's table pages, (order, rows, pager) each, and its cycle ids by length.
+
+    A map with more cycles than one page holds has its table on pages of its own, in two orders
+    across the whole map: by least |member| (the first page is the map's page) and by length.
+    """
+    cycles = site.cat.cycles.get(map_id, ())
+    by_length = [c.id for c in sorted(cycles, key=lambda c: (c.length, abs(c.canonical), c.canonical < 0))]
+    to_length = (Link("Order the whole map by length", map_table_url(map_id, "length", 1)),)
+    least = pagers(len(cycles), BY_LEAST, lambda n: map_table_url(map_id, "least", n), to_length)
+    pages: list[tuple[str, slice, Pager | None]] = [("least", rows, pager) for rows, pager in least]
+    if len(least) > 1:
+        to_least = (Link("Order the whole map by least |member|", map_url(map_id)),)
+        length = pagers(len(cycles), BY_LENGTH, lambda n: map_table_url(map_id, "length", n), to_least)
+        pages += [("length", rows, pager) for rows, pager in length]
+    return pages, by_length
 
 
 def map_pages(site: SiteContext, map_id: str) -> list[Page]:
     entry = site.cat.maps[map_id]
     record = site.maps[map_id]
+    tables, by_length = _table_pages(site, map_id)
+    (_, first_rows, first_pager), more = tables[0], tables[1:]
     form = qx_plus_d(entry)
     mirror = record.mirror_map
     context = {
@@ -53,7 +79,8 @@ def map_pages(site: SiteContext, map_id: str) -> list[Page]:
         "modulus": entry.modulus,
         "notes": render_notes(entry.notes),
         "references": site.reference_links(entry.references),
-        "rows": site.cycle_rows((map_id, c.id) for c in record.cycles),
+        "rows": site.cycle_rows((map_id, c.id) for c in record.cycles[first_rows]),
+        "pager": first_pager,
         "count": len(record.cycles),
         "coprime": site.coprime_count(map_id),
         "d": to_decimal(form[1]) if form else None,
@@ -65,11 +92,42 @@ def map_pages(site: SiteContext, map_id: str) -> list[Page]:
         "odds_svg": _odds_svg(site, entry),
         "history": site.history_view(record.history),
         "cite": (
-            f"{entry.name}. {site.record.title}, {site.edition.label}, map {map_id}, "
+            f"{entry.name}. {site.record.title}, {site.edition.shown}, map {map_id}, "
             f"{site.base_url}maps/{map_id}/. Data licence: {site.record.licence}."
         ),
     }
-    return [Page(map_url(map_id), "map.html", entry.name, SECTION, context, MAPS_CRUMBS)]
+    pages = [Page(map_url(map_id), "map.html", entry.name, SECTION, context, MAPS_CRUMBS)]
+    crumbs = (*MAPS_CRUMBS, Link(entry.name, map_url(map_id)))
+    for order, rows, pager in more:
+        assert pager is not None
+        ids = [c.id for c in record.cycles[rows]] if order == "least" else by_length[rows]
+        table = {
+            "map": entry,
+            "map_url": map_url(map_id),
+            "rows": site.cycle_rows((map_id, cycle_id) for cycle_id in ids),
+            "pager": pager,
+            "counts_label": context["counts_label"],
+        }
+        title = f"{entry.name}: cycles {pager.span}, {pager.order}"
+        url = pager.pages[pager.current].url
+        pages.append(Page(url, "map_table.html", title, SECTION, table, crumbs, in_site_map=False))
+    return pages
 
 
-KIND = PageKind("map", map_pages=map_pages)
+def map_inputs(site: SiteContext, map_id: str) -> object:
+    """What the map's pages and its table pages show: the entry, its history and mirror, the sources it
+    cites, and for each cycle what its row shows (the fingerprint fixes the members, length and word)."""
+    entry = site.cat.maps[map_id]
+    mirror = site.maps[map_id].mirror_map
+    rows = [(c.id, c.fingerprint, site.marks((map_id, c.id))) for c in site.cat.cycles.get(map_id, ())]
+    return (
+        replace(entry, path=entry.path.relative_to(site.cat.root)),  # where the catalogue lies is not shown
+        site.maps[map_id].history,
+        (mirror, site.cat.maps[mirror].name) if mirror else None,
+        site.reference_links(entry.references),
+        site.coprime_count(map_id),
+        rows,
+    )
+
+
+KIND = PageKind("map", map_pages=map_pages, map_inputs=map_inputs)

@@ -2,10 +2,8 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-
 from builder.site.pages.common import HOME_CRUMBS, Link, NavEntry, Page, PageKind
-from builder.site.pages.context import SiteContext
+from builder.site.pages.context import SiteContext, family_rows
 
 __all__ = ["KIND", "MAPS_CRUMBS", "SECTION"]
 
@@ -15,8 +13,14 @@ SECTION = "maps"
 MAPS_CRUMBS = (*HOME_CRUMBS, Link("Maps", "maps/index.html"))
 
 
-def maps_index_pages(site: SiteContext, earlier: Sequence[Page]) -> list[Page]:
-    return [Page("maps/index.html", "maps.html", "Maps", SECTION, {"maps": site.map_rows()}, HOME_CRUMBS)]
+#: The maps page lists every map itself up to this many; a larger record is listed family by family.
+MAPS_LISTED = 1000
+
+
+def maps_index_pages(site: SiteContext) -> list[Page]:
+    every = site.map_rows() if len(site.cat.maps) <= MAPS_LISTED else None
+    context = {"families": family_rows(site), "maps": every, "count": f"{len(site.cat.maps):,}"}
+    return [Page("maps/index.html", "maps.html", "Maps", SECTION, context, HOME_CRUMBS)]
 
 
 KIND = PageKind("maps index", site_pages=maps_index_pages, nav=NavEntry(SECTION, "Maps", "maps/index.html", place=2))

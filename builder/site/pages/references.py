@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
 from dataclasses import dataclass
 
 from builder.catalogue.model import Reference
@@ -35,7 +34,7 @@ class ReferenceEntry:
         return reference_href(self.ref)
 
 
-def reference_pages(site: SiteContext, earlier: Sequence[Page]) -> list[Page]:
+def reference_pages(site: SiteContext) -> list[Page]:
     cited_by: dict[str, list[Link]] = {key: [] for key in site.references}
     for map_id, entry in site.cat.maps.items():
         for key in entry.references:

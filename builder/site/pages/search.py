@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-
 from builder.site.pages.common import NavEntry, Page, PageKind
 from builder.site.pages.context import SiteContext
 
@@ -12,7 +10,7 @@ __all__ = ["KIND"]
 SECTION = "search"
 
 
-def search_pages(site: SiteContext, earlier: Sequence[Page]) -> list[Page]:
+def search_pages(site: SiteContext) -> list[Page]:
     return [Page("search/index.html", "search.html", "Search the record", SECTION)]
 
 

@@ -1,0 +1,155 @@
+"""Incremental builds (issue 13): a build into an existing site takes the files of every unit of pages
+whose inputs did not change from it (hard links), and the result is byte for byte a clean build's.
+
+Each case changes one thing in a copy of the valid fixture (3x+1 and 3x-1 on Z, mirrors of each other:
+Lagarias 1985 via ../shared/literature.md), rebuilds into the site of the unchanged copy, and compares
+with a clean build of the changed copy.  Reused files keep their inode (a hard link), which tells what
+was taken rather than written.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import shutil
+from collections.abc import Callable
+from pathlib import Path
+
+import pytest
+from conftest import VALID
+
+from builder.site.build import build_site
+from builder.site.render import MANIFEST
+
+
+def tree(root: Path) -> dict[str, str]:
+    return {
+        p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(root.rglob("*"))
+        if p.is_file()
+    }
+
+
+def inodes(root: Path) -> dict[str, int]:
+    return {p.relative_to(root).as_posix(): p.stat().st_ino for p in root.rglob("*") if p.is_file()}
+
+
+def edit(path: Path, old: str, new: str) -> None:
+    text = path.read_text(encoding="utf-8")
+    assert old in text, (path, old)
+    path.write_text(text.replace(old, new, 1), encoding="utf-8")
+
+
+def _cycle_method(cat: Path) -> None:
+    edit(cat / "cycles/3x-plus-1/through-1.yaml", "method: ", "method: (edited) ")
+
+
+def _mirror_name(cat: Path) -> None:
+    # 3x+1's pages name their mirror map and link the mirrored cycles by that name.
+    edit(cat / "maps/3x-minus-1.yaml", "name: 3x-1 (shortcut form)", "name: 3x-1 (renamed)")
+
+
+def _remove_cycle(cat: Path) -> None:
+    (cat / "cycles/3x-minus-1/through-17.yaml").unlink()
+
+
+def _reference_title(cat: Path) -> None:
+    text = (cat / "references.yaml").read_text(encoding="utf-8")
+    title = next(line for line in text.splitlines() if line.strip().startswith("title:"))
+    edit(cat / "references.yaml", title, title.replace("title: ", "title: Edited, ", 1))
+
+
+def _record_title(cat: Path) -> None:
+    text = (cat / "record.yaml").read_text(encoding="utf-8")
+    title = next(line for line in text.splitlines() if line.startswith("title:"))
+    edit(cat / "record.yaml", title, "title: An edited title")
+
+
+def _nothing(cat: Path) -> None:
+    pass
+
+
+CASES: dict[str, tuple[Callable[[Path], None], list[str], list[str]]] = {
+    # change, pages that must be written again, pages that must be taken from the old site
+    "a cycle's method": (_cycle_method, ["maps/3x-plus-1/through-1/index.html"], ["maps/3x-minus-1/index.html"]),
+    "the mirror map's name": (
+        _mirror_name,
+        ["maps/3x-minus-1/index.html", "maps/3x-plus-1/index.html", "maps/3x-plus-1/through-minus-1/index.html"],
+        [],
+    ),
+    "a cycle removed": (_remove_cycle, ["maps/3x-minus-1/index.html", "lengths/11/index.html"], []),
+    "a reference's title": (_reference_title, ["maps/3x-minus-1/through-17/index.html"], []),
+    "the record's title": (_record_title, ["maps/3x-minus-1/index.html", "maps/3x-plus-1/through-1/index.html"], []),
+    "nothing": (_nothing, [], ["maps/3x-plus-1/index.html", "maps/3x-minus-1/through-5/index.html"]),
+}
+
+
+@pytest.mark.parametrize("case", list(CASES))
+def test_an_incremental_build_is_the_clean_build(tmp_path: Path, case: str) -> None:
+    change, written, taken = CASES[case]
+    cat = tmp_path / "catalogue"
+    shutil.copytree(VALID, cat)
+    site = tmp_path / "site"
+    assert build_site(cat, site, jobs=1).report.ok
+    before = inodes(site)
+    change(cat)
+    assert build_site(cat, site, jobs=2).report.ok
+    clean = tmp_path / "clean"
+    assert build_site(cat, clean, jobs=1, reuse=False).report.ok
+    assert tree(site) == tree(clean)
+    after = inodes(site)
+    for page in written:
+        assert page in after and after[page] != before.get(page), f"{page} was not written again"
+    for page in taken:
+        assert after[page] == before[page], f"{page} was written again"
+    if case == "nothing":  # then only what every build makes is written again: no unit's pages
+        rewritten = sorted(p for p in after if before.get(p) != after[p] and p.startswith("maps/") and p.count("/") > 1)
+        assert rewritten == [], rewritten
+
+
+def test_a_build_without_reuse_writes_every_file(tmp_path: Path) -> None:
+    site = tmp_path / "site"
+    build_site(VALID, site)
+    before = inodes(site)
+    build_site(VALID, site, reuse=False)
+    after = inodes(site)
+    assert not [p for p in after if before.get(p) == after[p]]
+
+
+@pytest.mark.parametrize("damage", ["missing", "garbled", "other-format", "file-gone"])
+def test_a_damaged_manifest_or_site_means_a_full_build(tmp_path: Path, damage: str) -> None:
+    # Common practice, no source: a cache that cannot be read is ignored, never trusted.
+    site, clean = tmp_path / "site", tmp_path / "clean"
+    build_site(VALID, site)
+    manifest = site / MANIFEST
+    if damage == "missing":
+        manifest.unlink()
+    elif damage == "garbled":
+        manifest.write_text("{not json", encoding="utf-8")
+    elif damage == "other-format":
+        data = json.loads(manifest.read_text(encoding="utf-8"))
+        manifest.write_text(json.dumps({**data, "format": "periplus-build/0"}), encoding="utf-8")
+    else:
+        os.unlink(site / "maps/3x-plus-1/through-1/index.html")
+    build_site(VALID, site)
+    build_site(VALID, clean, reuse=False)
+    assert tree(site) == tree(clean)
+
+
+def test_the_digest_reads_plain_data_of_any_size() -> None:
+    from datetime import date
+
+    from builder.site.digest import stable_digest
+
+    huge = 3**20_000  # 9,543 digits: repr() refuses integers of more than 4,300 (Python's default limit)
+    assert stable_digest((huge, "x")) == stable_digest((huge, "x"))
+    assert stable_digest(huge) != stable_digest(huge + 1)
+    # Equal data, equal digests; a different structure, another digest.
+    assert stable_digest({"a": [1, 2], "b": date(2026, 1, 1)}) == stable_digest({"a": [1, 2], "b": date(2026, 1, 1)})
+    assert stable_digest(("ab", "c")) != stable_digest(("a", "bc"))
+    assert stable_digest((1, (2, 3))) != stable_digest(((1, 2), 3))
+    assert stable_digest(None) != stable_digest(False) != stable_digest(0)
+    assert stable_digest(frozenset({"a", "b"})) == stable_digest(frozenset({"b", "a"}))
+    with pytest.raises(TypeError, match="expected plain data"):
+        stable_digest(object())
