@@ -16,6 +16,7 @@ import io
 import pickle
 import threading
 from collections.abc import Mapping
+from operator import attrgetter
 from pathlib import Path
 from typing import Any
 
@@ -24,22 +25,42 @@ __all__ = ["dumps", "loads"]
 
 class _Pickler(pickle.Pickler):
     """Pickles what loads fast: dataclasses field by field (restored by code made for each class, not by the
-    generic ``__setstate__``), named tuples as tuples, and the file's own path as a reference to the path it
-    is read at."""
+    generic ``__setstate__``), named tuples as tuples, and the paths of ``rels`` as references to files."""
 
     def __init__(self, out: io.BytesIO, rels: Mapping[Path, str]) -> None:
         super().__init__(out, pickle.HIGHEST_PROTOCOL)
+        self.dispatch_table = _Reducers(rels)
+
+
+class _Reducers(dict[type, Any]):
+    """How each class is pickled (a pickler's ``dispatch_table``), made on first use of the class."""
+
+    def __init__(self, rels: Mapping[Path, str]) -> None:
+        super().__init__()
         self.rels = rels
 
-    def reducer_override(self, obj: Any) -> Any:
-        cls = type(obj)
-        if hasattr(cls, "__dataclass_fields__") and not isinstance(obj, type):
-            return _rebuild, (cls, tuple([getattr(obj, name) for name in _fields(cls)]))
-        if cls is _PATH and obj in self.rels:
-            return _here, (self.rels[obj],)
-        if issubclass(cls, tuple) and hasattr(cls, "_fields"):
-            return _new_tuple, (cls, tuple(obj))
-        return NotImplemented
+    def __missing__(self, cls: type) -> Any:
+        if hasattr(cls, "__dataclass_fields__"):
+            values = attrgetter(*_fields(cls))
+
+            def reduce(obj: Any) -> Any:
+                return _rebuild, (cls, values(obj))
+
+        elif issubclass(cls, tuple) and hasattr(cls, "_fields"):
+
+            def reduce(obj: Any) -> Any:
+                return _new_tuple, (cls, tuple(obj))
+
+        elif cls is _PATH:
+
+            def reduce(obj: Any) -> Any:
+                rel = self.rels.get(obj)
+                return obj.__reduce_ex__(pickle.HIGHEST_PROTOCOL) if rel is None else (_here, (rel,))
+
+        else:
+            raise KeyError(cls)  # pickled as pickle would without a table (dates, enumerations, classes...)
+        self[cls] = reduce
+        return reduce
 
 
 _PATH = type(Path())
@@ -54,7 +75,13 @@ def _here(rel: str) -> Path | None:
 
 
 def _fields(cls: type) -> tuple[str, ...]:
-    return tuple(f.name for f in dataclasses.fields(cls))
+    names = _FIELDS.get(cls)
+    if names is None:
+        names = _FIELDS[cls] = tuple(f.name for f in dataclasses.fields(cls))
+    return names
+
+
+_FIELDS: dict[type, tuple[str, ...]] = {}
 
 
 class _Makers(dict[type, Any]):
