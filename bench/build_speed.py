@@ -19,7 +19,8 @@ subprocess into a fresh folder, and prints:
   a shared page once per process) and ru_maxrss of the largest single process (goal: at most 400 MB);
 - the size of the site (bytes and files) and its largest HTML page.
 
-The commands are timed as a user runs them (interpreter start and imports included); the floors are
+Both commands run with --no-cache, so each run verifies every file (bench/verify_speed.py times the
+verification cache).  The commands are timed as a user runs them (interpreter start and imports included); the floors are
 measured in this process, in the same run.  Best of R runs each.  Figures, not pass/fail: the machine
 may be shared, so only the ratios mean much, and no test depends on them.
 """
@@ -241,10 +242,10 @@ def main() -> int:
         builds = []
         for i in range(args.repeat):
             site = scratch / f"site-{i}"
-            builds.append(run_command(["build", str(catalogue), "--out", str(site)]))
+            builds.append(run_command(["build", str(catalogue), "--out", str(site), "--no-cache"]))
             if i:
                 shutil.rmtree(site)
-        verify = best([run_command(["verify", str(catalogue)]) for _ in range(args.repeat)])
+        verify = best([run_command(["verify", str(catalogue), "--no-cache"]) for _ in range(args.repeat)])
         parse = best_of(args.repeat, parse_all(catalogue))
         files = read_site(scratch / "site-0")
         write = write_floor(files, scratch, args.repeat)

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import shutil
 import sys
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterator, Mapping
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -78,6 +78,14 @@ def overlay_files(case: str) -> list[str]:
 def expected_output(case: str) -> str:
     text = (BROKEN / case / "expected.txt").read_text(encoding="utf-8")
     return "".join(line for line in text.splitlines(keepends=True) if not line.startswith("#"))
+
+
+@pytest.fixture(autouse=True, scope="session")
+def _own_signing_key(tmp_path_factory: pytest.TempPathFactory) -> Iterator[None]:
+    """The verification cache's signing key lives in a folder of the test run, not in the user's own."""
+    with pytest.MonkeyPatch.context() as patch:
+        patch.setenv("XDG_CACHE_HOME", str(tmp_path_factory.mktemp("user-cache")))
+        yield
 
 
 @pytest.fixture

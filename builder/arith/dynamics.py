@@ -210,7 +210,7 @@ def default_max_bits(mapping: AffineMap, start: int) -> int:
     It grows with the size of the data so that a catalogued cycle of huge
     members is never rejected merely for being large.
     """
-    return TRACE_BASE_BITS + 8 * max(abs(start).bit_length(), mapping.max_constant_bits())
+    return TRACE_BASE_BITS + 8 * max(abs(start).bit_length(), mapping.cost.constant_bits)
 
 
 class Walk(NamedTuple):
@@ -290,7 +290,7 @@ def trace(
         step += 1
         word.append(r)
         if n == start:
-            kept = walk(mapping, start, step).members if members is None else tuple(int(v) for v in members)
+            kept = walk(mapping, start, step).members if members is None else tuple(map(int, members))
             return CycleFound(kept, tuple(word))
         if n == tortoise:
             return _enters(mapping, start, step - tortoise_at)

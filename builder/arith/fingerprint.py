@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import hashlib
 from collections.abc import Sequence
+from functools import lru_cache
 
 from builder.arith.integers import to_decimal
 
@@ -39,9 +40,14 @@ FINGERPRINT_DIGITS = 16
 def fingerprint_text(modulus: int, branches: Sequence[tuple[int, int]], canonical: int) -> str:
     """The text that is hashed (step 1 of the recipe)."""
     assert modulus >= 2 and len(branches) == modulus, "a map has one branch per residue"
+    return _map_lines(modulus, tuple(branches)) + to_decimal(canonical) + "\n"
+
+
+@lru_cache(maxsize=64)
+def _map_lines(modulus: int, branches: tuple[tuple[int, int], ...]) -> str:
+    """The lines of the text that name the map (the same for each of its cycles)."""
     lines = [FINGERPRINT_HEADER, to_decimal(modulus)]
     lines += [f"{to_decimal(a)} {to_decimal(b)}" for a, b in branches]
-    lines.append(to_decimal(canonical))
     return "".join(line + "\n" for line in lines)
 
 

@@ -39,8 +39,11 @@ def least_period(word: Word) -> int:
     # The least period of a word w that divides |w| is the first index
     # i >= 1 at which w occurs in ww (a standard fact about conjugacy:
     # w = uv = vu iff u, v are powers of one word; common practice, no source).
-    if all(0 <= c < 256 for c in word):
-        b = bytes(word)
+    try:
+        b = bytes(word)  # raises ValueError unless every letter is in 0..255
+    except ValueError:
+        pass
+    else:
         return (b + b).find(b, 1)
     # Knuth-Morris-Pratt failure function for wide alphabets.
     fail = [0] * n

@@ -13,11 +13,13 @@ a claim cannot make verification follow orbits further than its command allows.
 
 from __future__ import annotations
 
+import hashlib
 from collections.abc import Callable, Mapping
 from dataclasses import replace
 
-from builder.arith.dynamics import default_max_bits
+from builder.arith.dynamics import AffineMap, default_max_bits
 from builder.arith.integers import show
+from builder.catalogue.cache import VerifyCache, definition_digest
 from builder.catalogue.limits import Limits
 from builder.catalogue.model import Coverage, Cycle, MapEntry, Recheck
 from builder.catalogue.reader import label
@@ -36,12 +38,15 @@ def recheck_coverage(
     limits: Limits,
     problems: list[Problem],
     where: Callable[[KeyPath], Position],
+    cache: VerifyCache | None = None,
 ) -> MapEntry:
     """Search each coverage claim again as far as the limits allow; report what the catalogue or the claim lacks.
 
     ``cycles`` are the map's verified cycles by canonical member; ``where`` gives the position of
-    a key path in the map's file.  The claims of one map share ``limits.map_work``.
+    a key path in the map's file.  The claims of one map share ``limits.map_work``.  A search the
+    ``cache`` keeps (the same definition, range, limits and budget) is taken from it, not run again.
     """
+    memo = cache if cache is not None else VerifyCache.memory()
     checked = []
     searches: dict[tuple[int, int, int], HuntResult] = {}  # claims of one map often search the same starts
     budget = limits.map_work
@@ -49,7 +54,7 @@ def recheck_coverage(
         if limits.recheck_up_to < 0:
             checked.append(claim)
             continue
-        findings, recheck = _recheck(entry, claim, cycles, limits, (budget, searches), label(("coverage", i)))
+        findings, recheck = _recheck(entry, claim, cycles, limits, (budget, searches, memo), label(("coverage", i)))
         budget -= recheck[1]
         if findings:
             at = where(("coverage", i))
@@ -81,7 +86,7 @@ def _recheck(
     claim: Coverage,
     cycles: Mapping[int, Cycle],
     limits: Limits,
-    budget: tuple[int, dict[tuple[int, int, int], HuntResult]],
+    budget: tuple[int, dict[tuple[int, int, int], HuntResult], VerifyCache],
     label: str,
 ) -> tuple[list[Finding], tuple[Recheck, int]]:
     """Search the claim again (or reuse an equal search of the same map); return the findings, and what
@@ -90,13 +95,19 @@ def _recheck(
     capped = (max_steps, max_bits) != (claim.max_steps, claim.max_bits)
     top = min(claim.bound, limits.recheck_up_to)
     stopped_by = "recheck-up-to" if top < claim.bound else None
-    left, searches = budget
+    left, searches, memo = budget
     result = searches.get((top, max_steps, max_bits))
     work = 0
     if result is None:
         # The vectorised pass over the range always runs (its cost is bounded by the range); the
         # starts it hands to exact iteration share what is left of the map's budget.
-        result = hunt_range(entry.dynamics, 0, top, max_steps, max_bits, limits.max_work, budget=max(left, 0))
+        key = _search_key(entry.dynamics, top, max_steps, max_bits, limits.max_work, max(left, 0))
+        kept = memo.search(key)
+        if isinstance(kept, HuntResult):
+            result = kept
+        else:
+            result = hunt_range(entry.dynamics, 0, top, max_steps, max_bits, limits.max_work, budget=max(left, 0))
+            memo.keep_search(key, result)
         searches[top, max_steps, max_bits] = result
         work = result.work
     if result.stopped_at is not None:
@@ -113,6 +124,12 @@ def _recheck(
     findings += _findings(entry, claim, result, top, cycles, label)
     recheck = Recheck(top, max_steps, max_bits, limits.max_work, stopped_by)
     return findings, (recheck, work)
+
+
+def _search_key(mapping: AffineMap, top: int, max_steps: int, max_bits: int, max_work: int, budget: int) -> bytes:
+    """What decides a search's result: the map's definition, the range 0..top, the limits and the work budget."""
+    text = f"{definition_digest(mapping)}:{top}:{max_steps}:{max_bits}:{max_work}:{budget}"
+    return hashlib.sha256(text.encode()).digest()
 
 
 def _findings(

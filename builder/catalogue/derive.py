@@ -233,12 +233,22 @@ def _cycle(
         members=outcome.members,
         word=word,
         canonical_index=index,
-        equation=cycle_equation(mapping, word[index:] + word[:index]) if index else equation,
+        equation=_rotated(equation, outcome.members[index]) if index else equation,
         residue_counts=tuple(counts),
         standard_length=_standard_length(mapping, len(word), counts),
         provenance=provenance,
         fingerprint=cycle_fingerprint(mapping.modulus, mapping.branches, outcome.members[index]),
     )
+
+
+def _rotated(equation: Equation, member: int) -> Equation:
+    """The cycle equation along the word read from ``member``, another member of the cycle of ``equation``.
+
+    Rotating the word permutes the branches composed, so the product A of the multipliers and the
+    denominator m^k stay; and the periodic point ``member`` satisfies T^k(n) = (A n + B') / m^k = n
+    along its own word, so B' = (m^k - A) * member.
+    """
+    return Equation(equation.multiplier, equation.target * member, equation.denominator)
 
 
 def _periodic_word(doc: EntryReader, node: Node, word: tuple[int, ...], modulus: int) -> None:

@@ -30,6 +30,8 @@ __all__ = [
     "Source",
     "TreeSource",
     "load_catalogue",
+    "parse_bytes",
+    "read_bytes",
     "read_file",
     "scan_catalogue",
     "scan_source",
@@ -214,6 +216,31 @@ def _decode(data: bytes, path: Path, problems: list[Problem]) -> str | None:
         return None
 
 
+def read_bytes(raw: RawCatalogue, file: RawFile) -> tuple[bytes | None, list[Problem]]:
+    """The file's bytes, or None with the problem that says why they cannot be read."""
+    try:
+        return raw.source.read(file.rel), []
+    except OSError as exc:
+        return None, [_problem(file.path, f"cannot read the file: {exc.strerror}", "unreadable")]
+
+
+def parse_bytes(file: RawFile, data: bytes | None, problems: list[Problem], digest: bytes | None = None) -> RawFile:
+    """The file parsed from ``data`` (its bytes, None when they could not be read), with ``problems`` and its digest.
+
+    ``problems`` holds what was found before parsing (why the bytes could not be read); the
+    parse's own are added to it.  ``digest``: the SHA-256 of ``data`` when the caller has it already.
+    """
+    parsed = RawFile(file.path, file.kind, file.id, file.folder, file.rel, None, problems)
+    if data is None:
+        return parsed
+    parsed.digest = digest if digest is not None else hashlib.sha256(data).digest()
+    text = _decode(data, file.path, problems)
+    if text is not None:
+        parsed.root, found = parse_yaml(text, file.path)
+        problems.extend(found)
+    return parsed
+
+
 def read_file(raw: RawCatalogue, file: RawFile) -> RawFile:
     """The file with its root node, problems and digest, parsing it now unless already parsed.
 
@@ -222,19 +249,8 @@ def read_file(raw: RawCatalogue, file: RawFile) -> RawFile:
     """
     if file.problems is not None:
         return file
-    problems: list[Problem] = []
-    parsed = RawFile(file.path, file.kind, file.id, file.folder, file.rel, None, problems)
-    try:
-        data = raw.source.read(file.rel)
-    except OSError as exc:
-        problems.append(_problem(file.path, f"cannot read the file: {exc.strerror}", "unreadable"))
-        return parsed
-    parsed.digest = hashlib.sha256(data).digest()
-    text = _decode(data, file.path, problems)
-    if text is not None:
-        parsed.root, found = parse_yaml(text, file.path)
-        problems.extend(found)
-    return parsed
+    data, problems = read_bytes(raw, file)
+    return parse_bytes(file, data, problems)
 
 
 #: How messages name what was found at a path.
@@ -264,10 +280,11 @@ def _join(folder: str, name: str) -> str:
 def _entry_files(raw: RawCatalogue, folder: str, what: str) -> Iterator[tuple[str, Path]]:
     """Yield (id, path) for each ``<id>.yaml`` in folder, reporting anything else there."""
     problems = raw.layout_problems
+    base = raw.root / folder
     for name, kind in _listing(raw, folder):
         if name.startswith("."):
             continue  # .gitkeep and editor files
-        path = raw.root / folder / name
+        path = base / name
         if kind is PathKind.LINK:
             problems.append(_problem(path, "expected a regular file, got a symbolic link", "layout"))
             continue

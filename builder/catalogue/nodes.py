@@ -124,6 +124,9 @@ def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
             )
         )
         return None, problems
+    root = _parse_simple(text)
+    if root is not None:
+        return root, problems
     try:
         return _parse_events(text, path, _Loader, problems)
     except _DepthLimit:
@@ -133,6 +136,82 @@ def parse_yaml(text: str, path: Path) -> tuple[Node | None, list[Problem]]:
         # file is parsed again with it to give the same message and position
         # whatever libyaml is installed.  Only deeply nested files pay for it.
         return _parse_events(text, path, yaml.SafeLoader, [])
+
+
+#: A plain scalar of the simple shape: an id, a number, a date (no spaces, colons, commas or brackets).
+_WORD = r"[-+]?[A-Za-z0-9][A-Za-z0-9_.+-]*"
+#: One line of the simple shape: blank, a comment, or ``key:`` at indent 0 or 2 followed by nothing (a
+#: mapping follows, indented by 2), a double- or single-quoted scalar without escapes, a flow list of
+#: plain scalars separated by ", ", or a plain scalar; each ends the line.
+_SIMPLE_LINE = re.compile(
+    r"[ ]*(?:#[^\n]*)?\n"
+    r"|((?:  )?)([a-z_][a-z0-9_]*):"
+    r"(?:\n|[ ](?:\"([^\"\\\n]*)\"|'([^'\n]*)'|\[((?:" + _WORD + r"(?:, " + _WORD + r")*)?)\]|(" + _WORD + r"))\n)"
+)
+#: Characters that YAML reads as line breaks besides \n, or as a byte order mark: not in the simple shape.
+_NOT_SIMPLE = re.compile("[\r\x85\u2028\u2029\ufeff]")
+
+
+def _parse_simple(text: str) -> MappingNode | None:
+    """The nodes of a document in the simple shape most entries are written in, or None for any other.
+
+    The shape: lines of ``key: value`` at the top level, and for a key with nothing after its colon,
+    lines of ``key: value`` indented by two spaces; each value a plain scalar of :data:`_WORD`, a
+    quoted scalar on one line without escapes or doubled quotes, or a flow list of plain scalars
+    written ``[a, b, c]``; comment lines and blank lines; no tab, no line break but \\n, and a final
+    line break.  In it a value is its text (quotes aside), and every position follows from the line
+    and the lengths before it, so the tree is the one the event stream gives (the tests compare
+    them over every catalogue at hand).  Whatever else a file holds, even a repeated key, sends it
+    to the event stream, which says what is wrong where.
+    """
+    if not text.endswith("\n") or _NOT_SIMPLE.search(text):
+        return None
+    match = _SIMPLE_LINE.match
+    root: MappingNode | None = None
+    nested: MappingNode | None = None  # the mapping under ``opened``, once it has an entry
+    opened: Scalar | None = None  # a top-level key with nothing after its colon
+    pos, end, line = 0, len(text), 0
+    while pos < end:
+        found = match(text, pos)
+        if found is None:
+            return None
+        pos = found.end()
+        line += 1
+        indent, key, double, single, items, plain = found.groups()
+        if key is None:
+            continue  # a blank line or a comment
+        at = len(indent) + len(key) + 3  # the column of the value
+        node: Node | None
+        if plain is not None:
+            node = Scalar(plain, True, line, at)
+        elif double is not None:
+            node = Scalar(double, False, line, at)
+        elif items is not None:
+            node = SequenceNode(line, at)
+            column = at + 1
+            for item in items.split(", ") if items else ():
+                node.items.append(Scalar(item, True, line, column))
+                column += len(item) + 2
+        elif single is not None:
+            node = Scalar(single, False, line, at)
+        else:
+            node = None
+        if not indent:
+            if (opened is not None and nested is None) or (root is not None and key in root.entries):
+                return None  # a key with nothing under it, or a repeated key
+            if root is None:
+                root = MappingNode(line, 1)
+            opened, nested = (Scalar(key, True, line, 1), None) if node is None else (None, None)
+            if node is not None:
+                root.entries[key] = (Scalar(key, True, line, 1), node)
+        else:
+            if root is None or opened is None or node is None or (nested is not None and key in nested.entries):
+                return None
+            if nested is None:
+                nested = MappingNode(line, 3)
+                root.entries[opened.value] = (opened, nested)
+            nested.entries[key] = (Scalar(key, True, line, 3), node)
+    return None if opened is not None and nested is None else root
 
 
 class _DepthLimit(Exception):

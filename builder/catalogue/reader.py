@@ -12,6 +12,8 @@ import datetime as _dt
 import difflib
 import re
 from collections.abc import Callable, Collection
+from functools import lru_cache
+from operator import attrgetter
 from pathlib import Path
 from typing import Any, TypeVar
 
@@ -38,7 +40,12 @@ def short(text: str, keep: int = 48) -> str:
 
 def yaml_type(node: Scalar) -> str:
     """The YAML 1.1 type a plain scalar resolves to: str, int, float, bool, null, timestamp..."""
-    tag: str = _RESOLVER.resolve(yaml.ScalarNode, node.value, (True, False))  # type: ignore[no-untyped-call]
+    return _type_of_plain(node.value)
+
+
+@lru_cache(maxsize=4096)  # the same texts recur from file to file (map ids, names)
+def _type_of_plain(value: str) -> str:
+    tag: str = _RESOLVER.resolve(yaml.ScalarNode, value, (True, False))  # type: ignore[no-untyped-call]
     return tag.rsplit(":", 1)[-1]
 
 
@@ -211,6 +218,12 @@ class EntryReader:
         if not isinstance(node, SequenceNode):
             self.error(node, key_path, f"expected a list, got {describe(node)}")
             return None
+        if item == self.integer:
+            # The common case, a list of plain decimal integers (a cycle's members), read in one pass;
+            # anything else is read item by item below, which says what is wrong where.
+            plain = _plain_integers(node.items)
+            if plain is not None:
+                return plain  # type: ignore[return-value]  # T is int here
         out = []
         ok = True
         for i, child in enumerate(node.items):
@@ -300,6 +313,8 @@ class EntryReader:
         value = self.text(node, key_path)
         if value is None:
             return None
+        if _RESIDUE_DIGITS[modulus].fullmatch(value):
+            return tuple(map(int, value))
         for i, ch in enumerate(value):
             if not ("0" <= ch <= "9" and int(ch) < modulus):
                 self.error(
@@ -309,6 +324,27 @@ class EntryReader:
                 )
                 return None
         return tuple(map(int, value))
+
+
+def _plain_integers(items: list[Node]) -> list[int] | None:
+    """The values of ``items`` if every one is a plain decimal integer of fewer than 1,000 digits, else None."""
+    try:
+        texts = list(map(_VALUE, items))
+        plain = all(map(_PLAIN, items))
+    except AttributeError:  # a list or a mapping among them
+        return None
+    # NUL never occurs in a value (parsing refuses it), so it separates the texts unambiguously.
+    if not plain or (texts and _INTEGERS.fullmatch("\0".join(texts)) is None):
+        return None
+    return list(map(int, texts))
+
+
+_VALUE, _PLAIN = attrgetter("value"), attrgetter("plain")
+#: The words of each modulus up to 10 written as digits.
+_RESIDUE_DIGITS = {m: re.compile(f"[0-{m - 1}]+") for m in range(2, 11)}
+#: DECIMAL_INTEGER of fewer than 1,000 digits, NUL-separated.
+_INTEGER = r"[-+]?(?:0|[1-9][0-9]{0,998})"
+_INTEGERS = re.compile(f"(?:{_INTEGER}\0)*{_INTEGER}")
 
 
 def open_brackets(text: str) -> int:

@@ -11,20 +11,34 @@ compares catalogues without reading a file again.
 
 from __future__ import annotations
 
-from collections.abc import Collection
+import gc
+import hashlib
+from collections.abc import Callable, Collection, Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass
 from functools import partial
 from pathlib import Path
 from types import MappingProxyType
 
 from builder.arith.dynamics import AffineMap
 from builder.arith.integers import show
+from builder.catalogue.cache import VerifyCache, definition_digest
 from builder.catalogue.coverage import recheck_coverage
 from builder.catalogue.cycles import check_cycle
-from builder.catalogue.files import RawCatalogue, RawFile, Source, read_file, scan_catalogue, scan_source
+from builder.catalogue.files import (
+    RawCatalogue,
+    RawFile,
+    Source,
+    parse_bytes,
+    read_bytes,
+    read_file,
+    scan_catalogue,
+    scan_source,
+)
 from builder.catalogue.limits import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, Limits
 from builder.catalogue.maps import check_map
 from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Reference, Report
-from builder.catalogue.nodes import MappingNode, Node
+from builder.catalogue.nodes import MappingNode
 from builder.catalogue.reader import label
 from builder.catalogue.record import RECORD_FILE, check_record
 from builder.catalogue.references import check_references
@@ -41,6 +55,59 @@ __all__ = [
     "verify_source",
 ]
 
+#: What checking a map or cycle file gives: the verified map, or a cycle with the line, column and key path
+#: of its start (or word), or None.
+Value = MapEntry | tuple[Cycle, int, int, KeyPath] | None
+#: How a map or cycle file is checked, given the reference keys it may cite and where problems go.
+Check = Callable[[RawFile, Collection[str] | None, list[Problem]], Value]
+
+
+@dataclass(frozen=True, slots=True)
+class Checked:
+    """Everything checking one map or cycle file gave, kept whole so that a cache can give it back.
+
+    ``asked`` lists the reference keys the checks looked up in references.yaml, with the answers;
+    a kept outcome holds again only where every answer is the same (None: none could be looked up).
+    """
+
+    problems: tuple[Problem, ...]
+    written: tuple[WrittenEntry, ...]
+    faulted: bool  # the loader found fault with the file: nothing from it reaches the model
+    value: Value
+    asked: tuple[tuple[str, bool], ...] | None
+
+    def holds_with(self, known: Collection[str] | None) -> bool:
+        """Whether the answers about reference keys are the same with ``known``."""
+        if self.asked is None or known is None:
+            return self.asked is None and known is None
+        return all((key in known) is found for key, found in self.asked)
+
+
+class _Asked(Collection[str]):
+    """The reference keys entries may cite, noting each key asked about and the answer."""
+
+    def __init__(self, known: Collection[str]) -> None:
+        self.known = known
+        self.answers: dict[str, bool] = {}
+        self.whole = False  # looked at as a whole (listed or counted): the outcome depends on every key
+
+    def __contains__(self, key: object) -> bool:
+        found = key in self.known
+        if isinstance(key, str):
+            self.answers[key] = found
+        else:
+            self.whole = True
+        return found
+
+    def __iter__(self) -> Iterator[str]:
+        self.whole = True
+        return iter(self.known)
+
+    def __len__(self) -> int:
+        self.whole = True
+        return len(self.known)
+
+
 _WHAT = {
     "record": "the record's description (a mapping of fields)",
     "map": "a map entry (a mapping of fields)",
@@ -49,12 +116,26 @@ _WHAT = {
 }
 
 
+def _loaded(file: RawFile) -> list[Problem]:
+    """The problems of reading and parsing a file, and of its holding no YAML document at all."""
+    problems = list(file.problems or ())
+    if file.root is None and not problems:
+        # No YAML document at all (empty, or only comments): it must not pass unnoticed.
+        problems.append(Problem(Position(file.path), f"expected {_WHAT[file.kind]}, got an empty file", "empty-file"))
+    return problems
+
+
 class _Verification:
     """One run over a catalogue's files: the problems found and what verified so far."""
 
-    def __init__(self, raw: RawCatalogue, limits: Limits) -> None:
+    def __init__(self, raw: RawCatalogue, limits: Limits, cache: VerifyCache) -> None:
         self.raw = raw
         self.limits = limits
+        self.cache = cache
+        # Outcomes are kept per root as given (problems and paths name files through it) and per orbit limits.
+        where = f"{raw.root}\0{limits.max_steps}\0{limits.max_bits}\0{limits.max_work}"
+        self.scope = hashlib.sha256(where.encode("utf-8", "surrogateescape")).digest()
+        self.paths = {file.rel: file.path for file in raw.files}
         self.problems = list(raw.layout_problems)
         self.written: dict[tuple[str, str], WrittenEntry] = {}
         self.by_path: dict[str, WrittenEntry] = {}  # maps and cycles by file
@@ -72,28 +153,19 @@ class _Verification:
         self.by_fingerprint: dict[str, Cycle] = {}
 
     def parsed(self, file: RawFile) -> tuple[RawFile, bool]:
-        """The file with its nodes, and whether the loader found fault with it; keeps its entries as written.
+        """The record's or the references' file with its nodes, and whether the loader found fault with it.
 
         A file the loader found fault with (a duplicate key, an anchor, a tag, a second document)
         still has its fields checked, but nothing from it reaches the model: its tree may not be
-        what its author meant.
+        what its author meant.  Its entries as written are kept.
         """
         file = read_file(self.raw, file)
-        found = file.problems or []
-        self.problems.extend(found)
-        if file.root is None and not found:
-            # No YAML document at all (empty, or only comments): it must not pass unnoticed.
-            message = f"expected {_WHAT[file.kind]}, got an empty file"
-            self.problems.append(Problem(Position(file.path), message, "empty-file"))
-        rel = file.rel
-        key = file.id if file.kind in ("record", "map", "references") else f"{file.folder}/{file.id}"
-        for entry in written_entries(file.kind, key, rel, file.root, file.digest):
+        self.problems.extend(_loaded(file))
+        for entry in written_entries(file.kind, file.id, file.rel, file.root, file.digest):
             self.written[entry.kind, entry.key] = entry
-            if entry.kind in ("map", "cycle"):
-                self.by_path[entry.path] = entry
         if file.kind == "references" and not isinstance(file.root, MappingNode):
             self.references_readable = False
-        return file, bool(found)
+        return file, bool(file.problems)
 
     def where(self, path: Path, key_path: KeyPath) -> Position:
         """The position of a key path in a file already read."""
@@ -130,14 +202,57 @@ class _Verification:
                 )
             )
 
+    def checked(self, file: RawFile, context: str, check: Check) -> Checked:
+        """The outcome of a map or cycle file: kept by the cache for these bytes and ``context``, or checked now.
+
+        ``context`` says what else the checks read (which map a cycle's folder names, and as what).
+        """
+        known = self.known
+        if file.problems is not None:  # parsed already (a raw catalogue loaded whole)
+            return self.check(file, check)
+        data, problems = read_bytes(self.raw, file)
+        if data is None:
+            return self.check(parse_bytes(file, data, problems), check)
+        digest = hashlib.sha256(data).digest()
+        parts = (file.kind, file.id, file.folder or "", context, "references" if known is not None else "none")
+        key = hashlib.sha256(digest + "\0".join(parts).encode("utf-8", "surrogateescape")).digest()
+        kept = self.cache.file(self.scope, file.rel, key, self.paths)
+        if isinstance(kept, Checked) and kept.holds_with(known):
+            return kept
+        outcome = self.check(parse_bytes(file, data, problems, digest), check)
+        if outcome.asked is not None or known is None:
+            self.cache.keep_file(self.scope, file.rel, key, outcome, self.paths)
+        return outcome
+
+    def check(self, file: RawFile, check: Check) -> Checked:
+        """Check a map or cycle file read and parsed (or not readable), as the loader left it."""
+        problems = _loaded(file)
+        key = f"{file.folder}/{file.id}" if file.kind == "cycle" else file.id
+        written = written_entries(file.kind, key, file.rel, file.root, file.digest)
+        asked = _Asked(self.known) if self.known is not None else None
+        value = check(file, asked, problems)
+        answers = None if asked is None or asked.whole else tuple(asked.answers.items())
+        return Checked(tuple(problems), tuple(written), bool(file.problems), value, answers)
+
+    def take(self, outcome: Checked) -> None:
+        """Add a file's problems and entries as written to the run's."""
+        self.problems.extend(outcome.problems)
+        for entry in outcome.written:
+            self.written[entry.kind, entry.key] = entry
+            self.by_path[entry.path] = entry
+
     def read_maps(self) -> None:
+        def check(file: RawFile, known: Collection[str] | None, problems: list[Problem]) -> Value:
+            return check_map(file, known, problems)
+
         for file in self.raw.of_kind("map"):
-            file, faulted = self.parsed(file)
-            entry = check_map(file, self.known, self.problems)
-            if entry is None or faulted:
-                self.bad_maps.add(file.id)
-            else:
+            outcome = self.checked(file, "map", check)
+            self.take(outcome)
+            entry = outcome.value
+            if isinstance(entry, MapEntry) and not outcome.faulted:
                 self.maps[entry.id] = entry
+            else:
+                self.bad_maps.add(file.id)
         definitions: dict[AffineMap, MapEntry] = {}
         for entry in self.maps.values():
             first = definitions.setdefault(entry.dynamics, entry)
@@ -153,13 +268,30 @@ class _Verification:
                 )
 
     def read_cycles(self) -> None:
-        for file in self.raw.of_kind("cycle"):
-            file, faulted = self.parsed(file)
-            result = check_cycle(file, self.maps, self.bad_maps, self.known, self.limits, self.problems)
-            if result is not None and not faulted:
-                self.add_cycle(*result)
+        def check(file: RawFile, known: Collection[str] | None, problems: list[Problem]) -> Value:
+            result = check_cycle(file, self.maps, self.bad_maps, known, self.limits, problems)
+            if result is None:
+                return None
+            cycle, node, key = result
+            return cycle, node.line, node.column, key
 
-    def add_cycle(self, cycle: Cycle, node: Node, key: KeyPath) -> None:
+        states: dict[str | None, str] = {}
+        for file in self.raw.of_kind("cycle"):
+            # A cycle's checks read only the map of its folder: its definition, or that it failed or is missing.
+            state = states.get(file.folder)
+            if state is None:
+                entry = self.maps.get(file.folder or "")
+                state = (
+                    definition_digest(entry.dynamics) if entry else "failed" if file.folder in self.bad_maps else "none"
+                )
+                states[file.folder] = state
+            outcome = self.checked(file, "cycle of " + state, check)
+            self.take(outcome)
+            if outcome.value is not None and not outcome.faulted:
+                assert not isinstance(outcome.value, MapEntry)
+                self.add_cycle(*outcome.value)
+
+    def add_cycle(self, cycle: Cycle, line: int, column: int, key: KeyPath) -> None:
         """List a derived cycle unless it is listed already, under this map or a map of the same definition."""
         seen = self.by_map.setdefault(cycle.map_id, {})
         first = seen.get(cycle.canonical)
@@ -180,7 +312,7 @@ class _Verification:
             seen[cycle.canonical] = cycle
             self.by_fingerprint[cycle.fingerprint] = cycle
             return
-        position = Position(cycle.path, node.line, node.column, key)
+        position = Position(cycle.path, line, column, key)
         self.problems.append(Problem(position, label(key) + message, "duplicate-cycle"))
 
     def report(self) -> Report:
@@ -192,7 +324,7 @@ class _Verification:
             if entry.coverage:
                 where = partial(self.where, entry.path)
                 found = self.by_map.get(map_id, {})
-                self.maps[map_id] = recheck_coverage(entry, found, self.limits, self.problems, where)
+                self.maps[map_id] = recheck_coverage(entry, found, self.limits, self.problems, where, self.cache)
         catalogue = Catalogue(
             root=self.raw.root,
             maps=MappingProxyType(dict(sorted(self.maps.items()))),
@@ -207,25 +339,51 @@ class _Verification:
         return Report(catalogue, tuple(sorted(self.problems)), len(files), written, self.references_readable)
 
 
-def verify_raw(raw: RawCatalogue, limits: Limits = Limits()) -> Report:
+def verify_raw(raw: RawCatalogue, limits: Limits = Limits(), cache: VerifyCache | None = None) -> Report:
     """Verify a catalogue's files; return the verified model, every problem and the entries as written.
 
     Files not yet parsed are parsed one at a time and dropped once checked,
-    so memory holds the model, not every file's node tree.
+    so memory holds the model, not every file's node tree.  With a ``cache``,
+    files whose outcome it keeps are not parsed or checked again, and coverage
+    searches it keeps are not run again (:mod:`builder.catalogue.cache`); the
+    report is the same.
     """
-    run = _Verification(raw, limits)
-    run.read_references()
-    run.read_record()
-    run.read_maps()
-    run.read_cycles()
-    return run.report()
+    with _no_cycle_collection():
+        run = _Verification(raw, limits, cache if cache is not None else VerifyCache.memory())
+        run.read_references()
+        run.read_record()
+        run.read_maps()
+        run.read_cycles()
+        return run.report()
 
 
-def verify_source(source: Source, limits: Limits = Limits()) -> Report:
+@contextmanager
+def _no_cycle_collection() -> Iterator[None]:
+    """Pause Python's collector of reference cycles while the verified record is built.
+
+    The record is hundreds of thousands of objects that all stay alive, and the collector would
+    traverse them again and again as they accumulate (it took half the time of verifying 50,000
+    cycles).  Verification makes almost no reference cycles; memory is freed by reference counting
+    as usual.  At the end the objects made meanwhile are moved to the oldest generation at once
+    (``gc.freeze`` then ``gc.unfreeze``), without a traversal: re-enabled as they were, the
+    collector would traverse them all straight away.
+    """
+    enabled = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        gc.freeze()
+        gc.unfreeze()
+        if enabled:
+            gc.enable()
+
+
+def verify_source(source: Source, limits: Limits = Limits(), cache: VerifyCache | None = None) -> Report:
     """Verify the catalogue held by ``source`` (a folder, or a tree in memory)."""
-    return verify_raw(scan_source(source), limits)
+    return verify_raw(scan_source(source), limits, cache)
 
 
-def verify_catalogue(root: Path, limits: Limits = Limits()) -> Report:
+def verify_catalogue(root: Path, limits: Limits = Limits(), cache: VerifyCache | None = None) -> Report:
     """Load and verify the catalogue at root (raises CatalogueUnreadable if it is not one)."""
-    return verify_raw(scan_catalogue(root), limits)
+    return verify_raw(scan_catalogue(root), limits, cache)

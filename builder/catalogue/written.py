@@ -132,9 +132,10 @@ def _flatten(node: Node, prefix: str, out: dict[str, WrittenValue], at: dict[str
         else:
             assert isinstance(value, SequenceNode), value
             out[name] = _value(value)
-            for i, item in enumerate(value.items):
-                if type(item) is not Scalar:
-                    at[f"{name}[{i}]"] = (item.line, item.column)
+            if set(map(type, value.items)) - {Scalar}:  # the mappings or lists inside (coverage claims, branches)
+                for i, item in enumerate(value.items):
+                    if type(item) is not Scalar:
+                        at[f"{name}[{i}]"] = (item.line, item.column)
 
 
 def _written(node: Node) -> tuple[dict[str, WrittenValue], dict[str, tuple[int, int]]]:

@@ -5,8 +5,18 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
+from builder.catalogue.cache import default_cache_folder
 from builder.catalogue.record import SITE_ADDRESS, site_address
-from builder.commands.options import Subcommands, add_catalogue, add_command, add_limits, limits_of, positive
+from builder.commands.options import (
+    Subcommands,
+    add_cache,
+    add_catalogue,
+    add_command,
+    add_limits,
+    limits_of,
+    open_cache,
+    positive,
+)
 from builder.commands.summary import show_report
 from builder.errors import UsageError
 from builder.history import NoHistory
@@ -46,6 +56,7 @@ def register(subparsers: Subcommands) -> None:
         help="processes that write the pages (default: the number of CPUs); the site does not depend on it",
     )
     add_limits(parser)
+    add_cache(parser)
     parser.set_defaults(run=run)
 
 
@@ -56,9 +67,18 @@ def run(args: argparse.Namespace) -> int:
         base_url = site_address(args.base_url)
         if base_url is None:
             raise UsageError(f"--base-url: expected {SITE_ADDRESS}, got '{args.base_url}'")
-    result = build_site(
-        args.catalogue, args.out, limits_of(args), base_url, wait=not args.no_wait, jobs=args.jobs, remove_later=True
-    )
+    with open_cache(args, default_cache_folder(args.catalogue)) as cache:
+        result = build_site(
+            args.catalogue,
+            args.out,
+            limits_of(args),
+            base_url,
+            wait=not args.no_wait,
+            jobs=args.jobs,
+            reuse=not args.no_cache,  # --no-cache: a clean build, every page written
+            remove_later=True,
+            cache=cache,
+        )
     show_report(result.report)
     if not result.report.ok:
         print(f"nothing was written; {args.out} is as it was")

@@ -6,7 +6,7 @@ import argparse
 import sys
 
 from builder.catalogue.draft import draft_cycle
-from builder.commands.options import Subcommands, add_catalogue, add_command, add_limits, limits_of
+from builder.commands.options import Subcommands, add_cache, add_catalogue, add_command, add_limits, limits_of
 from builder.commands.summary import verified_entries
 from builder.errors import UsageError
 
@@ -29,6 +29,7 @@ def register(subparsers: Subcommands) -> None:
     source.add_argument("--word", metavar="W", help="the residues along the cycle: digits, or comma-separated")
     parser.add_argument("--write", action="store_true", help="also write the entry where it belongs in the catalogue")
     add_catalogue(parser, positional=False)
+    add_cache(parser)
     add_limits(parser)
     parser.set_defaults(run=run)
 

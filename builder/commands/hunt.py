@@ -32,11 +32,12 @@ from typing import IO
 
 from builder.arith.dynamics import AffineMap, CycleFound
 from builder.arith.integers import show
+from builder.catalogue.cache import default_cache_folder
 from builder.catalogue.entries import cycle_file_id, entry_text
 from builder.catalogue.limits import NO_RECHECK
 from builder.catalogue.model import PLACEHOLDER, Cycle
 from builder.catalogue.verify import Limits, verify_catalogue
-from builder.commands.options import Subcommands, add_command, add_max_work, natural, positive
+from builder.commands.options import Subcommands, add_cache, add_command, add_max_work, natural, open_cache, positive
 from builder.errors import UsageError
 from builder.search.definition import HUNT_MAX_BITS, HUNT_MAX_STEPS
 from builder.search.survey import (
@@ -107,6 +108,7 @@ def register(subparsers: Subcommands) -> None:
         help=f"leave a start unresolved once a member exceeds B bits (default {HUNT_MAX_BITS:,})",
     )
     add_max_work(hunt)
+    add_cache(hunt)
     hunt.add_argument("--save", type=Path, metavar="FILE", help="write the result as JSON, for --merge")
     hunt.add_argument(
         "--merge", type=Path, nargs="+", metavar="FILE", help="report the union of saved results instead of hunting"
@@ -349,7 +351,8 @@ def _run(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
     if args.save is not None:
         _check_writable(args.save)
     # Only the entries matter for marking cycles new or catalogued: coverage claims are not re-run here.
-    report = verify_catalogue(args.catalogue, Limits(recheck_up_to=NO_RECHECK))
+    with open_cache(args, default_cache_folder(args.catalogue)) as cache:
+        report = verify_catalogue(args.catalogue, Limits(recheck_up_to=NO_RECHECK), cache)
     if not report.ok:
         for problem in report.problems:
             print(problem, file=out)

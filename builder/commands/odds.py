@@ -6,7 +6,7 @@ import argparse
 
 from builder.arith.integers import show
 from builder.arith.odds import MODEL_MULTIPLIER_BITS, length_odds, modelled, odds_table
-from builder.commands.options import Subcommands, add_catalogue, add_command
+from builder.commands.options import Subcommands, add_cache, add_catalogue, add_command
 from builder.commands.summary import verified_entries
 from builder.errors import UsageError
 
@@ -27,6 +27,7 @@ def register(subparsers: Subcommands) -> None:
     parser.add_argument("map", metavar="MAP", help="a map id of the catalogue (2 branches)")
     parser.add_argument("--lengths", required=True, metavar="K1..K2", help="the lengths to show, e.g. 1..20 or 11")
     add_catalogue(parser, positional=False)
+    add_cache(parser)
     parser.set_defaults(run=run)
 
 

@@ -8,20 +8,24 @@ as that parser's default; builder.commands.main runs it and handles errors for a
 from __future__ import annotations
 
 import argparse
+import sys
 from pathlib import Path
 from typing import TypeAlias
 
 from builder.arith.integers import parse_decimal
+from builder.catalogue.cache import FOLDER_NAME, VerifyCache
 from builder.catalogue.limits import DEFAULT_MAX_STEPS, DEFAULT_MAX_WORK, DEFAULT_RECHECK_UP_TO, MAP_WORK_ORBITS, Limits
 
 __all__ = [
     "Subcommands",
+    "add_cache",
     "add_catalogue",
     "add_command",
     "add_limits",
     "add_max_work",
     "limits_of",
     "natural",
+    "open_cache",
     "positive",
 ]
 
@@ -102,6 +106,32 @@ def add_limits(parser: argparse.ArgumentParser) -> None:
         help="re-run every coverage claim for the starts with |n| up to N; the part of a claim beyond N "
         f"is shown as attested (default {DEFAULT_RECHECK_UP_TO:,})",
     )
+
+
+def add_cache(parser: argparse.ArgumentParser, where: str = "beside the catalogue folder") -> None:
+    """--cache DIR and --no-cache: where verification results are kept between runs, or that none are used."""
+    group = parser.add_mutually_exclusive_group()
+    group.add_argument(
+        "--cache",
+        type=Path,
+        default=None,
+        metavar="DIR",
+        help=f"keep verification results in DIR, so that unchanged files are not checked again "
+        f"(default: {FOLDER_NAME} {where}; deleting it is always safe)",
+    )
+    group.add_argument(
+        "--no-cache", action="store_true", help="neither read nor write the cache: check every file afresh"
+    )
+
+
+def open_cache(args: argparse.Namespace, default: Path) -> VerifyCache:
+    """The cache add_cache's options ask for (``default``: the folder used without --cache); notes go to stderr."""
+    if getattr(args, "no_cache", True):
+        return VerifyCache.memory()
+    cache = VerifyCache.open(args.cache if args.cache is not None else default)
+    for note in cache.notes:
+        print(f"note: {note}", file=sys.stderr)
+    return cache
 
 
 def add_command(subparsers: Subcommands, name: str, help_text: str, description: str) -> argparse.ArgumentParser:

@@ -7,7 +7,8 @@ import sys
 from pathlib import Path
 
 from builder.catalogue import Report, verify_catalogue, verify_source
-from builder.commands.options import Subcommands, add_command, add_limits, limits_of
+from builder.catalogue.cache import FOLDER_NAME, default_cache_folder
+from builder.commands.options import Subcommands, add_cache, add_command, add_limits, limits_of, open_cache
 from builder.diff import compare, github_commands, render_markdown
 from builder.errors import NoCatalogueAtRevision, UsageError
 from builder.history.revisions import catalogue_path, empty_source, repository_top, revision_source
@@ -46,17 +47,20 @@ def register(subparsers: Subcommands) -> None:
         help="github: print a GitHub Actions ::error command per problem before the Markdown",
     )
     add_limits(review)
+    add_cache(review, "beside HEAD's catalogue folder, or with --git at the top of the repository")
     review.set_defaults(run=run)
 
 
 def _reports(args: argparse.Namespace) -> tuple[Report, Report, str, str, str]:
     """The verified base and head, the head's path prefix for annotations, and the two labels."""
-    limits = limits_of(args)
     if not args.git:
         if args.repo is not None or args.path is not None:
             raise UsageError("--repo and --path apply only with --git")
         base_root, head_root = Path(args.base), Path(args.head)
-        base, head = verify_catalogue(base_root, limits), verify_catalogue(head_root, limits)
+        # One cache for both sides: what the two share (a coverage search, say) is worked out once.
+        with open_cache(args, default_cache_folder(head_root)) as cache:
+            base = verify_catalogue(base_root, limits_of(args), cache)
+            head = verify_catalogue(head_root, limits_of(args), cache)
         return base, head, head_root.as_posix(), args.base, args.head
     repo = args.repo if args.repo is not None else Path.cwd()
     path = args.path if args.path is not None else "catalogue"
@@ -70,7 +74,9 @@ def _reports(args: argparse.Namespace) -> tuple[Report, Report, str, str, str]:
         base_source = empty_source(f"{args.base}:(no catalogue yet)")
         base_label = f"{args.base} (no catalogue yet)"
     head_source = revision_source(top, args.head, path)
-    base, head = verify_source(base_source, limits), verify_source(head_source, limits)
+    with open_cache(args, top / FOLDER_NAME) as cache:
+        base = verify_source(base_source, limits_of(args), cache)
+        head = verify_source(head_source, limits_of(args), cache)
     return base, head, catalogue_path(path).as_posix(), base_label, args.head
 
 

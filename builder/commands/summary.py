@@ -7,10 +7,11 @@ import sys
 from dataclasses import replace
 from typing import IO
 
+from builder.catalogue.cache import default_cache_folder
 from builder.catalogue.limits import NO_RECHECK
 from builder.catalogue.model import Report
 from builder.catalogue.verify import Limits, verify_catalogue
-from builder.commands.options import limits_of
+from builder.commands.options import limits_of, open_cache
 from builder.wording import count
 
 __all__ = ["show_report", "summary", "verified_entries"]
@@ -46,7 +47,8 @@ def verified_entries(args: argparse.Namespace) -> Report:
     Coverage claims are not re-run: drafting and odds need only the entries.
     """
     limits = limits_of(args) if hasattr(args, "max_steps") else Limits()
-    report = verify_catalogue(args.catalogue, replace(limits, recheck_up_to=NO_RECHECK))
+    with open_cache(args, default_cache_folder(args.catalogue)) as cache:
+        report = verify_catalogue(args.catalogue, replace(limits, recheck_up_to=NO_RECHECK), cache)
     if not report.ok:
         show_report(report, sys.stderr)
     return report

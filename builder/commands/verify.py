@@ -4,8 +4,17 @@ from __future__ import annotations
 
 import argparse
 
+from builder.catalogue.cache import default_cache_folder
 from builder.catalogue.verify import verify_catalogue
-from builder.commands.options import Subcommands, add_catalogue, add_command, add_limits, limits_of
+from builder.commands.options import (
+    Subcommands,
+    add_cache,
+    add_catalogue,
+    add_command,
+    add_limits,
+    limits_of,
+    open_cache,
+)
 from builder.commands.summary import show_report
 
 __all__ = ["register", "run"]
@@ -22,11 +31,13 @@ def register(subparsers: Subcommands) -> None:
     parser = add_command(subparsers, "verify", HELP, DESCRIPTION)
     add_catalogue(parser)
     add_limits(parser)
+    add_cache(parser)
     parser.set_defaults(run=run)
 
 
 def run(args: argparse.Namespace) -> int:
     """Run ``periplus verify``; return the exit status."""
-    report = verify_catalogue(args.catalogue, limits_of(args))
+    with open_cache(args, default_cache_folder(args.catalogue)) as cache:
+        report = verify_catalogue(args.catalogue, limits_of(args), cache)
     show_report(report)
     return 0 if report.ok else 1

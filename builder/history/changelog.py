@@ -19,6 +19,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import date
 
+from builder.catalogue.cache import VerifyCache
 from builder.catalogue.limits import NO_RECHECK
 from builder.catalogue.model import Report
 from builder.catalogue.verify import Limits, verify_source
@@ -109,20 +110,23 @@ class Edition:
         return f"version {self.version}, not yet released ({state})"
 
 
-def _release_report(history: RepoHistory, release: Release) -> Report:
+def _release_report(history: RepoHistory, release: Release, cache: VerifyCache | None = None) -> Report:
     """The release's catalogue, read from its tagged commit into memory and verified there."""
     try:
         source = revision_source(history.top, release.commit.id, history.prefix or ".")
     except NoCatalogueAtRevision:
         # The tagged commit has no catalogue at this path: the record was empty then.
         source = empty_source(f"{release.commit.id}:(no catalogue yet)")
-    return verify_source(source, _COMPARE_LIMITS)
+    return verify_source(source, _COMPARE_LIMITS, cache)
 
 
-def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Changelog, Edition]:
+def read_changelog(
+    report: Report, history: RepoHistory | NoHistory, cache: VerifyCache | None = None
+) -> tuple[Changelog, Edition]:
     """Compare each release with the one before, and the catalogue of ``report`` with the newest.
 
-    ``report`` is the verified catalogue being built; its record must be present.
+    ``report`` is the verified catalogue being built; its record must be present.  ``cache`` keeps
+    the releases' verification results between builds.
     """
     record = report.catalogue.record
     assert record is not None, "a site is built only from a catalogue whose record verifies"
@@ -130,7 +134,7 @@ def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Ch
         edition = Edition(record.version, "unreleased", None, False)
         return Changelog((), f"no changelog: {history.reason}"), edition
     head = history.head.id if history.head else None
-    read, skipped = _read_releases(history)
+    read, skipped = _read_releases(history, cache)
     releases = tuple(release for release, _ in read)
     if not releases:
         edition = Edition(record.version, "unreleased", head, history.dirty)
@@ -156,13 +160,15 @@ def read_changelog(report: Report, history: RepoHistory | NoHistory) -> tuple[Ch
     return Changelog(tuple(steps), None, history.shallow, skipped), edition
 
 
-def _read_releases(history: RepoHistory) -> tuple[list[tuple[Release, Report]], tuple[tuple[str, str], ...]]:
+def _read_releases(
+    history: RepoHistory, cache: VerifyCache | None
+) -> tuple[list[tuple[Release, Report]], tuple[tuple[str, str], ...]]:
     """Each release with its verified catalogue; a release whose catalogue cannot be read is skipped, with why."""
     read: list[tuple[Release, Report]] = []
     skipped: list[tuple[str, str]] = []
     for release in history.releases:
         try:
-            read.append((release, _release_report(history, release)))
+            read.append((release, _release_report(history, release, cache)))
         except CatalogueUnreadable as exc:
             skipped.append((release.tag, f"its catalogue cannot be read: {exc.reason}"))
     return read, tuple(skipped)

@@ -23,6 +23,7 @@ from contextlib import contextmanager
 from dataclasses import dataclass, replace
 from pathlib import Path
 
+from builder.catalogue.cache import VerifyCache
 from builder.catalogue.model import Report
 from builder.catalogue.verify import Limits, verify_catalogue
 from builder.errors import UsageError
@@ -164,6 +165,7 @@ def build_site(
     jobs: int | None = None,
     reuse: bool = True,
     remove_later: bool = False,
+    cache: VerifyCache | None = None,
 ) -> BuildResult:
     """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically.
 
@@ -173,16 +175,17 @@ def build_site(
     With ``remove_later``, the site replaced is removed by a process of its own once the new one is in
     place, so the caller does not wait for it (a big site's folders take long to remove on some disks);
     if that process is stopped, the next build removes what it left.
+    ``cache`` keeps verification results between builds (the catalogue's and its releases').
     """
     _check_target(out)
     _check_place(out)
-    report = verify_catalogue(catalogue, limits or Limits())
+    report = verify_catalogue(catalogue, limits or Limits(), cache)
     if not report.ok:
         return BuildResult(report, 0)
     record = report.catalogue.record
     assert record is not None, "a catalogue that verifies has its record"
     history = read_history(catalogue, names=record.credit_committers)
-    changelog, edition = read_changelog(report, history)
+    changelog, edition = read_changelog(report, history, cache)
     # The entries as written serve comparisons (the changelog, done now); the pages read the model.
     report = replace(report, written={})
     views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)

@@ -325,3 +325,17 @@ def test_an_entry_from_a_file_the_loader_faulted_never_reaches_the_model(catalog
     (p,) = report.problems
     assert p.message == "anchor &s is not allowed in catalogue files"
     assert [c.canonical for c in report.catalogue.cycles["3x-plus-1"]] == [0, -1, -5, -17]
+
+
+def test_an_entry_started_off_its_canonical_member_has_the_canonical_cycle_equation(catalogue):
+    # Lagarias 1985 via literature.md: -17 -> -25 -> ... is the 3x+1 cycle of length 11 (the word from -17,
+    # 11110111000, by hand above).  Started at -25, the equation is still read from -17: B by the
+    # Lagarias 1990 formula, and -17 = B / (2^11 - 3^7) by sympy.
+    root = catalogue(files={"cycles/3x-plus-1/through-minus-17.yaml": "map: 3x-plus-1\nstart: -25\n" + PROVENANCE})
+    report = verify_catalogue(root)
+    assert report.problems == ()
+    (c,) = [c for c in report.catalogue.cycles["3x-plus-1"] if c.id == "through-minus-17"]
+    assert c.start == -25 and c.canonical == -17 and c.canonical_index == 10
+    eq = c.equation
+    assert (eq.multiplier, eq.offset, eq.denominator) == (3**7, cycle_offset("11110111000"), 2**11)
+    assert sympy.Rational(eq.offset, eq.target) == -17

@@ -1,0 +1,429 @@
+"""The verification cache (builder.catalogue.cache): a warm cache gives exactly the report a cold run gives.
+
+The reference for every comparison here is Periplus's own verification without a cache; the claims
+that are made false below are facts of the fixture catalogue, with their sources in its comments
+(Lagarias 1985 via literature.md).  Each test also shows that the cache was really used (or really
+not), by counting the files parsed: a test that passed whether or not the cache were read would
+prove nothing.
+"""
+
+from __future__ import annotations
+
+import shutil
+import sqlite3
+import subprocess
+import sys
+from collections.abc import Iterator
+from pathlib import Path
+from typing import Any
+
+import pytest
+from conftest import BROKEN_CASES, FIXTURES, REPO, Run
+from test_coverage import with_claim
+
+from builder.catalogue import cache as cache_module
+from builder.catalogue import coverage as coverage_module
+from builder.catalogue import serial
+from builder.catalogue import verify as verify_module
+from builder.catalogue.cache import DATABASE, FOLDER_NAME, VerifyCache, default_cache_folder
+from builder.catalogue.model import Report
+from builder.catalogue.verify import Limits, verify_catalogue
+
+NO_RECHECK = Limits(recheck_up_to=-1)
+
+
+def detail(report: Report) -> tuple[Any, ...]:
+    """Everything a report holds, problems field by field (a Problem compares by position alone)."""
+    problems = [
+        (p.position.file, p.position.line, p.position.column, p.position.key_path, p.message, p.code, p.severity)
+        for p in report.problems
+    ]
+    written = list(report.written.items())  # in the order the files were read
+    return report.catalogue, written, problems, report.files, report.references_readable
+
+
+@pytest.fixture
+def parses(monkeypatch: pytest.MonkeyPatch) -> list[str]:
+    """The map and cycle files verification parses (those it does not take from the cache)."""
+    seen: list[str] = []
+    real = verify_module.parse_bytes
+
+    def counting(file: Any, *args: Any) -> Any:
+        seen.append(file.rel)
+        return real(file, *args)
+
+    monkeypatch.setattr(verify_module, "parse_bytes", counting)
+    return seen
+
+
+@pytest.fixture
+def searches(monkeypatch: pytest.MonkeyPatch) -> list[tuple[Any, ...]]:
+    """The coverage searches verification runs (those it does not take from the cache)."""
+    ran: list[tuple[Any, ...]] = []
+    real = coverage_module.hunt_range
+
+    def counting(*args: Any, **kwargs: Any) -> Any:
+        ran.append(args)
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(coverage_module, "hunt_range", counting)
+    return ran
+
+
+def verified(root: Path, folder: Path | None, limits: Limits = NO_RECHECK) -> Report:
+    with VerifyCache.open(folder) as cache:
+        return verify_catalogue(root, limits, cache)
+
+
+def entry_files(root: Path) -> int:
+    return len(list((root / "maps").glob("*.yaml"))) + len(list((root / "cycles").rglob("*.yaml")))
+
+
+# --- the same report, cold or warm ----------------------------------------------------------------
+
+
+def test_a_warm_cache_gives_the_report_of_a_cold_run_and_checks_no_file_again(catalogue, tmp_path, parses):
+    root = catalogue()
+    folder = tmp_path / "cache"
+    cold = verify_catalogue(root, NO_RECHECK)
+    assert cold.ok
+    parses.clear()
+    first = verified(root, folder)
+    assert len(parses) == entry_files(root) == 10
+    parses.clear()
+    warm = verified(root, folder)
+    assert parses == []
+    assert detail(first) == detail(cold) == detail(warm)
+
+
+@pytest.mark.parametrize("case", BROKEN_CASES)
+def test_a_warm_cache_gives_the_report_of_a_cold_run_for_every_broken_case(case, catalogue, tmp_path, parses):
+    root = catalogue(case)
+    folder = tmp_path / "cache"
+    cold = verify_catalogue(root, NO_RECHECK)
+    assert not cold.ok  # each case makes at least one false claim or malformed file
+    verified(root, folder)
+    parses.clear()
+    warm = verified(root, folder)
+    assert parses == []
+    assert detail(warm) == detail(cold)
+
+
+def test_a_warm_cache_gives_the_report_of_a_cold_run_for_the_hostile_entries(tmp_path, parses):
+    root = shutil.copytree(FIXTURES / "hostile", tmp_path / "hostile")
+    cold = verify_catalogue(root)
+    verified(root, tmp_path / "cache", Limits())
+    parses.clear()
+    warm = verified(root, tmp_path / "cache", Limits())
+    assert parses == []
+    assert detail(warm) == detail(cold)
+
+
+# --- what makes the cache miss ----------------------------------------------------------------------
+
+
+def test_a_changed_file_is_checked_again_and_its_false_claim_is_reported(catalogue, tmp_path, parses):
+    # The cycle through -5 of 3x+1 is -5, -7, -10 (the fixture's source): -8 is not its second member.
+    root = catalogue()
+    folder = tmp_path / "cache"
+    assert verified(root, folder).ok
+    path = root / "cycles" / "3x-plus-1" / "through-minus-5.yaml"
+    path.write_text(path.read_text(encoding="utf-8").replace("[-5, -7, -10]", "[-5, -8, -10]"), encoding="utf-8")
+    parses.clear()
+    warm = verified(root, folder)
+    assert parses == ["cycles/3x-plus-1/through-minus-5.yaml"]
+    assert [(p.code, str(p)) for p in warm.errors] == [
+        ("wrong-members", f"{path}:5:15: error: members[1]: expected -7 (step 1 of the orbit of -5), got -8")
+    ]
+    assert detail(warm) == detail(verify_catalogue(root, NO_RECHECK))
+
+
+def test_a_changed_map_is_seen_by_its_cycles(catalogue, tmp_path, parses):
+    # 3x+1 with the odd branch (3n+3)/2 is another map: the cycle through -5 is no cycle of it.
+    root = catalogue()
+    folder = tmp_path / "cache"
+    verified(root, folder)
+    path = root / "maps" / "3x-plus-1.yaml"
+    path.write_text(path.read_text(encoding="utf-8").replace("increment: 1}", "increment: 3}"), encoding="utf-8")
+    parses.clear()
+    warm = verified(root, folder)
+    assert sorted(parses) == sorted(
+        ["maps/3x-plus-1.yaml"] + [f"cycles/3x-plus-1/{p.name}" for p in (root / "cycles" / "3x-plus-1").iterdir()]
+    )
+    assert not warm.ok
+    assert detail(warm) == detail(verify_catalogue(root, NO_RECHECK))
+
+
+def test_a_removed_reference_is_seen_by_the_entries_that_cite_it(catalogue, tmp_path, parses):
+    root = catalogue()
+    folder = tmp_path / "cache"
+    verified(root, folder)
+    path = root / "references.yaml"
+    path.write_text(path.read_text(encoding="utf-8").replace("lagarias-1985:", "lagarias-1985a:"), encoding="utf-8")
+    parses.clear()
+    warm = verified(root, folder)
+    citing = sorted(
+        p.relative_to(root).as_posix()
+        for p in [*(root / "maps").glob("*.yaml"), *(root / "cycles").rglob("*.yaml")]
+        if "lagarias-1985" in p.read_text(encoding="utf-8")
+    )
+    assert citing and sorted(parses) == citing  # only the entries citing it are checked again
+    assert any(p.code == "unknown-reference" for p in warm.errors)
+    assert detail(warm) == detail(verify_catalogue(root, NO_RECHECK))
+
+
+def test_other_limits_miss_the_cache(catalogue, tmp_path, parses):
+    root = catalogue()
+    folder = tmp_path / "cache"
+    verified(root, folder)
+    parses.clear()
+    other = Limits(max_steps=500, recheck_up_to=-1)
+    warm = verified(root, folder, other)
+    assert len(parses) == 10
+    assert detail(warm) == detail(verify_catalogue(root, other))
+
+
+def test_another_engine_version_misses_the_cache(catalogue, tmp_path, parses, monkeypatch):
+    root = catalogue()
+    folder = tmp_path / "cache"
+    verified(root, folder)
+    monkeypatch.setattr(cache_module, "engine_version", lambda: "another version")
+    parses.clear()
+    verified(root, folder)
+    assert len(parses) == 10
+    with sqlite3.connect(folder / DATABASE) as db:
+        assert db.execute("SELECT value FROM meta WHERE name = 'engine'").fetchone() == ("another version",)
+    db.close()
+
+
+def test_the_same_catalogue_at_another_root_misses_the_cache(catalogue, tmp_path, parses):
+    # Problems name files through the root as given, so a cached outcome is kept per root.
+    root = catalogue()
+    folder = tmp_path / "cache"
+    verified(root, folder)
+    moved = shutil.copytree(root, tmp_path / "elsewhere")
+    parses.clear()
+    warm = verified(moved, folder)
+    assert len(parses) == 10
+    assert detail(warm) == detail(verify_catalogue(moved, NO_RECHECK))
+
+
+# --- a cache that cannot be trusted or used -------------------------------------------------------
+
+
+@pytest.mark.parametrize("damage", ["garbage", "truncated", "empty"])
+def test_a_damaged_cache_is_ignored_and_made_anew(damage, catalogue, tmp_path, parses):
+    root = catalogue("wrong-length")
+    folder = tmp_path / "cache"
+    cold = verify_catalogue(root, NO_RECHECK)
+    verified(root, folder)
+    db = folder / DATABASE
+    if damage == "garbage":
+        db.write_bytes(b"not a database at all\n" * 100)
+    elif damage == "truncated":
+        data = db.read_bytes()
+        db.write_bytes(data[: len(data) // 2])
+    else:
+        db.write_bytes(b"")
+    parses.clear()
+    assert detail(verified(root, folder)) == detail(cold)
+    parses.clear()
+    assert detail(verified(root, folder)) == detail(cold)
+    assert parses == []  # made anew, and warm again
+
+
+def test_a_cache_signed_with_another_key_is_not_trusted(catalogue, tmp_path, parses, monkeypatch):
+    # A cache folder committed to a repository, or copied from another machine, is checked, not believed.
+    root = catalogue()
+    folder = tmp_path / "cache"
+    verified(root, folder)
+    monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "another-user"))
+    parses.clear()
+    warm = verified(root, folder)
+    assert len(parses) == 10
+    assert detail(warm) == detail(verify_catalogue(root, NO_RECHECK))
+
+
+def test_a_planted_outcome_is_believed_only_with_the_users_own_signature(catalogue, tmp_path):
+    # The outcome kept for the cycle through -5 is replaced by that of the cycle through 1: believed,
+    # it would list the cycle through 1 twice and lose the one through -5.
+    root = catalogue()
+    folder = tmp_path / "cache"
+    cold = verified(root, folder)
+    cycles = "cycles/3x-plus-1"
+    paths = {f"{cycles}/{p.name}": p for p in (root / "cycles" / "3x-plus-1").iterdir()}
+    with sqlite3.connect(folder / DATABASE) as db:
+        (value,) = db.execute("SELECT value FROM files WHERE folder = ?", (cycles,)).fetchone()
+    db.close()
+    kept = serial.loads(value, paths)
+    planted = dict(kept)
+    planted[f"{cycles}/through-minus-5.yaml"] = (
+        kept[f"{cycles}/through-minus-5.yaml"][0],
+        kept[f"{cycles}/through-1.yaml"][1],
+    )
+    data = serial.dumps(planted, {path: rel for rel, path in paths.items()})
+
+    def plant(signer: VerifyCache) -> Report:
+        with sqlite3.connect(folder / DATABASE) as db:
+            scope = db.execute("SELECT scope FROM files WHERE folder = ?", (cycles,)).fetchone()[0]
+            mac = signer._mac(b"f", scope, cycles.encode(), data)
+            db.execute("UPDATE files SET value = ?, mac = ? WHERE folder = ?", (data, mac, cycles))
+        db.close()
+        return verified(root, folder)
+
+    stranger = VerifyCache(None, b"\x01" * 32, False, (), None)
+    assert detail(plant(stranger)) == detail(cold)  # signed by another key: checked again
+    with VerifyCache.open(None) as nobody:
+        nobody._key = cache_module._signing_key() or b""
+        fooled = plant(nobody)  # signed with the user's own key, as only this program does
+    assert [p.code for p in fooled.errors] == ["duplicate-cycle"]
+
+
+def test_a_read_only_cache_is_read_and_not_written(catalogue, tmp_path, parses, monkeypatch):
+    # Tests may run as root, for whom no folder is read-only: the database is opened read-only instead.
+    root = catalogue()
+    folder = tmp_path / "cache"
+    verified(root, folder)
+    before = (folder / DATABASE).read_bytes()
+    path = root / "cycles" / "3x-plus-1" / "through-minus-5.yaml"
+    path.write_text(path.read_text(encoding="utf-8") + "# edited\n", encoding="utf-8")
+    monkeypatch.setattr(cache_module, "_connect", lambda db: (cache_module._connect_read_only(db), False))
+    parses.clear()
+    with VerifyCache.open(folder) as cache:
+        assert cache.notes == (f"the cache {folder} is read-only: it is read, and nothing new is kept",)
+        report = verify_catalogue(root, NO_RECHECK, cache)
+    assert parses == ["cycles/3x-plus-1/through-minus-5.yaml"]
+    assert detail(report) == detail(verify_catalogue(root, NO_RECHECK))
+    assert (folder / DATABASE).read_bytes() == before
+
+
+def test_a_cache_folder_that_is_a_file_is_not_used(catalogue, tmp_path, cli):
+    root = catalogue()
+    blocker = tmp_path / "not-a-folder"
+    blocker.write_text("a file\n", encoding="utf-8")
+    run = cli("verify", str(root), "--cache", str(blocker))
+    assert run.code == 0
+    assert run.err == f"note: the cache {blocker} can be neither read nor written; it is not used\n"
+    assert blocker.read_text(encoding="utf-8") == "a file\n"
+
+
+# --- coverage searches ------------------------------------------------------------------------------
+
+
+def test_coverage_searches_are_kept_and_a_changed_recheck_limit_searches_again(catalogue, tmp_path, searches):
+    # 3x+1 on Z: every cycle with least |member| <= 1000 passes through 0, 1, -1, -5 or -17
+    # (Lagarias 1985 via literature.md); the fixture lists all five, so the claim holds.
+    root = catalogue()
+    with_claim(root, "3x-plus-1", 1000)
+    folder = tmp_path / "cache"
+    cold = verified(root, folder, Limits())
+    assert cold.ok and len(searches) == 1
+    searches.clear()
+    warm = verified(root, folder, Limits())
+    assert searches == []
+    assert detail(warm) == detail(cold)
+    lower = Limits(recheck_up_to=500)
+    partly = verified(root, folder, lower)
+    assert len(searches) == 1
+    assert detail(partly) == detail(verify_catalogue(root, lower))
+
+
+def test_a_cycle_removed_under_a_kept_search_is_still_missed(catalogue, tmp_path, searches):
+    # Same fact: the cycle through -17 (length 11) has least |member| 17 <= 1000.  The search is
+    # taken from the cache; comparing it with the listed cycles is not.
+    root = catalogue()
+    with_claim(root, "3x-plus-1", 1000)
+    folder = tmp_path / "cache"
+    assert verified(root, folder, Limits()).ok
+    (root / "cycles" / "3x-plus-1" / "through-minus-17.yaml").unlink()
+    searches.clear()
+    warm = verified(root, folder, Limits())
+    assert searches == []
+    assert [p.code for p in warm.errors] == ["coverage-missing-cycle"]
+    assert detail(warm) == detail(verify_catalogue(root, Limits()))
+
+
+def test_a_review_searches_what_both_sides_claim_once_even_without_a_cache(catalogue, cli, searches):
+    base, head = catalogue(), catalogue()
+    for root in (base, head):
+        with_claim(root, "3x-plus-1", 1000)
+    run = cli("review", str(base), str(head), "--no-cache")
+    assert run.code == 0
+    assert len(searches) == 1
+
+
+# --- the command line -------------------------------------------------------------------------------
+
+
+def test_the_cache_goes_beside_the_catalogue_folder_by_default(catalogue, cli, parses):
+    root = catalogue()
+    assert default_cache_folder(root) == root.parent / FOLDER_NAME
+    first = cli("verify", str(root))
+    assert (root.parent / FOLDER_NAME / DATABASE).is_file()
+    # Marked as a cache: git ignores what it holds.
+    assert (root.parent / FOLDER_NAME / ".gitignore").read_text(encoding="utf-8").splitlines()[-1] == "*"
+    parses.clear()
+    second = cli("verify", str(root))
+    assert parses == []
+    assert (first.code, first.out, first.err) == (second.code, second.out, "")
+
+
+def test_no_cache_neither_reads_nor_writes_the_cache(catalogue, cli, parses, tmp_path):
+    root = catalogue()
+    assert cli("verify", str(root), "--no-cache").code == 0
+    assert not (root.parent / FOLDER_NAME).exists()
+    assert cli("verify", str(root)).code == 0  # now there is a warm cache...
+    db = root.parent / FOLDER_NAME / DATABASE
+    before = db.read_bytes()
+    parses.clear()
+    assert cli("verify", str(root), "--no-cache").code == 0
+    assert len(parses) == 10  # ...which --no-cache does not read
+    assert db.read_bytes() == before  # nor write
+
+
+def test_the_cache_option_puts_the_cache_elsewhere(catalogue, cli, tmp_path):
+    root = catalogue()
+    folder = tmp_path / "my-cache"
+    assert cli("verify", str(root), "--cache", str(folder)).code == 0
+    assert (folder / DATABASE).is_file()
+    assert not (root.parent / FOLDER_NAME).exists()
+
+
+def test_cache_and_no_cache_cannot_be_given_together(catalogue, cli, tmp_path):
+    run = cli("verify", str(catalogue()), "--cache", str(tmp_path / "c"), "--no-cache")
+    assert run.code == 2
+    assert "not allowed with argument" in run.err
+
+
+@pytest.mark.parametrize("command", ["build", "review", "draft", "odds", "hunt"])
+def test_every_command_that_verifies_a_folder_takes_the_cache_options(command, cli):
+    run: Run = cli(command, "--help")
+    assert "--cache DIR" in run.out and "--no-cache" in run.out
+
+
+def test_two_runs_at_once_share_the_cache(catalogue, tmp_path):
+    # Two processes write the same database at once; both finish with the report of a cold run.
+    root = catalogue("wrong-length")
+    folder = tmp_path / "cache"
+
+    def start() -> subprocess.Popen[str]:
+        argv = [sys.executable, "-m", "builder", "verify", str(root), "--cache", str(folder)]
+        return subprocess.Popen(argv, cwd=REPO, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+
+    def finish(runs: Iterator[subprocess.Popen[str]]) -> list[tuple[int, str, str]]:
+        out = []
+        for proc in runs:
+            stdout, stderr = proc.communicate(timeout=120)
+            out.append((proc.returncode, stdout, stderr))
+        return out
+
+    together = finish(iter([start(), start()]))
+    alone = finish(iter([start()]))
+    assert together == alone * 2
+    assert alone[0][0] == 1 and alone[0][2] == ""
+
+
+def test_the_readme_names_the_cache_folder_and_its_options() -> None:
+    readme = (REPO / "README.md").read_text(encoding="utf-8")
+    assert FOLDER_NAME in readme
+    assert "--no-cache" in readme and "--cache DIR" in readme
