@@ -30,7 +30,7 @@ import platform
 import secrets
 import sqlite3
 import time
-from collections.abc import Iterator, Mapping
+from collections.abc import Hashable, Iterator, Mapping
 from functools import cache
 from pathlib import Path
 from types import TracebackType
@@ -187,8 +187,8 @@ class VerifyCache:
         # The folder at hand: its outcomes as kept, and as this run has them (rel: (key, outcome)).
         self._folder: tuple[bytes, str] | None = None
         self._paths: Mapping[str, Path] = {}
-        self._kept: dict[str, tuple[bytes, Any]] = {}
-        self._seen: dict[str, tuple[bytes, Any]] = {}
+        self._kept: dict[str, tuple[Hashable, Any]] = {}
+        self._seen: dict[str, tuple[Hashable, Any]] = {}
         self._dirty = False
 
     @classmethod
@@ -224,7 +224,7 @@ class VerifyCache:
 
     # -- what verification asks
 
-    def file(self, scope: bytes, rel: str, key: bytes, paths: Mapping[str, Path]) -> Any | None:
+    def file(self, scope: bytes, rel: str, key: Hashable, paths: Mapping[str, Path]) -> Any | None:
         """The outcome kept for the file ``rel`` of ``scope`` under ``key``, or None.
 
         ``paths`` gives the path of every file of the catalogue by ``rel``; files are asked for folder
@@ -239,7 +239,7 @@ class VerifyCache:
         self._seen[rel] = kept
         return kept[1]
 
-    def keep_file(self, scope: bytes, rel: str, key: bytes, value: Any, paths: Mapping[str, Path]) -> None:
+    def keep_file(self, scope: bytes, rel: str, key: Hashable, value: Any, paths: Mapping[str, Path]) -> None:
         """Keep the outcome of the file ``rel`` of ``scope`` under ``key`` (replacing the one before)."""
         if self._db is None or not self._writable:
             return

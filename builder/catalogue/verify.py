@@ -205,7 +205,8 @@ class _Verification:
     def checked(self, file: RawFile, context: str, check: Check) -> Checked:
         """The outcome of a map or cycle file: kept by the cache for these bytes and ``context``, or checked now.
 
-        ``context`` says what else the checks read (which map a cycle's folder names, and as what).
+        ``context`` says what else the checks read (which map a cycle's folder names, and as what, and
+        whether references.yaml could be read); the file's path is the cache's key within the root.
         """
         known = self.known
         if file.problems is not None:  # parsed already (a raw catalogue loaded whole)
@@ -214,8 +215,7 @@ class _Verification:
         if data is None:
             return self.check(parse_bytes(file, data, problems), check)
         digest = hashlib.sha256(data).digest()
-        parts = (file.kind, file.id, file.folder or "", context, "references" if known is not None else "none")
-        key = hashlib.sha256(digest + "\0".join(parts).encode("utf-8", "surrogateescape")).digest()
+        key = (digest, context)
         kept = self.cache.file(self.scope, file.rel, key, self.paths)
         if isinstance(kept, Checked) and kept.holds_with(known):
             return kept
@@ -245,8 +245,9 @@ class _Verification:
         def check(file: RawFile, known: Collection[str] | None, problems: list[Problem]) -> Value:
             return check_map(file, known, problems)
 
+        context = "map, references " + ("unread" if self.known is None else "read")
         for file in self.raw.of_kind("map"):
-            outcome = self.checked(file, "map", check)
+            outcome = self.checked(file, context, check)
             self.take(outcome)
             entry = outcome.value
             if isinstance(entry, MapEntry) and not outcome.faulted:
@@ -281,11 +282,12 @@ class _Verification:
             state = states.get(file.folder)
             if state is None:
                 entry = self.maps.get(file.folder or "")
-                state = (
+                of = (
                     definition_digest(entry.dynamics) if entry else "failed" if file.folder in self.bad_maps else "none"
                 )
+                state = f"cycle of {of}, references {'unread' if self.known is None else 'read'}"
                 states[file.folder] = state
-            outcome = self.checked(file, "cycle of " + state, check)
+            outcome = self.checked(file, state, check)
             self.take(outcome)
             if outcome.value is not None and not outcome.faulted:
                 assert not isinstance(outcome.value, MapEntry)
