@@ -32,6 +32,7 @@ import multiprocessing
 import os
 import shutil
 import signal
+import stat
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
@@ -92,6 +93,12 @@ def _environment() -> jinja2.Environment:
     return env
 
 
+def _inside(relative: str) -> bool:
+    """Whether ``relative`` is a relative POSIX path with no empty, "." or ".." part: one that stays inside."""
+    parts = relative.split("/")
+    return not (relative.startswith("/") or "\\" in relative or any(p in ("", ".", "..") for p in parts))
+
+
 class Writer:
     """Writes files below one folder, refusing any address that would leave it."""
 
@@ -103,9 +110,9 @@ class Writer:
     def _target(self, relative: str) -> str:
         # Addresses are built from validated ids; this is the second line of defence, done on the text
         # (no resolve() per file): a relative POSIX path with no empty, "." or ".." part.
-        parts = relative.split("/")
-        if relative.startswith("/") or "\\" in relative or any(p in ("", ".", "..") for p in parts):
+        if not _inside(relative):
             raise AssertionError(f"refusing to write outside the site: {relative!r}")
+        parts = relative.split("/")
         folder = "/".join(parts[:-1])
         if folder and folder not in self._folders:
             path = os.path.join(self.out, folder)
@@ -120,8 +127,13 @@ class Writer:
         return os.path.join(self.out, relative)
 
     def link(self, relative: str, source: Path) -> None:
-        """Put the file ``source`` (of the site this build replaces) at ``relative``, as a hard link."""
-        os.link(source, self._target(relative))
+        """Put the file ``source`` (of the site this build replaces) at ``relative``, as a hard link.
+
+        Only a regular file is linked (never what a symbolic link put there points to); anything else
+        is an OSError, and the caller writes the file instead."""
+        if not stat.S_ISREG(os.lstat(source).st_mode):
+            raise OSError(f"{source}: expected a regular file")
+        os.link(source, self._target(relative), follow_symlinks=False)
 
     def text(self, relative: str, text: str) -> None:
         with open(self._target(relative), "w", encoding="utf-8", newline="\n") as fh:
@@ -202,6 +214,8 @@ def _read_previous(site: Path | None) -> _Previous | None:
         }
     except (OSError, ValueError, KeyError, TypeError):
         return None
+    if not all(isinstance(f, str) and _inside(f) for done in tasks.values() for f in done.files):
+        return None  # not a manifest this tool wrote
     return _Previous(site, tasks)
 
 

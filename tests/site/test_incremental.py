@@ -117,7 +117,7 @@ def test_a_build_without_reuse_writes_every_file(tmp_path: Path) -> None:
     assert not [p for p in after if before.get(p) == after[p]]
 
 
-@pytest.mark.parametrize("damage", ["missing", "garbled", "other-format", "file-gone"])
+@pytest.mark.parametrize("damage", ["missing", "garbled", "other-format", "file-gone", "outside", "symlink"])
 def test_a_damaged_manifest_or_site_means_a_full_build(tmp_path: Path, damage: str) -> None:
     # Common practice, no source: a cache that cannot be read is ignored, never trusted.
     site, clean = tmp_path / "site", tmp_path / "clean"
@@ -130,11 +130,23 @@ def test_a_damaged_manifest_or_site_means_a_full_build(tmp_path: Path, damage: s
     elif damage == "other-format":
         data = json.loads(manifest.read_text(encoding="utf-8"))
         manifest.write_text(json.dumps({**data, "format": "periplus-build/0"}), encoding="utf-8")
+    elif damage == "outside":
+        data = json.loads(manifest.read_text(encoding="utf-8"))
+        first = next(iter(data["tasks"].values()))
+        first["files"].append("../outside.txt")
+        manifest.write_text(json.dumps(data), encoding="utf-8")
+        (tmp_path / "outside.txt").write_text("not the site's", encoding="utf-8")
+    elif damage == "symlink":
+        page = site / "maps/3x-plus-1/through-1/index.html"
+        page.unlink()
+        (tmp_path / "secret.txt").write_text("not for the site", encoding="utf-8")
+        page.symlink_to(tmp_path / "secret.txt")
     else:
         os.unlink(site / "maps/3x-plus-1/through-1/index.html")
     build_site(VALID, site)
     build_site(VALID, clean, reuse=False)
     assert tree(site) == tree(clean)
+    assert not any(p.is_symlink() for p in site.rglob("*"))
 
 
 def test_the_digest_reads_plain_data_of_any_size() -> None:
