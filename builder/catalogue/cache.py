@@ -216,6 +216,11 @@ class VerifyCache:
         notes = () if writable else (f"the cache {folder} is read-only: it is read, and nothing new is kept",)
         return cls(db, key, writable, notes, folder / DATABASE)
 
+    @property
+    def persistent(self) -> bool:
+        """Whether outcomes are kept between runs (a folder in use), so that looking them up can pay."""
+        return self._db is not None
+
     def __enter__(self) -> VerifyCache:
         return self
 

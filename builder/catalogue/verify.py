@@ -13,9 +13,9 @@ from __future__ import annotations
 
 import gc
 import hashlib
-from collections.abc import Callable, Collection, Iterator
+from collections.abc import Callable, Collection, Iterator, Mapping
 from contextlib import contextmanager
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import partial
 from pathlib import Path
 from types import MappingProxyType
@@ -42,6 +42,7 @@ from builder.catalogue.nodes import MappingNode
 from builder.catalogue.reader import label
 from builder.catalogue.record import RECORD_FILE, check_record
 from builder.catalogue.references import check_references
+from builder.catalogue.shared import Share, WrittenEntries, check_shared
 from builder.catalogue.written import WrittenEntry, written_entries
 from builder.errors import KeyPath, Position, Problem, Severity
 
@@ -128,7 +129,7 @@ def _loaded(file: RawFile) -> list[Problem]:
 class _Verification:
     """One run over a catalogue's files: the problems found and what verified so far."""
 
-    def __init__(self, raw: RawCatalogue, limits: Limits, cache: VerifyCache) -> None:
+    def __init__(self, raw: RawCatalogue, limits: Limits, cache: VerifyCache, jobs: int = 1) -> None:
         self.raw = raw
         self.limits = limits
         self.cache = cache
@@ -151,6 +152,10 @@ class _Verification:
         self.bad_maps: set[str] = set()
         self.by_map: dict[str, dict[int, Cycle]] = {}
         self.by_fingerprint: dict[str, Cycle] = {}
+        self.jobs = jobs
+        self._states: dict[str | None, str] = {}
+        self.shares: list[Share] = []  # the entries as written of worker-checked cycle files, in bytes
+        self.cycle_order: dict[str, int] = {}  # each cycle file's number among them, by its path
 
     def parsed(self, file: RawFile) -> tuple[RawFile, bool]:
         """The record's or the references' file with its nodes, and whether the loader found fault with it.
@@ -269,29 +274,93 @@ class _Verification:
                 )
 
     def read_cycles(self) -> None:
-        def check(file: RawFile, known: Collection[str] | None, problems: list[Problem]) -> Value:
-            result = check_cycle(file, self.maps, self.bad_maps, known, self.limits, problems)
-            if result is None:
-                return None
-            cycle, node, key = result
-            return cycle, node.line, node.column, key
+        """Check every cycle file; with ``jobs`` above 1 and many files to check, in forked processes.
 
-        states: dict[str | None, str] = {}
-        for file in self.raw.of_kind("cycle"):
-            # A cycle's checks read only the map of its folder: its definition, or that it failed or is missing.
-            state = states.get(file.folder)
-            if state is None:
-                entry = self.maps.get(file.folder or "")
-                of = (
-                    definition_digest(entry.dynamics) if entry else "failed" if file.folder in self.bad_maps else "none"
-                )
-                state = f"cycle of {of}, references {'unread' if self.known is None else 'read'}"
-                states[file.folder] = state
-            outcome = self.checked(file, state, check)
+        Three passes keep the outcome the same however the work is shared: the files the cache
+        keeps are looked up in order; the others are checked (by workers, each a share in file
+        order); then every outcome is taken in file order, so that which of two copies of a cycle
+        is reported as the duplicate never depends on the sharing.
+        """
+        files = list(self.raw.of_kind("cycle"))
+        states = [self.cycle_state(file.folder) for file in files]
+        outcomes: list[Checked | None] = [None] * len(files)
+        keys: list[tuple[bytes, str] | None] = [None] * len(files)
+        persistent = self.cache.persistent
+        for i, file in enumerate(files):
+            if file.problems is not None:  # parsed already (a raw catalogue loaded whole)
+                outcomes[i] = self.check(file, self.check_cycle)
+            elif persistent:
+                outcomes[i], keys[i] = self.kept(file, states[i])
+        todo = [i for i, outcome in enumerate(outcomes) if outcome is None]
+        shares: dict[int, Share] = {}  # the outcomes checked by workers, whose entries as written they keep
+        for i, key, done, by in self.check_many(files, states, todo):
+            outcomes[i], keys[i] = done, key
+            if by is not None:
+                shares[i] = by
+        checked = set(todo)
+        revisit = {files[i].rel.rpartition("/")[0] for i in todo} if persistent else set()
+        for i, (file, outcome) in enumerate(zip(files, outcomes, strict=True)):
+            assert outcome is not None, "every cycle file has an outcome"
+            key = keys[i]
+            share = shares.get(i)
+            if i in checked and key is not None and (outcome.asked is not None or self.known is None):
+                whole = outcome if share is None else replace(outcome, written=share.written_of(i))
+                self.cache.keep_file(self.scope, file.rel, key, whole, self.paths)
+            elif key is not None and file.rel.rpartition("/")[0] in revisit:
+                # Kept, in a folder left before its other files were checked: seen by this run again.
+                self.cache.file(self.scope, file.rel, key, self.paths)
             self.take(outcome)
+            if share is not None and (not self.shares or self.shares[-1] is not share):
+                share.forget()
+                self.shares.append(share)
             if outcome.value is not None and not outcome.faulted:
                 assert not isinstance(outcome.value, MapEntry)
                 self.add_cycle(*outcome.value)
+        for share in self.shares:
+            share.forget()  # read again only if the entries as written are asked for
+        self.cycle_order = {file.rel: i for i, file in enumerate(files)}
+
+    def cycle_state(self, folder: str | None) -> str:
+        """What a cycle's checks read besides its file: the map of its folder (its definition, or that it
+        failed or is missing), and whether references.yaml could be read."""
+        state = self._states.get(folder)
+        if state is None:
+            entry = self.maps.get(folder or "")
+            of = definition_digest(entry.dynamics) if entry else "failed" if folder in self.bad_maps else "none"
+            state = self._states[folder] = f"cycle of {of}, references {'unread' if self.known is None else 'read'}"
+        return state
+
+    def check_cycle(self, file: RawFile, known: Collection[str] | None, problems: list[Problem]) -> Value:
+        result = check_cycle(file, self.maps, self.bad_maps, known, self.limits, problems)
+        if result is None:
+            return None
+        cycle, node, key = result
+        return cycle, node.line, node.column, key
+
+    def kept(self, file: RawFile, context: str) -> tuple[Checked | None, tuple[bytes, str] | None]:
+        """The outcome the cache keeps for the file's bytes and ``context`` (None if none), and its key."""
+        data, _ = read_bytes(self.raw, file)
+        if data is None:
+            return None, None
+        key = (hashlib.sha256(data).digest(), context)
+        kept = self.cache.file(self.scope, file.rel, key, self.paths)
+        if isinstance(kept, Checked) and kept.holds_with(self.known):
+            return kept, key
+        return None, key
+
+    def check_one(self, file: RawFile, context: str) -> tuple[tuple[bytes, str] | None, Checked]:
+        """Read, parse and check one cycle file: its cache key (None if unreadable) and outcome."""
+        data, problems = read_bytes(self.raw, file)
+        if data is None:
+            return None, self.check(parse_bytes(file, data, problems), self.check_cycle)
+        digest = hashlib.sha256(data).digest()
+        return (digest, context), self.check(parse_bytes(file, data, problems, digest), self.check_cycle)
+
+    def check_many(
+        self, files: list[RawFile], states: list[str], todo: list[int]
+    ) -> Iterator[tuple[int, tuple[bytes, str] | None, Checked, Share | None]]:
+        """Check the files numbered ``todo``; in forked workers when there are enough of them (shared.py)."""
+        yield from check_shared(lambda i: self.check_one(files[i], states[i]), files, todo, self.jobs, self.paths)
 
     def add_cycle(self, cycle: Cycle, line: int, column: int, key: KeyPath) -> None:
         """List a derived cycle unless it is listed already, under this map or a map of the same definition."""
@@ -337,11 +406,15 @@ class _Verification:
         # Count every path looked at, including those refused by name or kind,
         # so that "N errors in X of Y files" never has X > Y.
         files = {f.path for f in self.raw.files} | {p.position.file for p in self.problems}
-        written = MappingProxyType(self.written)
+        written: Mapping[tuple[str, str], WrittenEntry] = (
+            WrittenEntries(self.written, self.shares, self.cycle_order)
+            if self.shares
+            else MappingProxyType(self.written)
+        )
         return Report(catalogue, tuple(sorted(self.problems)), len(files), written, self.references_readable)
 
 
-def verify_raw(raw: RawCatalogue, limits: Limits = Limits(), cache: VerifyCache | None = None) -> Report:
+def verify_raw(raw: RawCatalogue, limits: Limits = Limits(), cache: VerifyCache | None = None, jobs: int = 1) -> Report:
     """Verify a catalogue's files; return the verified model, every problem and the entries as written.
 
     Files not yet parsed are parsed one at a time and dropped once checked,
@@ -351,7 +424,7 @@ def verify_raw(raw: RawCatalogue, limits: Limits = Limits(), cache: VerifyCache 
     report is the same.
     """
     with _no_cycle_collection():
-        run = _Verification(raw, limits, cache if cache is not None else VerifyCache.memory())
+        run = _Verification(raw, limits, cache if cache is not None else VerifyCache.memory(), jobs)
         run.read_references()
         run.read_record()
         run.read_maps()
@@ -381,11 +454,11 @@ def _no_cycle_collection() -> Iterator[None]:
             gc.enable()
 
 
-def verify_source(source: Source, limits: Limits = Limits(), cache: VerifyCache | None = None) -> Report:
-    """Verify the catalogue held by ``source`` (a folder, or a tree in memory)."""
-    return verify_raw(scan_source(source), limits, cache)
+def verify_source(source: Source, limits: Limits = Limits(), cache: VerifyCache | None = None, jobs: int = 1) -> Report:
+    """Verify the catalogue held by ``source`` (a folder, or a tree in memory), in ``jobs`` processes."""
+    return verify_raw(scan_source(source), limits, cache, jobs)
 
 
-def verify_catalogue(root: Path, limits: Limits = Limits(), cache: VerifyCache | None = None) -> Report:
-    """Load and verify the catalogue at root (raises CatalogueUnreadable if it is not one)."""
-    return verify_raw(scan_catalogue(root), limits, cache)
+def verify_catalogue(root: Path, limits: Limits = Limits(), cache: VerifyCache | None = None, jobs: int = 1) -> Report:
+    """Load and verify the catalogue at root (raises CatalogueUnreadable if it is not one), in ``jobs`` processes."""
+    return verify_raw(scan_catalogue(root), limits, cache, jobs)

@@ -12,10 +12,11 @@ from builder.commands.options import (
     add_cache,
     add_catalogue,
     add_command,
+    add_jobs,
     add_limits,
+    jobs_of,
     limits_of,
     open_cache,
-    positive,
 )
 from builder.commands.summary import show_report
 from builder.errors import UsageError
@@ -48,13 +49,7 @@ def register(subparsers: Subcommands) -> None:
         action="store_true",
         help="if another build is writing DIR, stop at once (exit 2) instead of waiting for it to finish",
     )
-    parser.add_argument(
-        "--jobs",
-        type=positive,
-        default=None,
-        metavar="N",
-        help="processes that write the pages (default: the number of CPUs); the site does not depend on it",
-    )
+    add_jobs(parser, "check the cycle files and write the pages")
     add_limits(parser)
     add_cache(parser)
     parser.set_defaults(run=run)
@@ -74,7 +69,7 @@ def run(args: argparse.Namespace) -> int:
             limits_of(args),
             base_url,
             wait=not args.no_wait,
-            jobs=args.jobs,
+            jobs=jobs_of(args),
             reuse=not args.no_cache,  # --no-cache: a clean build, every page written
             remove_later=True,
             cache=cache,

@@ -15,6 +15,7 @@ from typing import TypeAlias
 from builder.arith.integers import parse_decimal
 from builder.catalogue.cache import FOLDER_NAME, VerifyCache
 from builder.catalogue.limits import DEFAULT_MAX_STEPS, DEFAULT_MAX_WORK, DEFAULT_RECHECK_UP_TO, MAP_WORK_ORBITS, Limits
+from builder.processes import default_jobs
 
 __all__ = [
     "Subcommands",
@@ -27,6 +28,8 @@ __all__ = [
     "natural",
     "open_cache",
     "positive",
+    "add_jobs",
+    "jobs_of",
 ]
 
 #: What ``register`` receives: the subcommands of the ``periplus`` parser.
@@ -132,6 +135,22 @@ def open_cache(args: argparse.Namespace, default: Path) -> VerifyCache:
     for note in cache.notes:
         print(f"note: {note}", file=sys.stderr)
     return cache
+
+
+def add_jobs(parser: argparse.ArgumentParser, what: str) -> None:
+    """Add ``--jobs N``: how many processes do ``what`` (default: one per usable core)."""
+    parser.add_argument(
+        "--jobs",
+        type=positive,
+        default=None,
+        metavar="N",
+        help=f"processes that {what} (default: the number of CPUs); the result does not depend on it",
+    )
+
+
+def jobs_of(args: argparse.Namespace) -> int:
+    """The processes ``--jobs`` asks for, or one per usable core."""
+    return args.jobs if args.jobs is not None else default_jobs()
 
 
 def add_command(subparsers: Subcommands, name: str, help_text: str, description: str) -> argparse.ArgumentParser:

@@ -11,7 +11,9 @@ from builder.commands.options import (
     add_cache,
     add_catalogue,
     add_command,
+    add_jobs,
     add_limits,
+    jobs_of,
     limits_of,
     open_cache,
 )
@@ -32,12 +34,13 @@ def register(subparsers: Subcommands) -> None:
     add_catalogue(parser)
     add_limits(parser)
     add_cache(parser)
+    add_jobs(parser, "check the cycle files")
     parser.set_defaults(run=run)
 
 
 def run(args: argparse.Namespace) -> int:
     """Run ``periplus verify``; return the exit status."""
     with open_cache(args, default_cache_folder(args.catalogue)) as cache:
-        report = verify_catalogue(args.catalogue, limits_of(args), cache)
+        report = verify_catalogue(args.catalogue, limits_of(args), cache, jobs_of(args))
     show_report(report)
     return 0 if report.ok else 1

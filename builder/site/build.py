@@ -170,7 +170,7 @@ def build_site(
     """Verify ``catalogue``; if every claim holds, write the site to ``out`` atomically.
 
     ``wait`` False refuses at once (UsageError) when another build is writing ``out``, instead of waiting.
-    ``jobs`` processes render the pages (default: one per usable core).  With ``reuse``, the pages whose
+    ``jobs`` processes check the cycle files and render the pages (default: one per usable core).  With ``reuse``, the pages whose
     inputs did not change are taken from the site already in ``out`` (hard links), not written again.
     With ``remove_later``, the site replaced is removed by a process of its own once the new one is in
     place, so the caller does not wait for it (a big site's folders take long to remove on some disks);
@@ -179,7 +179,8 @@ def build_site(
     """
     _check_target(out)
     _check_place(out)
-    report = verify_catalogue(catalogue, limits or Limits(), cache)
+    jobs = jobs if jobs is not None else default_jobs()
+    report = verify_catalogue(catalogue, limits or Limits(), cache, jobs)
     if not report.ok:
         return BuildResult(report, 0)
     record = report.catalogue.record
@@ -192,7 +193,7 @@ def build_site(
     out = out.absolute()
     with _lock(out, wait):
         _check_target(out)  # another build may have written it while this one waited
-        pages = _write(views, out, jobs if jobs is not None else default_jobs(), reuse, remove_later)
+        pages = _write(views, out, jobs, reuse, remove_later)
     return BuildResult(report, len(pages), edition, changelog, history)
 
 

@@ -25,13 +25,13 @@ for byte (tests/site/test_incremental.py).
 
 from __future__ import annotations
 
+import functools
 import gc
 import hashlib
 import json
 import multiprocessing
 import os
 import shutil
-import signal
 import stat
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
@@ -41,8 +41,10 @@ from pathlib import Path
 from typing import IO
 
 import jinja2
+from markupsafe import Markup
 
 from builder import __version__
+from builder.processes import can_fork, default_jobs, ignore_interrupts
 from builder.site.digest import stable_digest
 from builder.site.exports import (
     atom_feed,
@@ -71,14 +73,6 @@ def template_dir() -> Path:
     return Path(str(resources.files("builder.templates")))
 
 
-def default_jobs() -> int:
-    """How many processes a build uses unless told: the cores this process may run on."""
-    try:
-        return max(1, len(os.sched_getaffinity(0)))
-    except AttributeError:  # not on Linux
-        return max(1, os.cpu_count() or 1)
-
-
 def _environment() -> jinja2.Environment:
     env = jinja2.Environment(
         loader=jinja2.FileSystemLoader(template_dir()),
@@ -90,6 +84,14 @@ def _environment() -> jinja2.Environment:
         auto_reload=False,
     )
     env.globals.update(nav=NAV, version=__version__)
+    nav = env.get_template("_nav.html")
+
+    @functools.lru_cache(maxsize=256)
+    def site_nav(root: str, section: str) -> Markup:
+        # The same for every page at one depth in one section: rendered once, not on each of 50,000 pages.
+        return Markup(nav.render(root=root, section=section))
+
+    env.globals["site_nav"] = site_nav
     return env
 
 
@@ -97,6 +99,9 @@ def _inside(relative: str) -> bool:
     """Whether ``relative`` is a relative POSIX path with no empty, "." or ".." part: one that stays inside."""
     parts = relative.split("/")
     return not (relative.startswith("/") or "\\" in relative or any(p in ("", ".", "..") for p in parts))
+
+
+_NEW_FILE = os.O_WRONLY | os.O_CREAT | os.O_TRUNC | getattr(os, "O_CLOEXEC", 0)
 
 
 class Writer:
@@ -136,8 +141,15 @@ class Writer:
         os.link(source, self._target(relative), follow_symlinks=False)
 
     def text(self, relative: str, text: str) -> None:
-        with open(self._target(relative), "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
+        # Unbuffered, from bytes encoded at once: a text file object per page costs more than the write.
+        data = text.encode("utf-8")
+        fd = os.open(self._target(relative), _NEW_FILE, 0o666)
+        try:
+            view = memoryview(data)
+            while view:
+                view = view[os.write(fd, view) :]
+        finally:
+            os.close(fd)
 
     @contextmanager
     def stream(self, relative: str) -> Iterator[IO[str]]:
@@ -326,11 +338,6 @@ class _Stopped(Exception):
         self.name = name
 
 
-def _worker_start() -> None:
-    # Ctrl-C reaches every process of the terminal's group: the build itself handles it, and ends the workers.
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-
-
 def _worker_run(index: int) -> _Done:
     global _ENV
     assert _FORKED is not None, "a worker runs only in a process forked by render_site"
@@ -348,7 +355,7 @@ def _worker_run(index: int) -> _Done:
 def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previous: _Previous | None) -> list[_Done]:
     """Run every task, in ``jobs`` processes; what each left, in the order of the tasks."""
     common = _common_inputs(views)
-    if jobs <= 1 or len(tasks) < 2 or "fork" not in multiprocessing.get_all_start_methods():
+    if jobs <= 1 or len(tasks) < 2 or not can_fork():
         env = _environment()
         return [_perform(task, views, out, env, common, previous) for task in tasks]
     global _FORKED
@@ -359,7 +366,7 @@ def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previ
     gc.collect()
     gc.freeze()  # the collector would otherwise touch, and so copy, every object the workers inherit
     try:
-        with multiprocessing.get_context("fork").Pool(jobs, initializer=_worker_start) as pool:
+        with multiprocessing.get_context("fork").Pool(jobs, initializer=ignore_interrupts) as pool:
             for i, result in zip(order, pool.imap(_worker_run, order, chunksize=1), strict=True):
                 results[i] = result
     except _Stopped as stopped:

@@ -8,6 +8,7 @@ picture is returned as ``markupsafe.Markup``, safe to place in a page as it is.
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
 from html import escape
@@ -54,13 +55,12 @@ def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> Markup:
     plot_w = WIDTH - LEFT - RIGHT
     plot_h = HEIGHT - TOP - BOTTOM
 
-    def x(i: float) -> float:
-        return LEFT + plot_w * (i / steps if steps else 0.5)
-
     def y(v: float) -> float:
         return TOP + plot_h * (1 - v / span)
 
-    path = " ".join(f"{_fmt(x(i))},{_fmt(y(v))}" for i, v in points)
+    # x = LEFT + plot_w * (i / steps), y as above: written out, as the plot's points are many.
+    at = [f"{LEFT + plot_w * (i / steps if steps else 0.5):.1f},{TOP + plot_h * (1 - v / span):.1f}" for i, v in points]
+    path = " ".join(at)
     ticks = []
     for j in range(int(span) // tick + 1):
         v = float(j * tick)
@@ -74,7 +74,9 @@ def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> Markup:
     desc = f"Size of the {sign}members on a log2 scale over the {steps} steps of the cycle, from 2^0 to 2^{top:.1f}."
     marker = ""
     if len(points) <= 200:
-        marker = "".join(f'<circle cx="{_fmt(x(i))}" cy="{_fmt(y(v))}" r="2.2" fill="#c0692b"/>' for i, v in points)
+        marker = "".join(
+            f'<circle cx="{cx}" cy="{cy}" r="2.2" fill="#c0692b"/>' for cx, _, cy in (p.partition(",") for p in at)
+        )
     return Markup(
         f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {WIDTH} {HEIGHT}" width="{WIDTH}" height="{HEIGHT}" '
         f'role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
@@ -90,21 +92,27 @@ def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> Markup:
 
 def word_strip(word: Sequence[int], modulus: int, title: str, svg_id: str) -> Markup:
     """The word as a row of coloured cells, one per step (the first STRIP_CELLS steps)."""
-    shown = word[:STRIP_CELLS]
+    shown = tuple(word[:STRIP_CELLS])
     cell = max(2.0, min(24.0, 640 / max(len(shown), 1)))
     width = cell * len(shown)
     height = 28
-    rects = "".join(
-        f'<rect x="{_fmt(i * cell)}" y="0" width="{_fmt(cell)}" height="{height}" '
-        f'fill="{PALETTE[r % len(PALETTE)]}"><title>step {i}: residue {r}</title></rect>'
-        for i, r in enumerate(shown)
-    )
+    rects = _strip_cells(shown, cell, height)
     more = f" (the first {len(shown)} of {len(word)} steps)" if len(word) > len(shown) else ""
     desc = f"One cell per step, coloured by the residue mod {modulus} of the member{more}."
     return Markup(
         f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {_fmt(width)} {height}" width="{_fmt(width)}" '
         f'height="{height}" role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
         f'<title id="{svg_id}-t">{escape(title)}</title><desc id="{svg_id}-d">{escape(desc)}</desc>{rects}</svg>'
+    )
+
+
+@functools.lru_cache(maxsize=256)  # a strip's cells take up to ~35 KB: a bounded few in each process
+def _strip_cells(shown: tuple[int, ...], cell: float, height: int) -> str:
+    """The cells of a word strip (many cycles share a word: the same word in other maps)."""
+    return "".join(
+        f'<rect x="{_fmt(i * cell)}" y="0" width="{_fmt(cell)}" height="{height}" '
+        f'fill="{PALETTE[r % len(PALETTE)]}"><title>step {i}: residue {r}</title></rect>'
+        for i, r in enumerate(shown)
     )
 
 

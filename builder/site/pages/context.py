@@ -8,8 +8,9 @@ page says of the entry's history.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
+from typing import TypeVar
 
 from builder.arith.integers import to_decimal
 from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Reference
@@ -18,6 +19,8 @@ from builder.history import Changelog, Edition, NoHistory, RepoHistory
 from builder.site.pages.common import Link
 from builder.site.paths import family_url, map_url, reference_url
 from builder.site.records import CycleRecord, HistoryRecord, MapRecord
+
+T = TypeVar("T")
 
 __all__ = [
     "CycleRow",
@@ -181,6 +184,15 @@ class SiteContext:
             (m, c.id): c for m, cycles in catalogue.cycles.items() for c in cycles
         }
         self.map_order = sorted(catalogue.maps, key=lambda map_id: _display_order(catalogue.maps[map_id]))
+        self._of_map: dict[str, tuple[str, object]] = {}
+
+    def of_map(self, name: str, map_id: str, make: Callable[[], T]) -> T:
+        """``make()``, made once for the map at hand: a map's unit reads some pieces twice (for the digest
+        of its inputs, then for its pages), and only the latest map's are kept."""
+        kept = self._of_map.get(name)
+        if kept is None or kept[0] != map_id:
+            kept = self._of_map[name] = (map_id, make())
+        return kept[1]  # type: ignore[return-value]
 
     def cycle_link(self, key: tuple[str, str], note: str = "") -> Link:
         record = self.records[key]

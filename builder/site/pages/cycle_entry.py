@@ -117,6 +117,15 @@ def _related(site: SiteContext, key: tuple[str, str], length: int) -> list[Relat
     return related
 
 
+def _related_of_map(site: SiteContext, map_id: str) -> dict[str, list[RelatedGroup]]:
+    """The related cycles of each cycle of the map (made once for its pages and the digest of their inputs)."""
+
+    def make() -> dict[str, list[RelatedGroup]]:
+        return {c.id: _related(site, (map_id, c.id), c.length) for c in site.cat.cycles.get(map_id, ())}
+
+    return site.of_map("related", map_id, make)
+
+
 def _citations(site: SiteContext, entry: MapEntry, cycle: Cycle, title: str, permalink: str) -> tuple[str, str]:
     """The entry's citation as a line of text and as a BibTeX entry."""
     prov = cycle.provenance
@@ -185,7 +194,7 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle) -> Page:
         "length_url": length_url(cycle.length),
         "notes": render_notes(cycle.provenance.notes),
         "references": site.reference_links(cycle.provenance.references),
-        "related": _related(site, key, cycle.length),
+        "related": _related_of_map(site, entry.id)[cycle.id],
         "marks": site.marks(key),
         "cite": cite,
         "bibtex": bibtex,
@@ -205,6 +214,7 @@ def cycle_inputs(site: SiteContext, map_id: str) -> object:
     """What the map's cycle pages show: each entry as written and verified (the fingerprint fixes the
     map's definition and the members, word and equation), its history, relations and sources."""
     out = []
+    related = _related_of_map(site, map_id)
     for c in site.cat.cycles.get(map_id, ()):
         key = (map_id, c.id)
         out.append(
@@ -214,7 +224,7 @@ def cycle_inputs(site: SiteContext, map_id: str) -> object:
                 c.start,
                 c.provenance,
                 site.records[key].history,
-                _related(site, key, c.length),
+                related[c.id],
                 site.reference_links(c.provenance.references),
                 site.marks(key),
             )

@@ -1,0 +1,72 @@
+"""Cycle files checked by forked workers give the report one process gives, for every fixture catalogue.
+
+The reference is Periplus's own verification in one process (itself checked against published
+cycles in test_verify.py): what is tested here is only that sharing the files among processes
+changes nothing a reader or a review could see: the model, every problem with its position and
+wording, and the entries as written in the order the files were read.  The threshold below which
+the verification keeps the work to itself is lowered, so that the small fixtures are shared too, and
+each test shows that workers really ran (a test that passed whether or not they did would prove
+nothing).
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable
+from pathlib import Path
+
+import pytest
+from conftest import BROKEN_CASES, REPO
+from test_cache import NO_RECHECK, detail
+
+from builder.catalogue import shared as shared_module
+from builder.catalogue import verify as verify_module
+from builder.catalogue.cache import VerifyCache
+from builder.catalogue.verify import Limits, verify_catalogue
+
+
+@pytest.fixture
+def shared(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> Callable[[], list[int]]:
+    """Share even a handful of cycle files among workers; gives the ids of the processes that checked files."""
+    monkeypatch.setattr(shared_module, "SHARE_FROM", 2)
+    log = tmp_path / "checkers"
+    log.touch()
+    real = verify_module._Verification.check_one
+
+    def counting(run: object, *args: object) -> object:
+        with open(log, "a") as fh:  # appended to by every process that checks a file
+            fh.write(f"{os.getpid()}\n")
+        return real(run, *args)
+
+    monkeypatch.setattr(verify_module._Verification, "check_one", counting)
+    return lambda: [int(line) for line in log.read_text().split()]
+
+
+def both(root: Path, limits: Limits = NO_RECHECK) -> tuple[object, object]:
+    return detail(verify_catalogue(root, limits, jobs=1)), detail(verify_catalogue(root, limits, jobs=3))
+
+
+def test_the_shipped_record_checked_by_three_processes_is_the_one_process_report(shared):
+    one, three = both(REPO / "catalogue", Limits())
+    assert one == three
+    assert set(shared()) - {os.getpid()}  # checked by workers too
+
+
+@pytest.mark.parametrize("case", BROKEN_CASES)
+def test_every_broken_case_checked_by_workers_is_the_one_process_report(case, catalogue, shared):
+    root = catalogue(case)
+    one, three = both(root)
+    assert one == three
+    assert set(shared()) - {os.getpid()}  # checked by workers too
+
+
+def test_a_cache_filled_by_workers_gives_one_process_its_report(catalogue, tmp_path, shared):
+    # The workers send the entries as written apart from the outcomes; the cache must still keep them whole.
+    root = catalogue("duplicate-cycle")
+    cold = detail(verify_catalogue(root, NO_RECHECK, jobs=1))
+    with VerifyCache.open(tmp_path / "cache") as cache:
+        first = detail(verify_catalogue(root, NO_RECHECK, cache, jobs=3))
+    assert set(shared()) - {os.getpid()}  # checked by workers too
+    with VerifyCache.open(tmp_path / "cache") as cache:
+        warm = detail(verify_catalogue(root, NO_RECHECK, cache, jobs=1))
+    assert first == cold == warm
