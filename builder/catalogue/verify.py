@@ -303,7 +303,7 @@ class _Verification:
             assert outcome is not None, "every cycle file has an outcome"
             key = keys[i]
             share = shares.get(i)
-            if i in checked and key is not None and (outcome.asked is not None or self.known is None):
+            if persistent and i in checked and key is not None and (outcome.asked is not None or self.known is None):
                 whole = outcome if share is None else replace(outcome, written=share.written_of(i))
                 self.cache.keep_file(self.scope, file.rel, key, whole, self.paths)
             elif key is not None and file.rel.rpartition("/")[0] in revisit:

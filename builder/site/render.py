@@ -33,7 +33,7 @@ import multiprocessing
 import os
 import shutil
 import stat
-from collections.abc import Callable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
 from importlib import resources
@@ -244,7 +244,7 @@ def _page_row(p: PageInfo) -> tuple[str, str, bool, bool]:
     return (p.path, p.title, p.listed, p.in_site_map)
 
 
-def _render(views: SiteViews, writer: Writer, env: jinja2.Environment, pages: list[Page]) -> list[PageInfo]:
+def _render(views: SiteViews, writer: Writer, env: jinja2.Environment, pages: Iterable[Page]) -> list[PageInfo]:
     written = []
     for page in pages:
         template = env.get_template(page.template)

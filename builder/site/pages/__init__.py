@@ -13,7 +13,7 @@ its own.  Kinds that list every page (the site map) are made last, from what was
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from importlib import import_module
 
@@ -57,19 +57,17 @@ class Unit:
 
     name: str  # unique within a build: "map:<id>" or "site:<kind>"
     cost: int  # a rough measure of its work, to share units evenly among processes
-    make: Callable[[SiteContext], list[Page]]
+    make: Callable[[SiteContext], Iterable[Page]]
     # What its pages are made from (None: unknown, so an incremental build always makes them).
     inputs: Callable[[SiteContext], object] | None = None
     map_id: str | None = None  # for the unit of one map
 
 
 def _map_unit(kinds: tuple[PageKind, ...], map_id: str, cycles: int) -> Unit:
-    def make(site: SiteContext) -> list[Page]:
-        pages: list[Page] = []
-        for kind in kinds:
+    def make(site: SiteContext) -> Iterator[Page]:
+        for kind in kinds:  # made one at a time as they are rendered: one page's text is held at once
             assert kind.map_pages is not None
-            pages += kind.map_pages(site, map_id)
-        return pages
+            yield from kind.map_pages(site, map_id)
 
     def inputs(site: SiteContext) -> object:
         parts = []

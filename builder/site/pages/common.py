@@ -7,7 +7,7 @@ makes its pages, and, when it has one, its entry in the site's navigation.  The 
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
@@ -125,8 +125,8 @@ class NavEntry:
 
 #: Makes a kind's pages for the whole site.
 SitePages = Callable[["SiteContext"], list[Page]]
-#: Makes a kind's pages for one map, given its id.
-MapPages = Callable[["SiteContext", str], list[Page]]
+#: Makes a kind's pages for one map, given its id, one at a time (a map may have thousands of cycle pages).
+MapPages = Callable[["SiteContext", str], Iterable[Page]]
 #: What a kind's pages for one map are made from, as plain data (builder.site.digest reads it): an
 #: incremental build renders the map's pages again only when this changes (builder.site.render).
 MapInputs = Callable[["SiteContext", str], object]

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import posixpath
 import re
+from collections.abc import Iterator
 from dataclasses import dataclass
 from itertools import islice
 
@@ -205,9 +206,9 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle) -> Page:
     return Page(cycle_url(entry.id, cycle.id), "cycle.html", title, SECTION, context, crumbs, in_site_map=False)
 
 
-def cycle_pages(site: SiteContext, map_id: str) -> list[Page]:
+def cycle_pages(site: SiteContext, map_id: str) -> Iterator[Page]:
     entry = site.cat.maps[map_id]
-    return [cycle_page(site, entry, cycle) for cycle in site.cat.cycles.get(map_id, ())]
+    return (cycle_page(site, entry, cycle) for cycle in site.cat.cycles.get(map_id, ()))
 
 
 def cycle_inputs(site: SiteContext, map_id: str) -> object:
