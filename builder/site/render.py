@@ -29,7 +29,6 @@ import functools
 import gc
 import hashlib
 import json
-import multiprocessing
 import os
 import shutil
 import stat
@@ -44,7 +43,7 @@ import jinja2
 from markupsafe import Markup
 
 from builder import __version__
-from builder.processes import can_fork, default_jobs, ignore_interrupts
+from builder.processes import WorkerStopped, default_jobs, share_work
 from builder.site.digest import stable_digest
 from builder.site.exports import (
     atom_feed,
@@ -323,61 +322,28 @@ def _perform(
     return _Done(digest, pages, writer.files)
 
 
-# The state a worker process works from: set by the build just before it forks its workers, so they
-# inherit it (copy-on-write) instead of receiving it through a pipe.
-_FORKED: tuple[SiteViews, list[_Task], Path, str, _Previous | None] | None = None
-_ENV: jinja2.Environment | None = None
-
-
-class _Stopped(Exception):
-    """A worker was stopped by an exception that is not an Exception (KeyboardInterrupt, SystemExit),
-    which would otherwise end the worker and leave the build waiting for its result forever."""
-
-    def __init__(self, name: str) -> None:
-        super().__init__(name)
-        self.name = name
-
-
-def _worker_run(index: int) -> _Done:
-    global _ENV
-    assert _FORKED is not None, "a worker runs only in a process forked by render_site"
-    views, tasks, out, common, previous = _FORKED
-    if _ENV is None:
-        _ENV = _environment()
-    try:
-        return _perform(tasks[index], views, out, _ENV, common, previous)
-    except Exception:
-        raise
-    except BaseException as exc:
-        raise _Stopped(type(exc).__name__) from None
-
-
 def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previous: _Previous | None) -> list[_Done]:
-    """Run every task, in ``jobs`` processes; what each left, in the order of the tasks."""
+    """Run every task, in ``jobs`` processes (this one and forked workers); what each left, in task order."""
     common = _common_inputs(views)
-    if jobs <= 1 or len(tasks) < 2 or not can_fork():
-        env = _environment()
-        return [_perform(task, views, out, env, common, previous) for task in tasks]
-    global _FORKED
-    results: list[_Done | None] = [None] * len(tasks)
+    envs: dict[int, jinja2.Environment] = {}  # made once in each process, on its first task
+
+    def run(i: int) -> _Done:
+        env = envs.get(os.getpid())
+        if env is None:
+            env = envs[os.getpid()] = _environment()
+        return _perform(tasks[i], views, out, env, common, previous)
+
     # Largest first, so that no process is left with a big task at the end.
     order = sorted(range(len(tasks)), key=lambda i: (-tasks[i].cost, i))
-    _FORKED = (views, tasks, out, common, previous)
     gc.collect()
     gc.freeze()  # the collector would otherwise touch, and so copy, every object the workers inherit
     try:
-        with multiprocessing.get_context("fork").Pool(jobs, initializer=ignore_interrupts) as pool:
-            for i, result in zip(order, pool.imap(_worker_run, order, chunksize=1), strict=True):
-                results[i] = result
-    except _Stopped as stopped:
-        if stopped.name == "KeyboardInterrupt":
-            raise KeyboardInterrupt from None
-        raise SystemExit(f"a page-writing process stopped ({stopped.name})") from None
+        done = share_work(order, jobs, run)
+    except WorkerStopped as stopped:
+        raise SystemExit(f"a page-writing process stopped: {stopped}") from None
     finally:
-        _FORKED = None
         gc.unfreeze()
-    assert all(r is not None for r in results)
-    return [r for r in results if r is not None]
+    return [done[i] for i in range(len(tasks))]
 
 
 def render_site(views: SiteViews, out: Path, jobs: int = 1, previous: Path | None = None) -> list[str]:

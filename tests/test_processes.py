@@ -1,0 +1,70 @@
+"""builder.processes.share_work: the work shared with forked workers gives what one process gives.
+
+What is checked is the contract a build relies on (facts of the trade, common practice, no source):
+every item is done exactly once whoever does it, results come back by item, and a worker that
+fails makes the caller fail instead of waiting forever or returning a partial result.
+"""
+
+from __future__ import annotations
+
+import os
+import time
+
+import pytest
+
+from builder.processes import WorkerStopped, share_work
+
+
+def square(i: int) -> tuple[int, int]:
+    time.sleep(0.002)  # long enough for the forked workers to start and take their share
+    return i * i, os.getpid()
+
+
+@pytest.mark.parametrize("jobs", [1, 2, 3, 5])
+def test_every_item_is_done_once_and_the_results_are_those_of_one_process(jobs: int) -> None:
+    order = list(range(200))[::-1]
+    done = share_work(order, jobs, square)
+    assert {i: v for i, (v, _) in done.items()} == {i: i * i for i in range(200)}
+    workers = {pid for _, pid in done.values()}
+    assert os.getpid() in workers  # this process works too
+    if jobs > 1:
+        assert len(workers) > 1 or len(order) < jobs  # and so do the forked ones (200 items are plenty)
+
+
+def test_a_workers_exception_is_raised_here() -> None:
+    parent = os.getpid()
+
+    def failing(i: int) -> int:
+        if os.getpid() != parent:
+            raise ValueError(f"expected a number, got item {i}")
+        time.sleep(0.002)
+        return i
+
+    with pytest.raises(ValueError, match="expected a number, got item"):
+        share_work(list(range(400)), 2, failing)
+
+
+def test_a_worker_that_dies_makes_the_caller_fail() -> None:
+    parent = os.getpid()
+
+    def dying(i: int) -> int:
+        if os.getpid() != parent:
+            os._exit(9)  # as a worker killed by the system would vanish
+        time.sleep(0.002)
+        return i
+
+    with pytest.raises(WorkerStopped, match="ended without a word"):
+        share_work(list(range(400)), 2, dying)
+
+
+def test_an_interrupted_worker_interrupts_the_caller() -> None:
+    parent = os.getpid()
+
+    def interrupted(i: int) -> int:
+        if os.getpid() != parent:
+            raise KeyboardInterrupt
+        time.sleep(0.002)
+        return i
+
+    with pytest.raises(KeyboardInterrupt):
+        share_work(list(range(400)), 2, interrupted)
