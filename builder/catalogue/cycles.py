@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import sys
 from collections.abc import Collection, Mapping
 
 from builder.arith.integers import show
@@ -94,4 +95,5 @@ def _check_provenance(doc: EntryReader, node: Node, known: Collection[str] | Non
             doc.warn(f[key], path + (key,), message, "placeholder")
     if found_by is None or found_on is None or method is None or refs is None:
         return None
-    return Provenance(found_by, found_on, method, tuple(refs), notes)
+    # Interned: most entries of a record repeat who found them and how, and one copy serves them all.
+    return Provenance(sys.intern(found_by), found_on, sys.intern(method), tuple(refs), notes)

@@ -108,24 +108,22 @@ class HistoryRecord:
 
 @dataclass(frozen=True, slots=True)
 class CycleRecord:
-    """One verified cycle: its members and word read from the canonical member, its equation, provenance."""
+    """One verified cycle: its members and word read from the canonical member, its equation, provenance.
+
+    The numbers a page shows once or twice (the least and greatest member, A, B, the target, the start)
+    and the address are written out when asked for, not kept: a build holds 50,000 records, and every
+    worker process that reads them copies the memory they fill.
+    """
 
     map_id: str
     id: str
     fingerprint: str
-    url: str  # its page, relative to the site root
     canonical: str
     length: int
     word: str
     residue_counts: tuple[int, ...]
-    minimum: str
-    maximum: str
-    multiplier: str  # A in the cycle equation
-    offset: str  # B in the cycle equation
-    target: str  # m^k - A
     standard_length: int | None
     shared_factor: str | None  # the factor its members share with the increment, for qx+d maps
-    start: str  # the member the entry starts from
     provenance: Provenance
     history: HistoryRecord | None
     cycle: Cycle = field(repr=False, compare=False)  # the verified cycle it was made from
@@ -136,26 +134,51 @@ class CycleRecord:
         asked for (they are most of a record's size, and a build needs them for one page and one file)."""
         return tuple(to_decimal(n) for n in self.cycle.canonical_members)
 
+    @property
+    def url(self) -> str:
+        """Its page, relative to the site root."""
+        return cycle_url(self.map_id, self.id)
+
+    @property
+    def minimum(self) -> str:
+        return to_decimal(self.cycle.minimum)
+
+    @property
+    def maximum(self) -> str:
+        return to_decimal(self.cycle.maximum)
+
+    @property
+    def multiplier(self) -> str:
+        """A in the cycle equation."""
+        return to_decimal(self.cycle.equation.multiplier)
+
+    @property
+    def offset(self) -> str:
+        """B in the cycle equation."""
+        return to_decimal(self.cycle.equation.offset)
+
+    @property
+    def target(self) -> str:
+        """m^k - A."""
+        return to_decimal(self.cycle.equation.target)
+
+    @property
+    def start(self) -> str:
+        """The member the entry starts from."""
+        return to_decimal(self.cycle.start)
+
     @classmethod
     def of(cls, entry: MapEntry, cycle: Cycle, rel: Relations, history: HistoryRecord | None) -> CycleRecord:
-        eq = cycle.equation
         return cls(
             entry.id,
             cycle.id,
             cycle.fingerprint,
-            cycle_url(entry.id, cycle.id),
             to_decimal(cycle.canonical),
             cycle.length,
             word_text(cycle.canonical_word, entry.modulus),
             tuple(cycle.residue_counts),
-            to_decimal(cycle.minimum),
-            to_decimal(cycle.maximum),
-            to_decimal(eq.multiplier),
-            to_decimal(eq.offset),
-            to_decimal(eq.target),
             cycle.standard_length,
             _decimal_or_none(rel.shared_factor.get((entry.id, cycle.id))),
-            to_decimal(cycle.start),
             cycle.provenance,
             history,
             cycle,
