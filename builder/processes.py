@@ -11,6 +11,7 @@ import contextlib
 import multiprocessing
 import os
 import signal
+import traceback
 from collections.abc import Callable, Sequence
 from multiprocessing.connection import Connection
 from typing import TypeVar
@@ -108,6 +109,7 @@ def _work(receive: Connection, send: Connection, next_index: Callable[[], int | 
             done[i] = run(i)
         message: tuple[str, object] = ("done", done)
     except Exception as exc:
+        exc.add_note("raised in a worker process:\n" + traceback.format_exc().rstrip())  # kept by pickle
         message = ("raised", exc)
     except BaseException as exc:
         message = ("stopped", type(exc).__name__)

@@ -40,8 +40,10 @@ def test_a_workers_exception_is_raised_here() -> None:
         time.sleep(0.002)
         return i
 
-    with pytest.raises(ValueError, match="expected a number, got item"):
+    with pytest.raises(ValueError, match="expected a number, got item") as raised:
         share_work(list(range(400)), 2, failing)
+    assert "raised in a worker process" in raised.value.__notes__[0]
+    assert "in failing" in raised.value.__notes__[0]  # with the worker's own traceback
 
 
 def test_a_worker_that_dies_makes_the_caller_fail() -> None:

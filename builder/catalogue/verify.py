@@ -311,7 +311,8 @@ class _Verification:
                 self.cache.file(self.scope, file.rel, key, self.paths)
             self.take(outcome)
             if share is not None and (not self.shares or self.shares[-1] is not share):
-                share.forget()
+                if self.shares:
+                    self.shares[-1].forget()  # shares come one after another: the one before is done
                 self.shares.append(share)
             if outcome.value is not None and not outcome.faulted:
                 assert not isinstance(outcome.value, MapEntry)

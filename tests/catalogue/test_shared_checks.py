@@ -70,3 +70,21 @@ def test_a_cache_filled_by_workers_gives_one_process_its_report(catalogue, tmp_p
     with VerifyCache.open(tmp_path / "cache") as cache:
         warm = detail(verify_catalogue(root, NO_RECHECK, cache, jobs=1))
     assert first == cold == warm
+
+
+def test_a_cache_filled_by_workers_reads_each_workers_entries_once(tmp_path, monkeypatch, shared):
+    # Each share of files sends its entries as written as one piece of bytes; filling the cache reads
+    # each piece once, however many files it holds (reading it again for every share would double the cost).
+    decoded: list[int] = []
+    real = shared_module.Share.entries
+
+    def counting(share: shared_module.Share) -> object:
+        if share._read is None:
+            decoded.append(id(share))
+        return real(share)
+
+    monkeypatch.setattr(shared_module.Share, "entries", counting)
+    with VerifyCache.open(tmp_path / "cache") as cache:
+        report = verify_catalogue(REPO / "catalogue", NO_RECHECK, cache, jobs=2)
+    assert report.ok
+    assert decoded and len(decoded) == len(set(decoded))
