@@ -32,10 +32,6 @@ class _File(Protocol):
     rel: str
 
 
-class _Outcome(Protocol):
-    written: tuple[WrittenEntry, ...]
-
-
 #: Checks the file numbered i: its cache key (None if unreadable) and its outcome.
 CheckOne = Callable[[int], tuple[Any, Any]]
 

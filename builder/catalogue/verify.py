@@ -213,21 +213,32 @@ class _Verification:
         ``context`` says what else the checks read (which map a cycle's folder names, and as what, and
         whether references.yaml could be read); the file's path is the cache's key within the root.
         """
-        known = self.known
         if file.problems is not None:  # parsed already (a raw catalogue loaded whole)
             return self.check(file, check)
-        data, problems = read_bytes(self.raw, file)
-        if data is None:
-            return self.check(parse_bytes(file, data, problems), check)
-        digest = hashlib.sha256(data).digest()
-        key = (digest, context)
-        kept = self.cache.file(self.scope, file.rel, key, self.paths)
-        if isinstance(kept, Checked) and kept.holds_with(known):
+        data, problems, key = self.read(file, context)
+        kept = self.kept_under(file, key)
+        if kept is not None:
             return kept
-        outcome = self.check(parse_bytes(file, data, problems, digest), check)
-        if outcome.asked is not None or known is None:
+        outcome = self.check(parse_bytes(file, data, problems, key[0] if key else None), check)
+        if key is not None and self.keeps(outcome):
             self.cache.keep_file(self.scope, file.rel, key, outcome, self.paths)
         return outcome
+
+    def read(self, file: RawFile, context: str) -> tuple[bytes | None, list[Problem], tuple[bytes, str] | None]:
+        """The file's bytes (None, with the problem, when unreadable) and its cache key: their digest and ``context``."""
+        data, problems = read_bytes(self.raw, file)
+        return data, problems, None if data is None else (hashlib.sha256(data).digest(), context)
+
+    def kept_under(self, file: RawFile, key: tuple[bytes, str] | None) -> Checked | None:
+        """The outcome the cache keeps for the file under ``key``, if it still holds with the references."""
+        if key is None:
+            return None
+        kept = self.cache.file(self.scope, file.rel, key, self.paths)
+        return kept if isinstance(kept, Checked) and kept.holds_with(self.known) else None
+
+    def keeps(self, outcome: Checked) -> bool:
+        """Whether an outcome may be kept: its answers about reference keys are known, or none could be asked."""
+        return outcome.asked is not None or self.known is None
 
     def check(self, file: RawFile, check: Check) -> Checked:
         """Check a map or cycle file read and parsed (or not readable), as the loader left it."""
@@ -303,7 +314,7 @@ class _Verification:
             assert outcome is not None, "every cycle file has an outcome"
             key = keys[i]
             share = shares.get(i)
-            if persistent and i in checked and key is not None and (outcome.asked is not None or self.known is None):
+            if persistent and i in checked and key is not None and self.keeps(outcome):
                 whole = outcome if share is None else replace(outcome, written=share.written_of(i))
                 self.cache.keep_file(self.scope, file.rel, key, whole, self.paths)
             elif key is not None and file.rel.rpartition("/")[0] in revisit:
@@ -340,22 +351,13 @@ class _Verification:
 
     def kept(self, file: RawFile, context: str) -> tuple[Checked | None, tuple[bytes, str] | None]:
         """The outcome the cache keeps for the file's bytes and ``context`` (None if none), and its key."""
-        data, _ = read_bytes(self.raw, file)
-        if data is None:
-            return None, None
-        key = (hashlib.sha256(data).digest(), context)
-        kept = self.cache.file(self.scope, file.rel, key, self.paths)
-        if isinstance(kept, Checked) and kept.holds_with(self.known):
-            return kept, key
-        return None, key
+        _, _, key = self.read(file, context)
+        return self.kept_under(file, key), key
 
     def check_one(self, file: RawFile, context: str) -> tuple[tuple[bytes, str] | None, Checked]:
         """Read, parse and check one cycle file: its cache key (None if unreadable) and outcome."""
-        data, problems = read_bytes(self.raw, file)
-        if data is None:
-            return None, self.check(parse_bytes(file, data, problems), self.check_cycle)
-        digest = hashlib.sha256(data).digest()
-        return (digest, context), self.check(parse_bytes(file, data, problems, digest), self.check_cycle)
+        data, problems, key = self.read(file, context)
+        return key, self.check(parse_bytes(file, data, problems, key[0] if key else None), self.check_cycle)
 
     def check_many(
         self, files: list[RawFile], states: list[str], todo: list[int]
