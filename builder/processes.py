@@ -8,15 +8,26 @@ Linux or macOS), the callers do their work in one process.
 from __future__ import annotations
 
 import contextlib
+import ctypes
+import ctypes.util
 import multiprocessing
 import os
 import signal
 import traceback
 from collections.abc import Callable, Sequence
+from functools import partial
 from multiprocessing.connection import Connection
-from typing import TypeVar
+from typing import Any, TypeVar
 
-__all__ = ["WorkerStopped", "can_fork", "default_jobs", "ignore_interrupts", "share_work"]
+__all__ = [
+    "WorkerStopped",
+    "can_fork",
+    "default_jobs",
+    "ignore_interrupts",
+    "return_free_memory",
+    "segments",
+    "share_work",
+]
 
 R = TypeVar("R")
 
@@ -39,56 +50,85 @@ def ignore_interrupts() -> None:
     signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
+def return_free_memory() -> None:
+    """Give the memory that the C allocator holds free back to the system (glibc's malloc_trim), where
+    there is such a call: before forking, so that this process's resident set is what it uses."""
+    name = ctypes.util.find_library("c")
+    trim = getattr(ctypes.CDLL(name), "malloc_trim", None) if name else None
+    if trim is not None:
+        trim(0)
+
+
 class WorkerStopped(Exception):
     """A worker process ended without finishing its share: stopped by a signal or by an exception that is
     not an Exception (KeyboardInterrupt, SystemExit), or gone without a word (killed, out of memory)."""
 
 
-def share_work(order: Sequence[int], jobs: int, run: Callable[[int], R]) -> dict[int, R]:
-    """``run(i)`` for every i of ``order``, by this process and ``jobs - 1`` forked workers; results by i.
+def segments(order: Sequence[int], jobs: int, cost: Callable[[int], int], head: int = 0) -> list[list[int]]:
+    """``order`` cut into ``jobs`` runs of neighbouring items of about equal cost (some may be empty);
+    the first run counts ``head`` as already spent (the work its process does before its run)."""
+    total = head + sum(cost(i) for i in order)
+    runs: list[list[int]] = [[] for _ in range(jobs)]
+    spent, at = head, 0
+    for i in order:
+        while at < jobs - 1 and spent >= total * (at + 1) / jobs:
+            at += 1
+        runs[at].append(i)
+        spent += cost(i)
+    return runs
 
-    Every process takes the next i of ``order`` as it becomes free (a counter in shared memory), so the
-    work is balanced whatever each costs; put the costly first.  This process works too instead of
-    waiting: each worker inherits what this process holds and copies each page of it that it touches
-    (Python writes a reference count on every object it reads), so a process fewer that reads the
-    record is a copy fewer.  A worker's exception is raised here again; if a worker is stopped or
-    dies, WorkerStopped is raised and the other workers are ended.
+
+def share_work(
+    order: Sequence[int],
+    jobs: int,
+    run: Callable[[int], R],
+    *,
+    cost: Callable[[int], int] | None = None,
+    home: Sequence[int] = (),
+) -> dict[int, R]:
+    """``run(i)`` for every i of ``home`` and ``order``, by this process and ``jobs - 1`` forked workers;
+    results by i.
+
+    Each worker inherits what this process holds and copies each page of it that it touches (Python
+    writes a reference count on every object it reads), so the work is shared to keep what each
+    process reads apart:
+
+    - ``home`` is the work that reads all the data (exports, site-wide pages): only this process does
+      it, first, since the memory is its own anyway; this process works instead of waiting, so a
+      process fewer reads the data, which is a copy fewer;
+    - ``order`` is the rest, in the order of the data it reads (neighbouring items read neighbouring
+      memory).  It is cut into one run of neighbouring items per process, of about equal ``cost``
+      (default 1 each) counting ``home`` in this process's run, and each process does its own run,
+      the costliest first;
+    - a process whose run is done takes the cheapest item left in the run with most items left, so
+      the work stays balanced however the costs were guessed, and ends on small items.
+
+    A worker's exception is raised here again; if a worker is stopped or dies, WorkerStopped is raised
+    and the other workers are ended.
     """
-    if jobs <= 1 or len(order) < 2 or not can_fork():
-        return {i: run(i) for i in order}
-    context = multiprocessing.get_context("fork")
-    counter = context.Value("q", 0)
-
-    def next_index() -> int | None:
-        with counter.get_lock():
-            at = counter.value
-            counter.value = at + 1
-        return order[at] if at < len(order) else None
-
-    workers: list[tuple[int, Connection]] = []
+    price = cost if cost is not None else (lambda i: 1)
     results: dict[int, R] = {}
+    if jobs <= 1 or len(order) < 2 or not can_fork():
+        results.update((i, run(i)) for i in home)
+        results.update((i, run(i)) for i in order)
+        return results
+    context = multiprocessing.get_context("fork")
+    runs = _Runs(segments(order, jobs, price, sum(map(price, home))), price, context)
+    workers: list[tuple[int, Connection]] = []
     try:
-        for _ in range(jobs - 1):
+        for k in range(1, jobs):
             receive, send = context.Pipe(duplex=False)
             pid = os.fork()
             if pid == 0:  # a worker: its share, then one message with every result, then gone
-                _work(receive, send, next_index, run)
+                _work(receive, send, partial(runs.take, k), run)
             send.close()
             workers.append((pid, receive))
-        while (i := next_index()) is not None:
+        for i in home:
             results[i] = run(i)
+        while (item := runs.take(0)) is not None:
+            results[item] = run(item)
         for _, receive in workers:
-            try:
-                kind, payload = receive.recv()
-            except EOFError:
-                raise WorkerStopped("a worker process ended without a word (killed, or out of memory)") from None
-            if kind == "raised":
-                raise payload
-            if kind == "stopped" and payload == "KeyboardInterrupt":
-                raise KeyboardInterrupt
-            if kind == "stopped":
-                raise WorkerStopped(f"a worker process was stopped ({payload})")
-            results.update(payload)
+            results.update(_results_of(receive))
     finally:
         for pid, receive in workers:
             receive.close()
@@ -97,6 +137,46 @@ def share_work(order: Sequence[int], jobs: int, run: Callable[[int], R]) -> dict
             with contextlib.suppress(ChildProcessError):
                 os.waitpid(pid, 0)
     return results
+
+
+class _Runs:
+    """The runs of items of share_work, in shared memory: the process of run k takes its items from the
+    front, costliest first; a process whose run is done takes from the back of the run with most left."""
+
+    def __init__(self, runs: list[list[int]], price: Callable[[int], int], context: Any) -> None:
+        self.runs: list[list[int]] = [sorted(r, key=lambda i: (-price(i), i)) for r in runs]
+        # Run k's items left are runs[k][bounds[2k]:bounds[2k + 1]].
+        self.bounds = context.Array("q", [n for r in self.runs for n in (0, len(r))])
+
+    def take(self, me: int) -> int | None:
+        bounds = self.bounds
+        with bounds.get_lock():
+            lo, hi = int(bounds[2 * me]), int(bounds[2 * me + 1])
+            if lo < hi:
+                bounds[2 * me] = lo + 1
+                return self.runs[me][lo]
+            left = [bounds[2 * k + 1] - bounds[2 * k] for k in range(len(self.runs))]
+            most = max(range(len(self.runs)), key=lambda k: left[k])
+            if left[most] <= 0:
+                return None
+            bounds[2 * most + 1] -= 1
+            return self.runs[most][int(bounds[2 * most + 1])]
+
+
+def _results_of(receive: Connection) -> dict[int, Any]:
+    """A worker's results, from its one message; what stopped it, raised here."""
+    try:
+        kind, payload = receive.recv()
+    except EOFError:
+        raise WorkerStopped("a worker process ended without a word (killed, or out of memory)") from None
+    if kind == "raised":
+        raise payload
+    if kind == "stopped" and payload == "KeyboardInterrupt":
+        raise KeyboardInterrupt
+    if kind == "stopped":
+        raise WorkerStopped(f"a worker process was stopped ({payload})")
+    assert kind == "done", f"expected a worker's results, got {kind!r}"
+    return payload  # type: ignore[no-any-return]
 
 
 def _work(receive: Connection, send: Connection, next_index: Callable[[], int | None], run: Callable[[int], R]) -> None:

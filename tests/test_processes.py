@@ -11,8 +11,10 @@ import os
 import time
 
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
-from builder.processes import WorkerStopped, share_work
+from builder.processes import WorkerStopped, segments, share_work
 
 
 def square(i: int) -> tuple[int, int]:
@@ -29,6 +31,32 @@ def test_every_item_is_done_once_and_the_results_are_those_of_one_process(jobs: 
     assert os.getpid() in workers  # this process works too
     if jobs > 1:
         assert len(workers) > 1 or len(order) < jobs  # and so do the forked ones (200 items are plenty)
+
+
+@pytest.mark.parametrize("jobs", [1, 2, 3])
+def test_the_work_that_reads_everything_is_done_here_first(jobs: int) -> None:
+    home = [500, 501, 502]
+    done = share_work(list(range(200)), jobs, square, cost=lambda i: 1 + i % 7, home=home)
+    assert sorted(done) == [*range(200), *home]
+    assert {done[i][1] for i in home} == {os.getpid()}
+
+
+@given(
+    st.lists(st.integers(min_value=1, max_value=50), min_size=0, max_size=60),
+    st.integers(min_value=1, max_value=5),
+    st.integers(min_value=0, max_value=200),
+)
+def test_the_runs_are_neighbours_in_order_and_of_about_equal_cost(costs: list[int], jobs: int, head: int) -> None:
+    # The rule checked: each process gets one run of neighbouring items (so it reads one part of the
+    # data), every item once, and no run exceeds its equal share by more than one item's cost.
+    order = list(range(len(costs)))
+    runs = segments(order, jobs, lambda i: costs[i], head)
+    assert len(runs) == jobs
+    assert [i for run in runs for i in run] == order
+    fair = (head + sum(costs)) / jobs
+    spent = [sum(costs[i] for i in run) + (head if k == 0 else 0) for k, run in enumerate(runs)]
+    for k, run in enumerate(runs[:-1]):
+        assert spent[k] <= fair + (costs[run[-1]] if run else 0) or (k == 0 and not run)
 
 
 def test_a_workers_exception_is_raised_here() -> None:

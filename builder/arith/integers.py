@@ -41,8 +41,14 @@ def parse_decimal(text: str) -> int:
     return int(gmpy2.mpz(text))
 
 
+_SHARED_COUNT = 1024
+_SHARED = tuple(str(i) for i in range(_SHARED_COUNT))
+
+
 def to_decimal(n: int) -> str:
     """Return the decimal text of ``n``, however many digits it has."""
+    if 0 <= n < _SHARED_COUNT:
+        return _SHARED[n]  # one string for each small number, not one each time it is written
     if n.bit_length() < _SMALL_BITS:
         return str(int(n))
     return str(gmpy2.mpz(n))

@@ -65,6 +65,9 @@ class Relations:
     scaled_to: dict[CycleKey, tuple[Scaling, ...]] = field(default_factory=dict)  # base -> its copies
     # For qx+d maps: the common factor of a cycle's members with d (1: coprime to d).
     shared_factor: dict[CycleKey, int] = field(default_factory=dict)
+    # Every cycle's key, in catalogue order: the one tuple that every table here holds for the cycle (and
+    # that the site's tables can hold too), instead of a tuple of its own in each of 50,000-entry tables.
+    keys: dict[CycleKey, CycleKey] = field(default_factory=dict)
 
     def same_word(self, key: CycleKey) -> Iterator[CycleKey]:
         """The cycles of other maps with the word of ``key``, in catalogue order."""
@@ -85,6 +88,11 @@ def _all_cycles(catalogue: Catalogue) -> Iterator[tuple[MapEntry, Cycle]]:
 def find_relations(catalogue: Catalogue) -> Relations:
     """Compute every relation among the catalogue's cycles (deterministic order)."""
     rel = Relations()
+    key_of = rel.keys
+    for map_id, cycles in catalogue.cycles.items():
+        for cycle in cycles:
+            key = (map_id, cycle.id)
+            key_of[key] = key
     by_branches = {entry.dynamics: map_id for map_id, entry in catalogue.maps.items()}
     by_canonical = {(map_id, cycle.canonical): cycle for map_id, cycles in catalogue.cycles.items() for cycle in cycles}
 
@@ -93,7 +101,7 @@ def find_relations(catalogue: Catalogue) -> Relations:
     for entry, cycle in _all_cycles(catalogue):
         word = cycle.word
         lyndon = rotate(word, least_rotation_index(word))
-        groups.setdefault((entry.modulus, lyndon), []).append((entry.id, cycle.id))
+        groups.setdefault((entry.modulus, lyndon), []).append(key_of[(entry.id, cycle.id)])
     for keys in groups.values():
         if len(keys) > 1:
             group = tuple(keys)
@@ -112,7 +120,7 @@ def find_relations(catalogue: Catalogue) -> Relations:
             canonical = negated[canonical_index(negated)]
             twin = by_canonical.get((mirror_id, canonical))
             if twin is not None and (mirror_id, twin.id) != (map_id, cycle.id):
-                rel.mirror[(map_id, cycle.id)] = (mirror_id, twin.id)
+                rel.mirror[key_of[(map_id, cycle.id)]] = key_of[(mirror_id, twin.id)]
 
     # Scaled copies among qx+d maps.
     scaled_to: dict[CycleKey, list[Scaling]] = {}
@@ -121,7 +129,7 @@ def find_relations(catalogue: Catalogue) -> Relations:
         if form is None:
             continue
         q, d = form
-        key = (entry.id, cycle.id)
+        key = key_of[(entry.id, cycle.id)]
         g = gcd(_members_gcd(cycle), d)
         rel.shared_factor[key] = g
         if g == 1:
@@ -132,7 +140,7 @@ def find_relations(catalogue: Catalogue) -> Relations:
         base = by_canonical.get((base_map, cycle.canonical // g))
         if base is None:
             continue
-        scaling = Scaling(g, (base_map, base.id), key)
+        scaling = Scaling(g, key_of[(base_map, base.id)], key)
         rel.scaled_from[key] = scaling
         scaled_to.setdefault(scaling.base, []).append(scaling)
     rel.scaled_to = {k: tuple(sorted(v, key=lambda s: (s.factor, s.copy))) for k, v in sorted(scaled_to.items())}

@@ -43,7 +43,7 @@ import jinja2
 from markupsafe import Markup
 
 from builder import __version__
-from builder.processes import WorkerStopped, default_jobs, share_work
+from builder.processes import WorkerStopped, default_jobs, return_free_memory, share_work
 from builder.site.digest import stable_digest
 from builder.site.exports import (
     atom_feed,
@@ -65,6 +65,7 @@ MARKER = ".periplus-site"
 #: What each task of the build wrote, with the digest of its inputs, for the next build.
 MANIFEST = ".periplus-build.json"
 _MANIFEST_FORMAT = "periplus-build/1"
+_SEARCH = "export:search"  # the task that writes the search index
 
 
 def template_dir() -> Path:
@@ -162,6 +163,7 @@ class _Task:
     cost: int
     run: Callable[[SiteViews, Writer, jinja2.Environment], list[PageInfo]]
     inputs: Callable[[SiteViews], object] | None = None  # None: made at every build
+    reads_all: bool = True  # False for a map's pages, which read the records of that map (and a few related)
 
 
 @dataclass(frozen=True, slots=True)
@@ -258,11 +260,11 @@ def _tasks(views: SiteViews) -> list[_Task]:
     for unit in views.units:
         known = unit.inputs
         inputs = None if known is None else (lambda v, known=known: known(v.site))
-        tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs))
+        tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs, reads_all=unit.map_id is None))
     size = len(views.cycles)
     tasks.append(_Task("export:catalogue", 1 + size // 3, _catalogue_export))
     tasks.append(_Task("export:csv", 1 + size // 20, _csv_export))
-    tasks.append(_Task("export:search", 1 + size // 10, _search_export, _search_inputs))
+    tasks.append(_Task(_SEARCH, 1 + size // 10, _search_export, _search_inputs))
     return tasks
 
 
@@ -333,12 +335,17 @@ def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previ
             env = envs[os.getpid()] = _environment()
         return _perform(tasks[i], views, out, env, common, previous)
 
-    # Largest first, so that no process is left with a big task at the end.
-    order = sorted(range(len(tasks)), key=lambda i: (-tasks[i].cost, i))
+    # A map's pages read its own records, made together in catalogue order: the maps are shared out in
+    # runs of neighbours, so that each process reads (and a worker copies) its own part of the record;
+    # what reads every record (the site-wide pages, the exports) is done by this process, which owns it.
+    maps = [i for i, task in enumerate(tasks) if not task.reads_all]
+    # The search index needs the most memory while it is made: made first, while the workers have copied little.
+    whole = sorted((i for i, task in enumerate(tasks) if task.reads_all), key=lambda i: tasks[i].name != _SEARCH)
     gc.collect()
     gc.freeze()  # the collector would otherwise touch, and so copy, every object the workers inherit
+    return_free_memory()
     try:
-        done = share_work(order, jobs, run)
+        done = share_work(maps, jobs, run, cost=lambda i: tasks[i].cost, home=whole)
     except WorkerStopped as stopped:
         raise SystemExit(f"a page-writing process stopped: {stopped}") from None
     finally:
@@ -347,9 +354,10 @@ def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previ
 
 
 def render_site(views: SiteViews, out: Path, jobs: int = 1, previous: Path | None = None) -> list[str]:
-    """Write every page, export and asset into ``out`` (an empty folder), in ``jobs`` processes;
+    """Write every page, export and asset into ``out`` (an empty folder, made if missing), in ``jobs`` processes;
     return the pages written.  ``previous`` is the site this one replaces, if any: the files of the
     tasks whose inputs did not change are taken from it."""
+    out.mkdir(parents=True, exist_ok=True)
     writer = Writer(out)
     tasks = _tasks(views)
     done = _run_tasks(views, tasks, out, jobs, _read_previous(previous))

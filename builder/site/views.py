@@ -47,6 +47,13 @@ def _relative(entry_path: Path, root: Path) -> str:
     return entry_path.relative_to(root).as_posix()
 
 
+def _history(history: RepoHistory | NoHistory, path: Path, root: Path, names: bool) -> HistoryRecord | None:
+    """The git history of the entry at ``path``; None outside a repository (its path is not even written out)."""
+    if isinstance(history, NoHistory):
+        return None
+    return HistoryRecord.of(history, _relative(path, root), names)
+
+
 def build_views(
     catalogue: Catalogue,
     base_url: str | None = None,
@@ -75,15 +82,15 @@ def build_views(
     by_key: dict[tuple[str, str], CycleRecord] = {}
     for map_id, cycles in catalogue.cycles.items():
         for cycle in cycles:
-            past = HistoryRecord.of(history, _relative(cycle.path, catalogue.root), names)
-            by_key[(map_id, cycle.id)] = CycleRecord.of(maps[map_id], cycle, rel, past)
+            past = _history(history, cycle.path, catalogue.root, names)
+            by_key[rel.keys[(map_id, cycle.id)]] = CycleRecord.of(maps[map_id], cycle, rel, past)
     about = AboutRecord.of(record, edition, base)
     map_records = {
         map_id: MapRecord.of(
             entry,
             tuple(by_key[(map_id, c.id)] for c in catalogue.cycles.get(map_id, ())),
             rel,
-            HistoryRecord.of(history, _relative(entry.path, catalogue.root), names),
+            _history(history, entry.path, catalogue.root, names),
             about,
         )
         for map_id, entry in maps.items()
@@ -93,7 +100,7 @@ def build_views(
         catalogue,
         rel,
         map_records,
-        cycle_records,
+        by_key,
         base_url=base,
         fixed_root=base if base_url else None,
         edition=edition,

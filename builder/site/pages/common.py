@@ -124,7 +124,7 @@ class NavEntry:
 
 
 #: Makes a kind's pages for the whole site.
-SitePages = Callable[["SiteContext"], list[Page]]
+SitePages = Callable[["SiteContext"], Iterable[Page]]
 #: Makes a kind's pages for one map, given its id, one at a time (a map may have thousands of cycle pages).
 MapPages = Callable[["SiteContext", str], Iterable[Page]]
 #: What a kind's pages for one map are made from, as plain data (builder.site.digest reads it): an

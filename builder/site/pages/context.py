@@ -159,7 +159,7 @@ class SiteContext:
         catalogue: Catalogue,
         rel: Relations,
         maps: Mapping[str, MapRecord],
-        cycles: Iterable[CycleRecord],
+        records: dict[tuple[str, str], CycleRecord],
         *,
         base_url: str,
         fixed_root: str | None,
@@ -179,10 +179,9 @@ class SiteContext:
         self.changelog = changelog
         self.history = history
         # In the catalogue's order of cycles, which the lengths pages keep for cycles of equal |member|.
-        self.records: dict[tuple[str, str], CycleRecord] = {(c.map_id, c.id): c for c in cycles}
-        self.cycles: dict[tuple[str, str], Cycle] = {
-            (m, c.id): c for m, cycles in catalogue.cycles.items() for c in cycles
-        }
+        # Keyed by the tuples the relations hold (builder.catalogue.relations.Relations.keys), not copies.
+        self.records = records
+        self.cycles: dict[tuple[str, str], Cycle] = {key: r.cycle for key, r in records.items()}
         self.map_order = sorted(catalogue.maps, key=lambda map_id: _display_order(catalogue.maps[map_id]))
         self._of_map: dict[str, tuple[str, object]] = {}
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from dataclasses import dataclass
 from functools import partial
 
@@ -24,20 +25,22 @@ class LengthRow:
     maps: int
 
 
-def length_pages(site: SiteContext) -> list[Page]:
-    """The index of lengths, then one page per length (cycles by map, then by least |member|)."""
+def length_pages(site: SiteContext) -> Iterator[Page]:
+    """The index of lengths, then one page per length (cycles by map, then by least |member|), each made
+    as it is rendered: the rows of all 50,000 cycles are never held at once."""
     by_length: dict[int, list[tuple[str, str]]] = {}
     for key, r in site.records.items():
         by_length.setdefault(r.length, []).append(key)
     crumbs = (*HOME_CRUMBS, Link("Lengths", "lengths/index.html"))
-    rows = []
-    pages = []
+    rows = [
+        LengthRow(k, length_url(k), len(keys), len({site.cat.maps[m].name for m, _ in keys}))
+        for k, keys in sorted(by_length.items())
+    ]
+    yield Page("lengths/index.html", "lengths.html", "Cycles by length", SECTION, {"rows": rows}, HOME_CRUMBS)
     place = {map_id: i for i, map_id in enumerate(site.map_order)}
     for k in sorted(by_length):
         # Maps in display order (q, then |d|), then cycles by least |member|, positive first.
         keys = sorted(by_length[k], key=lambda kk: (place[kk[0]], abs(site.cycles[kk].canonical), kk[1]))
-        map_names = {site.cat.maps[m].name for m, _ in keys}
-        rows.append(LengthRow(k, length_url(k), len(keys), len(map_names)))
         order = "by map, then least |member|"
         for part, pager in pagers(len(keys), order, partial(length_url, k)):
             title = f"Cycles of length {k}" + (f", {pager.span}" if pager and pager.current else "")
@@ -51,9 +54,7 @@ def length_pages(site: SiteContext) -> list[Page]:
                 length_url(k, 1 + (pager.current if pager else 0)), "length.html", title, SECTION, context, crumbs
             )
             page.in_site_map = pager is None or pager.current == 0
-            pages.append(page)
-    index = Page("lengths/index.html", "lengths.html", "Cycles by length", SECTION, {"rows": rows}, HOME_CRUMBS)
-    return [index, *pages]
+            yield page
 
 
 def length_inputs(site: SiteContext) -> object:
