@@ -85,8 +85,9 @@ def share_work(
     *,
     cost: Callable[[int], int] | None = None,
     home: Sequence[int] = (),
+    last: Sequence[int] = (),
 ) -> dict[int, R]:
-    """``run(i)`` for every i of ``home`` and ``order``, by this process and ``jobs - 1`` forked workers;
+    """``run(i)`` for every i of ``home``, ``order`` and ``last``, by this process and ``jobs - 1`` forked workers;
     results by i.
 
     Each worker inherits what this process holds and copies each page of it that it touches (Python
@@ -103,6 +104,9 @@ def share_work(
     - a process whose run is done takes the cheapest item left in the run with most items left, so
       the work stays balanced however the costs were guessed, and ends on small items.
 
+    - ``last`` is work this process does once every worker has ended: the work that needs the most
+      memory while it runs, which is then not added to the copies the workers hold.
+
     A worker's exception is raised here again; if a worker is stopped or dies, WorkerStopped is raised
     and the other workers are ended.
     """
@@ -111,6 +115,7 @@ def share_work(
     if jobs <= 1 or len(order) < 2 or not can_fork():
         results.update((i, run(i)) for i in home)
         results.update((i, run(i)) for i in order)
+        results.update((i, run(i)) for i in last)
         return results
     context = multiprocessing.get_context("fork")
     runs = _Runs(segments(order, jobs, price, sum(map(price, home))), price, context)
@@ -136,6 +141,7 @@ def share_work(
                 os.kill(pid, signal.SIGTERM)  # done by now, unless this process is giving up
             with contextlib.suppress(ChildProcessError):
                 os.waitpid(pid, 0)
+    results.update((i, run(i)) for i in last)
     return results
 
 

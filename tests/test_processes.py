@@ -34,11 +34,19 @@ def test_every_item_is_done_once_and_the_results_are_those_of_one_process(jobs: 
 
 
 @pytest.mark.parametrize("jobs", [1, 2, 3])
-def test_the_work_that_reads_everything_is_done_here_first(jobs: int) -> None:
-    home = [500, 501, 502]
-    done = share_work(list(range(200)), jobs, square, cost=lambda i: 1 + i % 7, home=home)
-    assert sorted(done) == [*range(200), *home]
-    assert {done[i][1] for i in home} == {os.getpid()}
+def test_the_work_that_reads_everything_is_done_here_first_or_last(jobs: int) -> None:
+    home, last = [500, 501, 502], [600]
+    started = []
+
+    def noted(i: int) -> tuple[int, int]:
+        started.append(i)  # in this process's memory only: the items this process did, in order
+        return square(i)
+
+    done = share_work(list(range(200)), jobs, noted, cost=lambda i: 1 + i % 7, home=home, last=last)
+    assert sorted(done) == [*range(200), *home, *last]
+    assert {done[i][1] for i in home + last} == {os.getpid()}
+    assert started[:3] == home  # first
+    assert started[-1] == 600  # and last, once the workers are done
 
 
 @given(

@@ -172,6 +172,13 @@ class _Verification:
             self.references_readable = False
         return file, bool(file.problems)
 
+    def rel(self, path: Path) -> str:
+        """A path's place from the catalogue root (POSIX), as RawFile.rel gives it; a path outside, as it is."""
+        try:
+            return path.relative_to(self.raw.root).as_posix()
+        except ValueError:
+            return str(path)
+
     def where(self, path: Path, key_path: KeyPath) -> Position:
         """The position of a key path in a file already read."""
         entry = self.by_path.get(path.relative_to(self.raw.root).as_posix())
@@ -408,7 +415,9 @@ class _Verification:
         )
         # Count every path looked at, including those refused by name or kind,
         # so that "N errors in X of Y files" never has X > Y.
-        files = {f.path for f in self.raw.files} | {p.position.file for p in self.problems}
+        # Told apart by their paths from the root, as text: hashing 50,000 Path objects would make each keep
+        # a list of its parts.
+        files = {f.rel for f in self.raw.files} | {self.rel(p.position.file) for p in self.problems}
         written: Mapping[tuple[str, str], WrittenEntry] = (
             WrittenEntries(self.written, self.shares, self.cycle_order)
             if self.shares

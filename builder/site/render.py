@@ -262,9 +262,10 @@ def _tasks(views: SiteViews) -> list[_Task]:
         inputs = None if known is None else (lambda v, known=known: known(v.site))
         tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs, reads_all=unit.map_id is None))
     size = len(views.cycles)
-    tasks.append(_Task("export:catalogue", 1 + size // 3, _catalogue_export))
-    tasks.append(_Task("export:csv", 1 + size // 20, _csv_export))
-    tasks.append(_Task(_SEARCH, 1 + size // 10, _search_export, _search_inputs))
+    # Costs as a share of a cycle's page per cycle (measured at 50,000 cycles; a rough guess does).
+    tasks.append(_Task("export:catalogue", 1 + size // 25, _catalogue_export))
+    tasks.append(_Task("export:csv", 1 + size // 70, _csv_export))
+    tasks.append(_Task(_SEARCH, 1 + size // 17, _search_export, _search_inputs))
     return tasks
 
 
@@ -327,25 +328,27 @@ def _perform(
 def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previous: _Previous | None) -> list[_Done]:
     """Run every task, in ``jobs`` processes (this one and forked workers); what each left, in task order."""
     common = _common_inputs(views)
-    envs: dict[int, jinja2.Environment] = {}  # made once in each process, on its first task
+    # Every template compiled once, here, before the workers are forked: they inherit the compiled code.
+    env = _environment()
+    for name in env.list_templates(filter_func=lambda name: name.endswith(".html")):
+        env.get_template(name)
 
     def run(i: int) -> _Done:
-        env = envs.get(os.getpid())
-        if env is None:
-            env = envs[os.getpid()] = _environment()
         return _perform(tasks[i], views, out, env, common, previous)
 
     # A map's pages read its own records, made together in catalogue order: the maps are shared out in
     # runs of neighbours, so that each process reads (and a worker copies) its own part of the record;
     # what reads every record (the site-wide pages, the exports) is done by this process, which owns it.
     maps = [i for i, task in enumerate(tasks) if not task.reads_all]
-    # The search index needs the most memory while it is made: made first, while the workers have copied little.
-    whole = sorted((i for i, task in enumerate(tasks) if task.reads_all), key=lambda i: tasks[i].name != _SEARCH)
+    whole = [i for i, task in enumerate(tasks) if task.reads_all and task.name != _SEARCH]
+    # The search index needs the most memory while it is made (40 MB at 50,000 cycles): made once the
+    # workers are gone, not on top of their copies.
+    last = [i for i, task in enumerate(tasks) if task.name == _SEARCH]
     gc.collect()
     gc.freeze()  # the collector would otherwise touch, and so copy, every object the workers inherit
     return_free_memory()
     try:
-        done = share_work(maps, jobs, run, cost=lambda i: tasks[i].cost, home=whole)
+        done = share_work(maps, jobs, run, cost=lambda i: tasks[i].cost, home=whole, last=last)
     except WorkerStopped as stopped:
         raise SystemExit(f"a page-writing process stopped: {stopped}") from None
     finally:

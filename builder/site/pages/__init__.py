@@ -56,7 +56,7 @@ class Unit:
     """Some pages made together: ``make`` builds them from the site when the unit is rendered."""
 
     name: str  # unique within a build: "map:<id>" or "site:<kind>"
-    cost: int  # a rough measure of its work, to share units evenly among processes
+    cost: int  # a rough measure of its work (a cycle's page costs 1), to share units evenly among processes
     make: Callable[[SiteContext], Iterable[Page]]
     # What its pages are made from (None: unknown, so an incremental build always makes them).
     inputs: Callable[[SiteContext], object] | None = None
@@ -80,17 +80,16 @@ def _map_unit(kinds: tuple[PageKind, ...], map_id: str, cycles: int) -> Unit:
     return Unit(f"map:{map_id}", 4 + cycles, make, inputs if known else None, map_id)
 
 
-def _site_unit(kind: PageKind, cost: int) -> Unit:
+def _site_unit(kind: PageKind, cycles: int) -> Unit:
     assert kind.site_pages is not None
-    return Unit(f"site:{kind.name}", cost, kind.site_pages, kind.site_inputs)
+    return Unit(f"site:{kind.name}", 1 + int(kind.cost_per_cycle * cycles), kind.site_pages, kind.site_inputs)
 
 
 def page_units(site: SiteContext) -> list[Unit]:
     """Every unit of pages of the site: one per map, then one per kind made for the whole site."""
     per_map = tuple(k for k in KINDS if k.map_pages is not None)
     units = [_map_unit(per_map, map_id, len(site.cat.cycles.get(map_id, ()))) for map_id in site.cat.maps]
-    whole = len(site.records) // 8 + 1  # a site-wide kind that lists cycles costs a fraction of their pages
-    units += [_site_unit(k, whole) for k in KINDS if k.site_pages is not None]
+    units += [_site_unit(k, len(site.records)) for k in KINDS if k.site_pages is not None]
     return units
 
 

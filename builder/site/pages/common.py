@@ -151,6 +151,9 @@ class PageKind:
     # from it: tests/site/test_incremental.py builds after each kind of change and compares.
     map_inputs: MapInputs | None = None
     site_inputs: SiteInputs | None = None
+    # For a kind made for the whole site: the time its pages take, per cycle of the record, as a share of
+    # the time of one cycle's page (to share the work evenly among processes; a rough guess does).
+    cost_per_cycle: float = 0.002
 
     def __post_init__(self) -> None:
         ways = (self.site_pages, self.map_pages, self.index_pages)
