@@ -10,11 +10,13 @@ from __future__ import annotations
 import contextlib
 import ctypes
 import ctypes.util
+import gc
 import multiprocessing
 import os
 import signal
 import traceback
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
+from contextlib import contextmanager
 from functools import partial
 from multiprocessing.connection import Connection
 from typing import Any, TypeVar
@@ -24,6 +26,7 @@ __all__ = [
     "can_fork",
     "default_jobs",
     "ignore_interrupts",
+    "no_cycle_collection",
     "return_free_memory",
     "segments",
     "share_work",
@@ -48,6 +51,30 @@ def can_fork() -> bool:
 def ignore_interrupts() -> None:
     """A worker's start: Ctrl-C reaches every process of the terminal's group, and the parent handles it."""
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
+@contextmanager
+def no_cycle_collection() -> Iterator[None]:
+    """Pause Python's collector of reference cycles while a big model is built (the verified record,
+    then the site's records).
+
+    The model is millions of objects that all stay alive, and the collector would traverse them again
+    and again as they accumulate (a full pass each time the heap grows by a quarter: half the time of
+    verifying 50,000 cycles, and 1.5 s of a rebuild).  Building it makes almost no reference cycles
+    (450 objects at 50,000 cycles); memory is freed by reference counting as usual.  At the end the
+    objects made meanwhile are moved to the oldest generation at once (``gc.freeze`` then
+    ``gc.unfreeze``), without a traversal: re-enabled as they were, the collector would traverse them
+    all straight away.
+    """
+    enabled = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        gc.freeze()
+        gc.unfreeze()
+        if enabled:
+            gc.enable()
 
 
 def return_free_memory() -> None:

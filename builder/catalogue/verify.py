@@ -11,10 +11,8 @@ compares catalogues without reading a file again.
 
 from __future__ import annotations
 
-import gc
 import hashlib
 from collections.abc import Callable, Collection, Iterator, Mapping
-from contextlib import contextmanager
 from dataclasses import dataclass, replace
 from functools import partial
 from pathlib import Path
@@ -45,6 +43,7 @@ from builder.catalogue.references import check_references
 from builder.catalogue.shared import Share, WrittenEntries, check_shared
 from builder.catalogue.written import WrittenEntry, written_entries
 from builder.errors import KeyPath, Position, Problem, Severity
+from builder.processes import no_cycle_collection
 
 __all__ = [
     "DEFAULT_MAX_STEPS",
@@ -435,35 +434,13 @@ def verify_raw(raw: RawCatalogue, limits: Limits = Limits(), cache: VerifyCache 
     searches it keeps are not run again (:mod:`builder.catalogue.cache`); the
     report is the same.
     """
-    with _no_cycle_collection():
+    with no_cycle_collection():
         run = _Verification(raw, limits, cache if cache is not None else VerifyCache.memory(), jobs)
         run.read_references()
         run.read_record()
         run.read_maps()
         run.read_cycles()
         return run.report()
-
-
-@contextmanager
-def _no_cycle_collection() -> Iterator[None]:
-    """Pause Python's collector of reference cycles while the verified record is built.
-
-    The record is hundreds of thousands of objects that all stay alive, and the collector would
-    traverse them again and again as they accumulate (it took half the time of verifying 50,000
-    cycles).  Verification makes almost no reference cycles; memory is freed by reference counting
-    as usual.  At the end the objects made meanwhile are moved to the oldest generation at once
-    (``gc.freeze`` then ``gc.unfreeze``), without a traversal: re-enabled as they were, the
-    collector would traverse them all straight away.
-    """
-    enabled = gc.isenabled()
-    gc.disable()
-    try:
-        yield
-    finally:
-        gc.freeze()
-        gc.unfreeze()
-        if enabled:
-            gc.enable()
 
 
 def verify_source(source: Source, limits: Limits = Limits(), cache: VerifyCache | None = None, jobs: int = 1) -> Report:

@@ -29,6 +29,7 @@ from builder.catalogue.verify import Limits, verify_catalogue
 from builder.errors import UsageError
 from builder.history.changelog import Changelog, Edition, read_changelog
 from builder.history.repo import NoHistory, RepoHistory, read_history
+from builder.processes import no_cycle_collection
 from builder.site.render import MARKER, default_jobs, render_site
 from builder.site.views import SiteViews, build_views
 
@@ -180,16 +181,17 @@ def build_site(
     _check_target(out)
     _check_place(out)
     jobs = jobs if jobs is not None else default_jobs()
-    report = verify_catalogue(catalogue, limits or Limits(), cache, jobs)
-    if not report.ok:
-        return BuildResult(report, 0)
-    record = report.catalogue.record
-    assert record is not None, "a catalogue that verifies has its record"
-    history = read_history(catalogue, names=record.credit_committers)
-    changelog, edition = read_changelog(report, history, cache)
-    # The entries as written serve comparisons (the changelog, done now); the pages read the model.
-    report = replace(report, written={})
-    views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)
+    with no_cycle_collection():  # the model and the site's records: millions of objects, and no cycles
+        report = verify_catalogue(catalogue, limits or Limits(), cache, jobs)
+        if not report.ok:
+            return BuildResult(report, 0)
+        record = report.catalogue.record
+        assert record is not None, "a catalogue that verifies has its record"
+        history = read_history(catalogue, names=record.credit_committers)
+        changelog, edition = read_changelog(report, history, cache)
+        # The entries as written serve comparisons (the changelog, done now); the pages read the model.
+        report = replace(report, written={})
+        views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)
     out = out.absolute()
     with _lock(out, wait):
         _check_target(out)  # another build may have written it while this one waited

@@ -344,15 +344,11 @@ def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previ
     # The search index needs the most memory while it is made (40 MB at 50,000 cycles): made once the
     # workers are gone, not on top of their copies.
     last = [i for i, task in enumerate(tasks) if task.name == _SEARCH]
-    gc.collect()
-    gc.freeze()  # the collector would otherwise touch, and so copy, every object the workers inherit
     return_free_memory()
     try:
         done = share_work(maps, jobs, run, cost=lambda i: tasks[i].cost, home=whole, last=last)
     except WorkerStopped as stopped:
         raise SystemExit(f"a page-writing process stopped: {stopped}") from None
-    finally:
-        gc.unfreeze()
     return [done[i] for i in range(len(tasks))]
 
 
@@ -361,6 +357,17 @@ def render_site(views: SiteViews, out: Path, jobs: int = 1, previous: Path | Non
     return the pages written.  ``previous`` is the site this one replaces, if any: the files of the
     tasks whose inputs did not change are taken from it."""
     out.mkdir(parents=True, exist_ok=True)
+    # What exists now (the records) is left out of the collector's passes while the site is written:
+    # it would otherwise traverse them again and again (rendering makes reference cycles, so it runs),
+    # and in each worker touch, and so copy, every object the worker inherits.
+    gc.freeze()
+    try:
+        return _write_site(views, out, jobs, previous)
+    finally:
+        gc.unfreeze()
+
+
+def _write_site(views: SiteViews, out: Path, jobs: int, previous: Path | None) -> list[str]:
     writer = Writer(out)
     tasks = _tasks(views)
     done = _run_tasks(views, tasks, out, jobs, _read_previous(previous))
