@@ -181,8 +181,11 @@ def necklace_row(k: int) -> list[int]:
     return row
 
 
+_DIGITS = bytes.maketrans(bytes(range(10)), b"0123456789")
+
+
 def word_text(word: tuple[int, ...], modulus: int) -> str:
     """Write a word as the catalogue does: digits when m <= 10, else comma-separated residues."""
     if modulus <= 10:
-        return "".join(map(str, word))
+        return bytes(word).translate(_DIGITS).decode("ascii")  # residue r -> the digit r, in C
     return ",".join(map(str, word))

@@ -25,9 +25,7 @@ from __future__ import annotations
 
 import contextlib
 import hashlib
-import os
 import platform
-import secrets
 import sqlite3
 import time
 from collections.abc import Hashable, Iterator, Mapping
@@ -40,6 +38,7 @@ import yaml
 
 from builder.arith.dynamics import AffineMap
 from builder.catalogue.serial import dumps, loads
+from builder.catalogue.signing import key_file, signing_key
 
 __all__ = [
     "CACHE_FORMAT",
@@ -53,7 +52,7 @@ __all__ = [
 ]
 
 #: Bump when what verification decides or keeps changes (a message, a check, a model object's fields).
-CACHE_FORMAT = 1
+CACHE_FORMAT = 2
 #: The default cache folder's name, beside the catalogue folder.
 FOLDER_NAME = ".periplus-cache"
 DATABASE = "verify.sqlite3"
@@ -67,10 +66,11 @@ _BATCH_BYTES = 8 << 20
 _ENGINE_CODE = ("*.py", "arith/*.py", "search/*.py", "catalogue/*.py")
 
 #: The tables beside ``meta``; a database of another engine version has them made anew.  A row of ``files``
-#: holds the outcomes of the files of one folder (loading them at once is twice as fast as one by one).
+#: holds the outcomes of the files of one folder (loading them at once is twice as fast as one by one), and
+#: apart from them what the files keep aside (``aside``): read only when asked for.
 _TABLES = {
     "scopes": "scope BLOB PRIMARY KEY, used INTEGER NOT NULL",
-    "files": "scope BLOB NOT NULL, folder TEXT NOT NULL, value BLOB NOT NULL, mac BLOB NOT NULL, "
+    "files": "scope BLOB NOT NULL, folder TEXT NOT NULL, value BLOB NOT NULL, aside BLOB, mac BLOB NOT NULL, "
     "PRIMARY KEY (scope, folder)",
     "searches": "key BLOB PRIMARY KEY, value BLOB NOT NULL, mac BLOB NOT NULL, used INTEGER NOT NULL",
 }
@@ -115,44 +115,6 @@ def _libyaml_version() -> str:
     return str(_yaml.get_version_string())
 
 
-def key_file() -> Path:
-    """Where the user's signing key is kept."""
-    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
-    return Path(base) / "periplus" / "cache-key"
-
-
-def _signing_key() -> bytes | None:
-    """The user's signing key, made on first use; None when it can be neither read nor made."""
-    path = key_file()
-    for _ in range(2):
-        try:
-            key = path.read_bytes()
-            if len(key) == 32:
-                return key
-            path.unlink()  # not a key this code wrote: replaced
-        except FileNotFoundError:
-            pass
-        except OSError:
-            return None
-        try:
-            path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
-            fresh = path.with_name(f".{path.name}.{secrets.token_hex(8)}")
-            fd = os.open(fresh, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
-            try:
-                os.write(fd, secrets.token_bytes(32))
-            finally:
-                os.close(fd)
-            try:
-                os.link(fresh, path)  # the first of two runs making a key at once wins; the other reads it
-            except FileExistsError:
-                pass
-            finally:
-                fresh.unlink()
-        except OSError:
-            return None
-    return None
-
-
 def _today() -> int:
     return int(time.time() // 86400)
 
@@ -180,7 +142,7 @@ class VerifyCache:
         self._writable = writable
         self.notes = notes
         self._memory: dict[bytes, Any] = {}
-        self._pending_files: list[tuple[bytes, str, bytes, bytes]] = []
+        self._pending_files: list[tuple[bytes, str, bytes, bytes | None, bytes]] = []
         self._pending_searches: dict[bytes, tuple[bytes, bytes]] = {}
         self._pending_bytes = 0
         self._touched: set[bytes] = set()
@@ -190,6 +152,9 @@ class VerifyCache:
         self._kept: dict[str, tuple[Hashable, Any]] = {}
         self._seen: dict[str, tuple[Hashable, Any]] = {}
         self._dirty = False
+        # What the folder's files keep aside: as kept (bytes, read only when needed) and as this run has it.
+        self._kept_aside: bytes | None = None
+        self._seen_aside: dict[str, Any] = {}
 
     @classmethod
     def memory(cls) -> VerifyCache:
@@ -201,7 +166,7 @@ class VerifyCache:
         """The cache in ``folder`` (made if missing), or a memory-only cache with a note when it cannot be used."""
         if folder is None:
             return cls.memory()
-        key = _signing_key()
+        key = signing_key()
         if key is None:
             note = f"the signing key {key_file()} can be neither read nor made, so {folder} is not used"
             return cls(None, None, False, (note,), None)
@@ -244,13 +209,25 @@ class VerifyCache:
         self._seen[rel] = kept
         return kept[1]
 
-    def keep_file(self, scope: bytes, rel: str, key: Hashable, value: Any, paths: Mapping[str, Path]) -> None:
-        """Keep the outcome of the file ``rel`` of ``scope`` under ``key`` (replacing the one before)."""
+    def keep_file(
+        self, scope: bytes, rel: str, key: Hashable, value: Any, paths: Mapping[str, Path], aside: Any = None
+    ) -> None:
+        """Keep the outcome of the file ``rel`` of ``scope`` under ``key`` (replacing the one before), and
+        ``aside`` (unless None) apart from it: what is seldom read (see :meth:`aside`)."""
         if self._db is None or not self._writable:
             return
         self._enter(scope, rel.rpartition("/")[0], paths)
         self._seen[rel] = (key, value)
+        self._seen_aside.pop(rel, None)
+        if aside is not None:
+            self._seen_aside[rel] = aside
         self._dirty = True
+
+    def aside(self) -> bytes | None:
+        """What the files of the folder at hand keep aside, as kept (``rel``: value, in the bytes of
+        :func:`builder.catalogue.serial.dumps`), or None: read with ``loads`` only if it is needed.
+        Only the files whose outcome :meth:`file` gives, unchanged, have theirs there."""
+        return self._kept_aside
 
     def search(self, key: bytes) -> Any | None:
         """The coverage search kept under ``key``, or None."""
@@ -316,10 +293,12 @@ class VerifyCache:
         self._leave()
         self._use_scope(scope)
         self._folder, self._paths, self._seen, self._dirty = (scope, folder), paths, {}, False
-        row = self._query("SELECT value, mac FROM files WHERE scope = ? AND folder = ?", (scope, folder))
+        row = self._query("SELECT value, aside, mac FROM files WHERE scope = ? AND folder = ?", (scope, folder))
         kept = None
-        if row is not None and row[1] == self._mac(b"f", scope, folder.encode(), row[0]):
+        self._kept_aside, self._seen_aside = None, {}
+        if row is not None and row[2] == self._mac(b"f", scope, folder.encode(), row[0], row[1] or b""):
             kept = loads(row[0], paths)
+            self._kept_aside = row[1] if isinstance(kept, dict) else None
         self._kept = kept if isinstance(kept, dict) else {}
 
     def _leave(self) -> None:
@@ -328,10 +307,29 @@ class VerifyCache:
             return
         scope, folder = self._folder
         if self._writable and (self._dirty or self._seen.keys() != self._kept.keys()):
-            data = dumps(self._seen, {self._paths[rel]: rel for rel in self._seen})
-            self._pending_files.append((scope, folder, data, self._mac(b"f", scope, folder.encode(), data)))
-            self._grew(len(data))
+            rels = {self._paths[rel]: rel for rel in self._seen}
+            data = dumps(self._seen, rels)
+            aside = self._asides()
+            kept_aside = dumps(aside, rels) if aside else None
+            mac = self._mac(b"f", scope, folder.encode(), data, kept_aside or b"")
+            self._pending_files.append((scope, folder, data, kept_aside, mac))
+            self._grew(len(data) + len(kept_aside or b""))
         self._folder, self._paths, self._kept, self._seen = None, {}, {}, {}
+        self._kept_aside, self._seen_aside = None, {}
+
+    def _asides(self) -> dict[str, Any]:
+        """What each file of the folder at hand keeps aside, as this run leaves it: kept anew, or as kept
+        before for the files whose outcome was kept before and is unchanged."""
+        earlier: Any = {}
+        if self._kept_aside is not None and any(rel not in self._seen_aside for rel in self._seen):
+            earlier = loads(self._kept_aside, self._paths) or {}
+        aside = {}
+        for rel, seen in self._seen.items():
+            if rel in self._seen_aside:
+                aside[rel] = self._seen_aside[rel]
+            elif rel in earlier and self._kept.get(rel) is seen:
+                aside[rel] = earlier[rel]
+        return aside
 
     def _use_scope(self, scope: bytes) -> None:
         if scope in self._touched:
@@ -354,7 +352,7 @@ class VerifyCache:
         today = _today()
 
         def write(db: sqlite3.Connection) -> None:
-            db.executemany("INSERT OR REPLACE INTO files VALUES (?, ?, ?, ?)", files)
+            db.executemany("INSERT OR REPLACE INTO files VALUES (?, ?, ?, ?, ?)", files)
             db.executemany(
                 "INSERT OR REPLACE INTO searches VALUES (?, ?, ?, ?)",
                 [(key, data, mac, today) for key, (data, mac) in searches.items()],

@@ -12,7 +12,7 @@ never holds a node tree, and its record is not scattered among the entries as wr
 from __future__ import annotations
 
 import multiprocessing
-from collections.abc import Callable, Iterator, Mapping, Sequence
+from collections.abc import Callable, Collection, Iterator, Mapping, Sequence
 from dataclasses import replace
 from pathlib import Path
 from typing import Any, Protocol
@@ -84,19 +84,22 @@ def _check_share(share: list[int]) -> tuple[bytes, bytes]:
 
 
 class Share:
-    """The entries as written of the cycle files one worker checked, as it sent them: read when asked for."""
+    """The entries as written of some cycle files, as bytes: those one worker checked, as it sent them, or
+    those the cache kept for one folder (of the files in ``only``, when given); read when asked for."""
 
-    def __init__(self, data: bytes, paths: Mapping[str, Path]) -> None:
+    def __init__(self, data: bytes, paths: Mapping[str, Path], only: Collection[str] | None = None) -> None:
         self.data = data
         self.paths = paths
-        self._read: dict[int, tuple[WrittenEntry, ...]] | None = None
+        self.only = only
+        self._read: dict[Any, tuple[WrittenEntry, ...]] | None = None
 
-    def entries(self) -> dict[int, tuple[WrittenEntry, ...]]:
-        """Each file's entries as written, by its number among the cycle files."""
+    def entries(self) -> dict[Any, tuple[WrittenEntry, ...]]:
+        """Each file's entries as written: by its number among the cycle files (a worker's), or by its
+        path from the catalogue root (the cache's)."""
         if self._read is None:
             read = loads(self.data, self.paths)
-            assert read is not None, "a worker's entries as written load"
-            self._read = dict(read)
+            assert read is not None, "entries as written this program kept load"
+            self._read = {k: v for k, v in dict(read).items() if self.only is None or k in self.only}
         return self._read
 
     def written_of(self, i: int) -> tuple[WrittenEntry, ...]:

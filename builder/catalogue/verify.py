@@ -303,11 +303,14 @@ class _Verification:
         outcomes: list[Checked | None] = [None] * len(files)
         keys: list[tuple[bytes, str] | None] = [None] * len(files)
         persistent = self.cache.persistent
+        # The entries as written of the files the cache keeps, kept apart by folder: read when asked for.
+        asides: dict[str, bytes | None] = {}
         for i, file in enumerate(files):
             if file.problems is not None:  # parsed already (a raw catalogue loaded whole)
                 outcomes[i] = self.check(file, self.check_cycle)
             elif persistent:
                 outcomes[i], keys[i] = self.kept(file, states[i])
+                asides[_folder_of(file)] = self.cache.aside()
         todo = [i for i, outcome in enumerate(outcomes) if outcome is None]
         shares: dict[int, Share] = {}  # the outcomes checked by workers, whose entries as written they keep
         for i, key, done, by in self.check_many(files, states, todo):
@@ -315,15 +318,17 @@ class _Verification:
             if by is not None:
                 shares[i] = by
         checked = set(todo)
-        revisit = {files[i].rel.rpartition("/")[0] for i in todo} if persistent else set()
+        revisit = {_folder_of(files[i]) for i in todo} if persistent else set()
+        kept_apart = self.kept_apart(files, checked, asides)
         for i, (file, outcome) in enumerate(zip(files, outcomes, strict=True)):
             assert outcome is not None, "every cycle file has an outcome"
             key = keys[i]
             share = shares.get(i)
             if persistent and i in checked and key is not None and self.keeps(outcome):
-                whole = outcome if share is None else replace(outcome, written=share.written_of(i))
-                self.cache.keep_file(self.scope, file.rel, key, whole, self.paths)
-            elif key is not None and file.rel.rpartition("/")[0] in revisit:
+                written = outcome.written if i not in shares else shares[i].written_of(i)
+                kept = replace(outcome, written=())  # its entries as written are kept apart, read when asked for
+                self.cache.keep_file(self.scope, file.rel, key, kept, self.paths, aside=written)
+            elif key is not None and _folder_of(file) in revisit:
                 # Kept, in a folder left before its other files were checked: seen by this run again.
                 self.cache.file(self.scope, file.rel, key, self.paths)
             self.take(outcome)
@@ -334,9 +339,25 @@ class _Verification:
             if outcome.value is not None and not outcome.faulted:
                 assert not isinstance(outcome.value, MapEntry)
                 self.add_cycle(*outcome.value)
+        self.shares += kept_apart.values()
         for share in self.shares:
             share.forget()  # read again only if the entries as written are asked for
         self.cycle_order = {file.rel: i for i, file in enumerate(files)}
+
+    def kept_apart(
+        self, files: list[RawFile], checked: set[int], asides: Mapping[str, bytes | None]
+    ) -> dict[str, Share]:
+        """For each folder, the entries as written of its files whose outcome the cache kept (checked
+        files have theirs with their outcome): read from the cache's bytes when asked for."""
+        wanted: dict[str, set[str]] = {}
+        for i, file in enumerate(files):
+            if i not in checked and file.problems is None:
+                wanted.setdefault(_folder_of(file), set()).add(file.rel)
+        return {
+            folder: Share(data, self.paths, rels)
+            for folder, rels in wanted.items()
+            if (data := asides.get(folder)) is not None
+        }
 
     def cycle_state(self, folder: str | None) -> str:
         """What a cycle's checks read besides its file: the map of its folder (its definition, or that it
@@ -423,6 +444,10 @@ class _Verification:
             else MappingProxyType(self.written)
         )
         return Report(catalogue, tuple(sorted(self.problems)), len(files), written, self.references_readable)
+
+
+def _folder_of(file: RawFile) -> str:
+    return file.rel.rpartition("/")[0]
 
 
 def verify_raw(raw: RawCatalogue, limits: Limits = Limits(), cache: VerifyCache | None = None, jobs: int = 1) -> Report:

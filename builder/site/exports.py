@@ -9,10 +9,13 @@ build time): the same catalogue always gives the same bytes.
 from __future__ import annotations
 
 import csv
+import heapq
+import io
 import json
 import uuid
-from collections.abc import Iterable, Iterator, Mapping, Sequence
-from typing import IO, Any
+from collections.abc import Callable, Iterator, Sequence
+from dataclasses import dataclass
+from typing import Any, Protocol
 from xml.sax.saxutils import escape, quoteattr
 
 from builder.arith.fingerprint import FINGERPRINT_DIGITS, FINGERPRINT_HEADER
@@ -32,8 +35,10 @@ __all__ = [
     "map_json",
     "search_files",
     "sitemap_files",
-    "write_catalogue_json",
-    "write_cycles_csv",
+    "MapPieces",
+    "Spans",
+    "map_pieces",
+    "write_record_exports",
 ]
 
 CSV_COLUMNS = (
@@ -63,23 +68,6 @@ _ENCODER = json.JSONEncoder(ensure_ascii=False, sort_keys=True, separators=(",",
 def json_text(data: Any) -> str:
     """Compact JSON with sorted keys and a final line feed."""
     return _ENCODER.encode(data) + "\n"
-
-
-def _write_json_object(fh: IO[str], fields: Mapping[str, Any], lists: Mapping[str, Iterable[Any]]) -> None:
-    """Write a JSON object whose ``lists`` are written item by item, one item a line, so a whole record
-    is never held as one text; keys sorted as json_text sorts them, so the bytes do not depend on it."""
-    fh.write("{")
-    keys = sorted([*fields, *lists])
-    for n, key in enumerate(keys):
-        fh.write(("," if n else "") + _ENCODER.encode(key) + ":")
-        if key in fields:
-            fh.write(_ENCODER.encode(fields[key]))
-            continue
-        fh.write("[")
-        for i, item in enumerate(lists[key]):
-            fh.write(("," if i else "") + "\n" + _ENCODER.encode(item))
-        fh.write("\n]")
-    fh.write("}\n")
 
 
 def _pick(obj: object, names: str, **renamed: str) -> dict[str, Any]:
@@ -153,20 +141,6 @@ def _map(m: MapRecord) -> dict[str, Any]:
     }
 
 
-def write_catalogue_json(views: SiteViews, fh: IO[str]) -> None:
-    """data/catalogue.json: the whole verified record, one map and one cycle a line."""
-    fields = {
-        "format": "periplus-record",
-        "format_version": 2,
-        "record": _about(views.about),
-        "note": "Every integer that belongs to a cycle is a decimal string; JSON numbers lose precision.",
-        "fingerprint_recipe": FINGERPRINT_NOTE,
-        "references": {key: _reference(ref) for key, ref in views.references.items()},
-    }
-    lists = {"maps": (_map(m) for m in views.maps.values()), "cycles": (_cycle(c) for c in views.cycles)}
-    _write_json_object(fh, fields, lists)
-
-
 def map_json(m: MapRecord) -> str:
     """data/maps/<id>.json: one map with its cycles in full and the record it belongs to."""
     return json_text({**_map(m), "cycles": [_cycle(c) for c in m.cycles], "record": _about(m.about, whole=False)})
@@ -193,26 +167,106 @@ def _comment(text: str) -> str:
     return ",".join(pieces)
 
 
-def write_cycles_csv(views: SiteViews, out: IO[str]) -> None:
-    """data/cycles.csv: one row per cycle, after one comment line."""
+def _csv_row(c: CycleRecord) -> list[object]:
+    return [
+        c.map_id, c.id, c.fingerprint, c.canonical, c.length, c.word,
+        " ".join(map(str, c.residue_counts)), c.minimum, c.maximum, c.multiplier, c.offset, c.target,
+        "" if c.standard_length is None else c.standard_length,
+        _cell(c.provenance.found_by), c.provenance.found_on.isoformat(), c.url,
+    ]  # fmt: skip
+
+
+@dataclass(frozen=True, slots=True)
+class MapPieces:
+    """One map's part of the whole-record exports, as UTF-8: its cycles' items and its own item in
+    data/catalogue.json (each after a line feed, the cycles' separated by commas), and its rows of
+    data/cycles.csv.  The exports are these pieces, map after map, between parts written once."""
+
+    cycles: bytes
+    line: bytes
+    rows: bytes
+
+
+def map_pieces(m: MapRecord) -> MapPieces:
+    rows = io.StringIO()
+    writer = csv.writer(rows, lineterminator="\n")
+    for c in m.cycles:
+        writer.writerow(_csv_row(c))
+    return MapPieces(
+        ",".join("\n" + _ENCODER.encode(_cycle(c)) for c in m.cycles).encode(),
+        ("\n" + _ENCODER.encode(_map(m))).encode(),
+        rows.getvalue().encode(),
+    )
+
+
+#: Where a map's pieces lie in the exports: byte offsets (end excluded) of its cycles' items and its own
+#: item in data/catalogue.json, then of its rows in data/cycles.csv.
+Spans = tuple[int, int, int, int, int, int]
+
+
+class Sink(Protocol):
+    def write(self, data: bytes, /) -> int: ...
+
+
+def write_record_exports(
+    views: SiteViews, catalogue: Sink, table: Sink, kept: Callable[[str], MapPieces | None]
+) -> dict[str, Spans]:
+    """Write data/catalogue.json (the whole verified record, one map and one cycle a line) and
+    data/cycles.csv (one row per cycle, after one comment line); return where each map's pieces lie.
+
+    ``kept(map_id)`` gives the pieces of a map as an earlier build wrote them, when its inputs are the
+    same (builder.site.render); the others are made here.  The JSON's keys are sorted, as json_text
+    sorts them, so the bytes do not depend on how the pieces were had.
+    """
     record, edition = views.record, views.edition
     # One comment line first (RFC 4180 has none; readers skip it with comment='#' or skiprows=1).
     header = (
         f"{record.title}, {edition.label}; data licence {record.licence} ({record.licence_url}); every verified "
         f"cycle, one per row; members are in data/catalogue.json"
     )
-    out.write("# " + _comment(" ".join(header.split())) + "\n")
-    writer = csv.writer(out, lineterminator="\n")
-    writer.writerow(CSV_COLUMNS)
-    for c in views.cycles:
-        writer.writerow(
-            [
-                c.map_id, c.id, c.fingerprint, c.canonical, c.length, c.word,
-                " ".join(map(str, c.residue_counts)), c.minimum, c.maximum, c.multiplier, c.offset, c.target,
-                "" if c.standard_length is None else c.standard_length,
-                _cell(c.provenance.found_by), c.provenance.found_on.isoformat(), c.url,
-            ]
-        )  # fmt: skip
+    head = io.StringIO()
+    head.write("# " + _comment(" ".join(header.split())) + "\n")
+    csv.writer(head, lineterminator="\n").writerow(CSV_COLUMNS)
+    at_table = table.write(head.getvalue().encode())
+    at = catalogue.write(b'{"cycles":[')
+    lines: list[tuple[str, bytes]] = []
+    spans: dict[str, Spans] = {}
+    first = True
+    for map_id, m in views.maps.items():
+        pieces = kept(map_id) or map_pieces(m)
+        if pieces.cycles and not first:
+            at += catalogue.write(b",")
+        first = first and not pieces.cycles
+        start = at
+        at += catalogue.write(pieces.cycles)
+        rows = at_table
+        at_table += table.write(pieces.rows)
+        spans[map_id] = (start, at, 0, 0, rows, at_table)
+        lines.append((map_id, pieces.line))
+    fields = {
+        "fingerprint_recipe": FINGERPRINT_NOTE,
+        "format": "periplus-record",
+        "format_version": 2,
+    }
+    at += catalogue.write(
+        ("\n]," + ",".join(f"{_ENCODER.encode(k)}:{_ENCODER.encode(v)}" for k, v in fields.items())).encode()
+    )
+    at += catalogue.write(b',"maps":[')
+    for n, (map_id, line) in enumerate(lines):
+        if n:
+            at += catalogue.write(b",")
+        c0, c1, _, _, r0, r1 = spans[map_id]
+        spans[map_id] = (c0, c1, at, at + len(line), r0, r1)
+        at += catalogue.write(line)
+    tail = {
+        "note": "Every integer that belongs to a cycle is a decimal string; JSON numbers lose precision.",
+        "record": _about(views.about),
+        "references": {key: _reference(ref) for key, ref in views.references.items()},
+    }
+    catalogue.write(
+        ("\n]," + ",".join(f"{_ENCODER.encode(k)}:{_ENCODER.encode(v)}" for k, v in tail.items()) + "}\n").encode()
+    )
+    return spans
 
 
 def search_files(views: SiteViews, limits: SearchLimits = DEFAULT_LIMITS) -> Iterator[tuple[str, str]]:
@@ -232,8 +286,8 @@ def _entry_id(*parts: str) -> str:
 def atom_feed(views: SiteViews) -> str:
     """An Atom feed (RFC 4287) of the newest ``FEED_ENTRIES`` cycles by found_on, newest first; entry ids
     follow fingerprints."""
-    entries = sorted(views.cycles, key=lambda c: (c.provenance.found_on, c.map_id, c.id), reverse=True)
-    entries = entries[:FEED_ENTRIES]
+    # heapq.nlargest gives sorted(..., reverse=True)[:FEED_ENTRIES] without sorting every cycle.
+    entries = heapq.nlargest(FEED_ENTRIES, views.cycles, key=lambda c: (c.provenance.found_on, c.map_id, c.id))
     record = views.record
     updated = f"{entries[0].provenance.found_on.isoformat()}T00:00:00Z" if entries else "1970-01-01T00:00:00Z"
     rights = f"Data licence {record.licence} ({record.licence_url}); {views.edition.label}"

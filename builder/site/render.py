@@ -32,12 +32,11 @@ import json
 import os
 import shutil
 import stat
-from collections.abc import Callable, Iterable, Iterator
-from contextlib import contextmanager
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass, replace
 from importlib import resources
 from pathlib import Path
-from typing import IO
+from typing import Any, BinaryIO
 
 import jinja2
 from markupsafe import Markup
@@ -46,12 +45,13 @@ from builder import __version__
 from builder.processes import WorkerStopped, default_jobs, return_free_memory, share_work
 from builder.site.digest import stable_digest
 from builder.site.exports import (
+    MapPieces,
+    Spans,
     atom_feed,
     map_json,
     search_files,
     sitemap_files,
-    write_catalogue_json,
-    write_cycles_csv,
+    write_record_exports,
 )
 from builder.site.metadata import citation_cff, robots_txt
 from builder.site.pages import NAV, Unit, index_pages
@@ -66,6 +66,10 @@ MARKER = ".periplus-site"
 MANIFEST = ".periplus-build.json"
 _MANIFEST_FORMAT = "periplus-build/1"
 _SEARCH = "export:search"  # the task that writes the search index
+_RECORD = "export:record"  # the task that writes the whole-record exports, in a clean build
+_CATALOGUE, _TABLE = "data/catalogue.json", "data/cycles.csv"
+#: Where each map's pieces lie in data/catalogue.json and data/cycles.csv, and those files' SHA-256.
+_Record = tuple[dict[str, Spans], tuple[str, str]]
 
 
 def template_dir() -> Path:
@@ -111,6 +115,7 @@ class Writer:
         self.out = out.resolve()
         self._folders: set[str] = set()
         self.files: list[str] = []  # every file written, in order
+        self.record: _Record | None = None  # set by the task that writes the whole-record exports
 
     def _target(self, relative: str) -> str:
         # Addresses are built from validated ids; this is the second line of defence, done on the text
@@ -151,10 +156,9 @@ class Writer:
         finally:
             os.close(fd)
 
-    @contextmanager
-    def stream(self, relative: str) -> Iterator[IO[str]]:
-        with open(self._target(relative), "w", encoding="utf-8", newline="\n") as fh:
-            yield fh
+    def path(self, relative: str) -> str:
+        """Where to write the file ``relative`` (its folder made, the address checked)."""
+        return self._target(relative)
 
 
 @dataclass(frozen=True, slots=True)
@@ -163,7 +167,11 @@ class _Task:
     cost: int
     run: Callable[[SiteViews, Writer, jinja2.Environment], list[PageInfo]]
     inputs: Callable[[SiteViews], object] | None = None  # None: made at every build
-    reads_all: bool = True  # False for a map's pages, which read the records of that map (and a few related)
+    map_id: str | None = None  # for a map's pages, which read the records of that map (and a few related)
+
+    @property
+    def reads_all(self) -> bool:
+        return self.map_id is None
 
 
 @dataclass(frozen=True, slots=True)
@@ -173,6 +181,8 @@ class _Done:
     digest: str | None
     pages: list[PageInfo]
     files: list[str]
+    reused: bool = False  # linked from the previous site, not made again
+    record: _Record | None = None  # the whole-record exports' layout, from the task that wrote them
 
 
 @dataclass(frozen=True, slots=True)
@@ -181,6 +191,29 @@ class _Previous:
 
     root: Path
     tasks: dict[str, _Done]
+    record: _Record | None = None  # the layout of its whole-record exports (None: unknown)
+
+    def pieces(self) -> Callable[[str], MapPieces | None]:
+        """The pieces of a map as the previous site's exports hold them; None where they cannot be had."""
+        assert self.record is not None
+        spans, digests = self.record
+        files = [self.root / _CATALOGUE, self.root / _TABLE]
+        try:
+            if not all(f.is_file() and not f.is_symlink() for f in files):
+                return lambda map_id: None
+            catalogue, table = (f.read_bytes() for f in files)
+        except OSError:
+            return lambda map_id: None
+        if tuple(hashlib.sha256(data).hexdigest() for data in (catalogue, table)) != digests:
+            return lambda map_id: None  # not the files the manifest describes: made afresh
+
+        def kept(map_id: str) -> MapPieces | None:
+            at = spans.get(map_id)
+            if at is None:
+                return None
+            return MapPieces(catalogue[at[0] : at[1]], catalogue[at[2] : at[3]], table[at[4] : at[5]])
+
+        return kept
 
 
 def _source_digest() -> str:
@@ -225,20 +258,37 @@ def _read_previous(site: Path | None) -> _Previous | None:
             name: _Done(entry["digest"], [PageInfo(*page) for page in entry["pages"]], list(entry["files"]))
             for name, entry in data["tasks"].items()
         }
-    except (OSError, ValueError, KeyError, TypeError):
+        record = _record_of(data.get("record"))
+    except (OSError, ValueError, KeyError, TypeError, IndexError):
         return None
     if not all(isinstance(f, str) and _inside(f) for done in tasks.values() for f in done.files):
         return None  # not a manifest this tool wrote
-    return _Previous(site, tasks)
+    return _Previous(site, tasks, record)
 
 
-def _manifest(names: list[str], done: list[_Done]) -> str:
+def _record_of(data: Any) -> _Record | None:
+    """The layout of the whole-record exports as a manifest gives it; None if it gives none."""
+    if data is None:
+        return None
+    spans: dict[str, Spans] = {}
+    for map_id, at in data["spans"].items():
+        if len(at) != 6 or not all(isinstance(n, int) and n >= 0 for n in at):
+            return None
+        spans[str(map_id)] = (at[0], at[1], at[2], at[3], at[4], at[5])
+    whole, rows = data["sha256"]
+    return spans, (str(whole), str(rows))
+
+
+def _manifest(names: list[str], done: list[_Done], record: _Record) -> str:
     tasks = {
         name: {"digest": d.digest, "pages": [list(_page_row(p)) for p in d.pages], "files": d.files}
         for name, d in zip(names, done, strict=True)
         if d.digest is not None
     }
-    return json.dumps({"format": _MANIFEST_FORMAT, "tasks": tasks}, sort_keys=True, separators=(",", ":")) + "\n"
+    spans, digests = record
+    layout = {"sha256": list(digests), "spans": {k: list(v) for k, v in spans.items()}}
+    whole = {"format": _MANIFEST_FORMAT, "tasks": tasks, "record": layout}
+    return json.dumps(whole, sort_keys=True, separators=(",", ":")) + "\n"
 
 
 def _page_row(p: PageInfo) -> tuple[str, str, bool, bool]:
@@ -260,11 +310,10 @@ def _tasks(views: SiteViews) -> list[_Task]:
     for unit in views.units:
         known = unit.inputs
         inputs = None if known is None else (lambda v, known=known: known(v.site))
-        tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs, reads_all=unit.map_id is None))
+        tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs, unit.map_id))
     size = len(views.cycles)
     # Costs as a share of a cycle's page per cycle (measured at 50,000 cycles; a rough guess does).
-    tasks.append(_Task("export:catalogue", 1 + size // 25, _catalogue_export))
-    tasks.append(_Task("export:csv", 1 + size // 70, _csv_export))
+    tasks.append(_Task(_RECORD, 1 + size // 18, _record_export))
     tasks.append(_Task(_SEARCH, 1 + size // 17, _search_export, _search_inputs))
     return tasks
 
@@ -279,15 +328,28 @@ def _unit_pages(unit: Unit) -> Callable[[SiteViews, Writer, jinja2.Environment],
     return run
 
 
-def _catalogue_export(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
-    with writer.stream("data/catalogue.json") as fh:
-        write_catalogue_json(views, fh)
-    return []
+def _write_record(views: SiteViews, writer: Writer, kept: Callable[[str], MapPieces | None]) -> _Record:
+    """data/catalogue.json and data/cycles.csv, with the pieces ``kept`` gives; their layout."""
+    with open(writer.path(_CATALOGUE), "wb") as catalogue, open(writer.path(_TABLE), "wb") as table:
+        sinks = _Hashed(catalogue), _Hashed(table)
+        spans = write_record_exports(views, *sinks, kept)
+        return spans, (sinks[0].sha256.hexdigest(), sinks[1].sha256.hexdigest())
 
 
-def _csv_export(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
-    with writer.stream("data/cycles.csv") as fh:
-        write_cycles_csv(views, fh)
+class _Hashed:
+    """A file being written, and the SHA-256 of what was written to it."""
+
+    def __init__(self, fh: BinaryIO) -> None:
+        self.fh = fh
+        self.sha256 = hashlib.sha256()
+
+    def write(self, data: bytes) -> int:
+        self.sha256.update(data)
+        return self.fh.write(data)
+
+
+def _record_export(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
+    writer.record = _write_record(views, writer, lambda map_id: None)
     return []
 
 
@@ -316,13 +378,13 @@ def _perform(
         try:
             for relative in before.files:
                 writer.link(relative, previous.root / relative)
-            return _Done(digest, before.pages, before.files)
+            return _Done(digest, before.pages, before.files, reused=True)
         except OSError:  # a file gone or another file system: write them after all
             for relative in writer.files:
                 Path(writer.out, relative).unlink(missing_ok=True)
     writer = Writer(out)
     pages = task.run(views, writer, env)
-    return _Done(digest, pages, writer.files)
+    return _Done(digest, pages, writer.files, record=writer.record)
 
 
 def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previous: _Previous | None) -> list[_Done]:
@@ -340,7 +402,13 @@ def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previ
     # runs of neighbours, so that each process reads (and a worker copies) its own part of the record;
     # what reads every record (the site-wide pages, the exports) is done by this process, which owns it.
     maps = [i for i, task in enumerate(tasks) if not task.reads_all]
-    whole = [i for i, task in enumerate(tasks) if task.reads_all and task.name != _SEARCH]
+    # An incremental build writes the whole-record exports last, from the pieces of the maps whose pages
+    # it took from the previous site, as that site's exports hold them, and the others made afresh.
+    record = next(i for i, task in enumerate(tasks) if task.name == _RECORD)
+    pieced = previous is not None and previous.record is not None
+    whole = [
+        i for i, task in enumerate(tasks) if task.reads_all and task.name != _SEARCH and not (pieced and i == record)
+    ]
     # The search index needs the most memory while it is made (40 MB at 50,000 cycles): made once the
     # workers are gone, not on top of their copies.
     last = [i for i, task in enumerate(tasks) if task.name == _SEARCH]
@@ -349,6 +417,13 @@ def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previ
         done = share_work(maps, jobs, run, cost=lambda i: tasks[i].cost, home=whole, last=last)
     except WorkerStopped as stopped:
         raise SystemExit(f"a page-writing process stopped: {stopped}") from None
+    if pieced:
+        assert previous is not None
+        kept = previous.pieces()
+        reused = {tasks[i].map_id for i in maps if done[i].reused}
+        writer = Writer(out)
+        layout = _write_record(views, writer, lambda map_id: kept(map_id) if map_id in reused else None)
+        done[record] = _Done(None, [], writer.files, record=layout)
     return [done[i] for i in range(len(tasks))]
 
 
@@ -388,6 +463,7 @@ def _write_site(views: SiteViews, out: Path, jobs: int, previous: Path | None) -
         if asset.is_file() and not asset.name.startswith("."):
             (out / "static").mkdir(exist_ok=True)
             shutil.copyfile(asset, out / "static" / asset.name)
-    writer.text(MANIFEST, _manifest([t.name for t in tasks], done))
+    layout = next(d.record for d in done if d.record is not None)
+    writer.text(MANIFEST, _manifest([t.name for t in tasks], done, layout))
     writer.text(MARKER, f"This folder was written by periplus {__version__}; periplus build replaces it whole.\n")
     return pages

@@ -12,6 +12,8 @@ from math import comb
 
 import pytest
 import sympy
+from hypothesis import given
+from hypothesis import strategies as st
 from sympy.utilities.iterables import necklaces
 
 from builder.arith.dynamics import AffineMap, cycle_equation
@@ -25,6 +27,7 @@ from builder.arith.words import (
     mobius,
     necklace_row,
     rotate,
+    word_text,
 )
 
 SHORTCUT_3X1 = AffineMap(2, ((1, 0), (3, 1)))
@@ -186,3 +189,14 @@ def test_necklace_row_is_moreau_for_every_x(k: int) -> None:
 @pytest.mark.parametrize("n", [0, 1, 2, 7, 30, 101])
 def test_binomial_row_is_sympys(n: int) -> None:
     assert binomial_row(n) == [int(sympy.binomial(n, j)) for j in range(n + 1)]
+
+
+@given(st.integers(min_value=2, max_value=12).flatmap(lambda m: st.tuples(st.just(m), st.lists(st.integers(0, m - 1)))))
+def test_a_word_is_written_as_its_residues_digit_by_digit_up_to_mod_10_else_with_commas(
+    case: tuple[int, list[int]],
+) -> None:
+    # Words with a modulus of at most 10 are strings of digits (catalogue/README.md, "Words"); with a
+    # larger one, the residues as a list, which pages write separated by commas (common practice, no source).
+    modulus, residues = case
+    separator = "" if modulus <= 10 else ","
+    assert word_text(tuple(residues), modulus) == separator.join(str(r) for r in residues)

@@ -24,6 +24,7 @@ from test_coverage import with_claim
 from builder.catalogue import cache as cache_module
 from builder.catalogue import coverage as coverage_module
 from builder.catalogue import serial
+from builder.catalogue import signing as signing_module
 from builder.catalogue import verify as verify_module
 from builder.catalogue.cache import DATABASE, FOLDER_NAME, VerifyCache, default_cache_folder
 from builder.catalogue.model import Report
@@ -117,6 +118,36 @@ def test_a_warm_cache_gives_the_report_of_a_cold_run_for_the_hostile_entries(tmp
     warm = verified(root, tmp_path / "cache", Limits())
     assert parses == []
     assert detail(warm) == detail(cold)
+
+
+def test_the_entries_as_written_are_kept_apart_and_read_only_when_asked_for(catalogue, tmp_path, monkeypatch):
+    # The outcomes a warm run loads leave out the entries as written (two thirds of what is kept), which
+    # only a changelog or a review reads; read, they are those of a cold run, the edited file's new ones.
+    from builder.catalogue import shared as shared_module
+
+    root = catalogue()
+    folder = tmp_path / "cache"
+    assert verified(root, folder).ok
+    path = root / "cycles" / "3x-plus-1" / "through-minus-5.yaml"
+    path.write_text(path.read_text(encoding="utf-8") + "  notes: an edited note\n", encoding="utf-8")
+    decoded: list[object] = []
+    real = shared_module.Share.entries
+
+    def counting(share: shared_module.Share) -> object:
+        if share._read is None:
+            decoded.append(share)
+        return real(share)
+
+    monkeypatch.setattr(shared_module.Share, "entries", counting)
+    warm = verified(root, folder)
+    assert warm.ok and decoded == []  # verified without reading them
+    cold = verify_catalogue(root, NO_RECHECK)
+    assert detail(warm) == detail(cold)  # read now, in file order
+    assert decoded
+    edited = warm.written["cycle", "3x-plus-1/through-minus-5"]
+    assert "an edited note" in str(edited.fields)
+    again = verified(root, folder)  # the folder kept anew: its other files' entries carried over
+    assert detail(again) == detail(cold)
 
 
 # --- what makes the cache miss ----------------------------------------------------------------------
@@ -253,7 +284,7 @@ def test_a_planted_outcome_is_believed_only_with_the_users_own_signature(catalog
     cycles = "cycles/3x-plus-1"
     paths = {f"{cycles}/{p.name}": p for p in (root / "cycles" / "3x-plus-1").iterdir()}
     with sqlite3.connect(folder / DATABASE) as db:
-        (value,) = db.execute("SELECT value FROM files WHERE folder = ?", (cycles,)).fetchone()
+        value, aside = db.execute("SELECT value, aside FROM files WHERE folder = ?", (cycles,)).fetchone()
     db.close()
     kept = serial.loads(value, paths)
     planted = dict(kept)
@@ -266,7 +297,7 @@ def test_a_planted_outcome_is_believed_only_with_the_users_own_signature(catalog
     def plant(signer: VerifyCache) -> Report:
         with sqlite3.connect(folder / DATABASE) as db:
             scope = db.execute("SELECT scope FROM files WHERE folder = ?", (cycles,)).fetchone()[0]
-            mac = signer._mac(b"f", scope, cycles.encode(), data)
+            mac = signer._mac(b"f", scope, cycles.encode(), data, aside or b"")
             db.execute("UPDATE files SET value = ?, mac = ? WHERE folder = ?", (data, mac, cycles))
         db.close()
         return verified(root, folder)
@@ -274,7 +305,7 @@ def test_a_planted_outcome_is_believed_only_with_the_users_own_signature(catalog
     stranger = VerifyCache(None, b"\x01" * 32, False, (), None)
     assert detail(plant(stranger)) == detail(cold)  # signed by another key: checked again
     with VerifyCache.open(None) as nobody:
-        nobody._key = cache_module._signing_key() or b""
+        nobody._key = signing_module.signing_key() or b""
         fooled = plant(nobody)  # signed with the user's own key, as only this program does
     assert [p.code for p in fooled.errors] == ["duplicate-cycle"]
 

@@ -117,7 +117,10 @@ def test_a_build_without_reuse_writes_every_file(tmp_path: Path) -> None:
     assert not [p for p in after if before.get(p) == after[p]]
 
 
-@pytest.mark.parametrize("damage", ["missing", "garbled", "other-format", "file-gone", "outside", "symlink"])
+@pytest.mark.parametrize(
+    "damage",
+    ["missing", "garbled", "other-format", "file-gone", "outside", "symlink", "export-edited", "export-cut", "spans"],
+)
 def test_a_damaged_manifest_or_site_means_a_full_build(tmp_path: Path, damage: str) -> None:
     # Common practice, no source: a cache that cannot be read is ignored, never trusted.
     site, clean = tmp_path / "site", tmp_path / "clean"
@@ -141,12 +144,48 @@ def test_a_damaged_manifest_or_site_means_a_full_build(tmp_path: Path, damage: s
         page.unlink()
         (tmp_path / "secret.txt").write_text("not for the site", encoding="utf-8")
         page.symlink_to(tmp_path / "secret.txt")
+    elif damage == "export-edited":  # the same size, one byte changed: the pieces it holds are not used
+        whole = site / "data/catalogue.json"
+        data = bytearray(whole.read_bytes())
+        data[data.index(b'"17"')] = ord("'")
+        whole.unlink()  # a new file: the built site's is a hard link to the old one
+        whole.write_bytes(bytes(data))
+    elif damage == "export-cut":
+        table = site / "data/cycles.csv"
+        data = table.read_bytes()
+        table.unlink()
+        table.write_bytes(data[: len(data) // 2])
+    elif damage == "spans":
+        data = json.loads(manifest.read_text(encoding="utf-8"))
+        data["record"]["spans"]["3x-plus-1"] = [1, 2, 3]
+        manifest.write_text(json.dumps(data), encoding="utf-8")
     else:
         os.unlink(site / "maps/3x-plus-1/through-1/index.html")
     build_site(VALID, site)
     build_site(VALID, clean, reuse=False)
     assert tree(site) == tree(clean)
     assert not any(p.is_symlink() for p in site.rglob("*"))
+
+
+def test_the_whole_record_exports_are_pieced_from_the_previous_site(tmp_path: Path) -> None:
+    # An incremental build takes each unchanged map's lines of data/catalogue.json and data/cycles.csv
+    # from the previous site's files (where the manifest says they lie) and makes the changed map's anew.
+    cat = tmp_path / "catalogue"
+    shutil.copytree(VALID, cat)
+    site = tmp_path / "site"
+    assert build_site(cat, site, jobs=1).report.ok
+    layout = json.loads((site / MANIFEST).read_text(encoding="utf-8"))["record"]
+    whole = (site / "data/catalogue.json").read_bytes()
+    start, end, line_start, line_end, _, _ = layout["spans"]["3x-plus-1"]
+    assert json.loads(whole[line_start:line_end])["id"] == "3x-plus-1"
+    assert {json.loads(line)["map"] for line in whole[start:end].split(b",\n{")[:1]} == {"3x-plus-1"}
+    _cycle_method(cat)
+    assert build_site(cat, site, jobs=2).report.ok
+    clean = tmp_path / "clean"
+    assert build_site(cat, clean, jobs=1, reuse=False).report.ok
+    for name in ("data/catalogue.json", "data/cycles.csv", MANIFEST):
+        assert (site / name).read_bytes() == (clean / name).read_bytes(), name
+    assert b"(edited) " in (site / "data/catalogue.json").read_bytes()
 
 
 def test_the_digest_reads_plain_data_of_any_size() -> None:
