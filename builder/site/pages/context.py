@@ -184,6 +184,7 @@ class SiteContext:
         self.cycles: dict[tuple[str, str], Cycle] = {key: r.cycle for key, r in records.items()}
         self.map_order = sorted(catalogue.maps, key=lambda map_id: _display_order(catalogue.maps[map_id]))
         self._of_map: dict[str, tuple[str, object]] = {}
+        self._links: dict[tuple[str, str], Link] = {}
 
     def of_map(self, name: str, map_id: str, make: Callable[[], T]) -> T:
         """``make()``, made once for the map at hand: a map's unit reads some pieces twice (for the digest
@@ -194,6 +195,16 @@ class SiteContext:
         return kept[1]  # type: ignore[return-value]
 
     def cycle_link(self, key: tuple[str, str], note: str = "") -> Link:
+        if note:
+            return self._link(key, note)
+        # A link without a note is made once: the first cycles of a word shared by thousands of maps are
+        # linked from every one of them.
+        link = self._links.get(key)
+        if link is None:
+            link = self._links[key] = self._link(key, "")
+        return link
+
+    def _link(self, key: tuple[str, str], note: str) -> Link:
         record = self.records[key]
         name = self.cat.maps[key[0]].name
         return Link(f"{name}: cycle through {record.canonical}", record.url, note)

@@ -213,11 +213,19 @@ def cycle_pages(site: SiteContext, map_id: str) -> Iterator[Page]:
 
 def cycle_inputs(site: SiteContext, map_id: str) -> object:
     """What the map's cycle pages show: each entry as written and verified (the fingerprint fixes the
-    map's definition and the members, word and equation), its history, relations and sources."""
+    map's definition and the members, word and equation), its history, relations and sources.
+
+    The related cycles are given as numbers in a table of the map's links, each written once: the
+    first cycles of a word that thousands of maps share are linked from most of their cycles."""
     out = []
     related = _related_of_map(site, map_id)
+    links: dict[tuple[str, str, str], int] = {}
     for c in site.cat.cycles.get(map_id, ()):
         key = (map_id, c.id)
+        groups = tuple(
+            (g.kind, tuple(links.setdefault((k.label, k.url, k.note), len(links)) for k in g.links))
+            for g in related[c.id]
+        )
         out.append(
             (
                 c.id,
@@ -225,12 +233,12 @@ def cycle_inputs(site: SiteContext, map_id: str) -> object:
                 c.start,
                 c.provenance,
                 site.records[key].history,
-                related[c.id],
+                groups,
                 site.reference_links(c.provenance.references),
                 site.marks(key),
             )
         )
-    return (site.cat.maps[map_id].name, out)
+    return (site.cat.maps[map_id].name, out, list(links))
 
 
 KIND = PageKind("cycle", map_pages=cycle_pages, map_inputs=cycle_inputs)
