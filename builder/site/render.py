@@ -10,17 +10,23 @@ a second line of defence).
 The work is cut into tasks: one per unit of pages (builder.site.pages.page_units: a map with
 its cycles, or one kind of page for the whole site) and one per large export.  Each task makes
 its pages, renders them and writes them at once, so a build holds one task's text at a time.
-With more than one process the tasks are shared among worker processes forked from the build:
-they inherit the site's records instead of receiving copies, and send back only the addresses
-and titles of the pages they wrote.  What needs every page (the site map, sitemap.xml) is
-written last, by the build itself.  The output never depends on how the tasks were shared.
+With more than one process the maps' tasks are shared among the build and worker processes
+forked from it (builder.processes.share_work): they inherit the site's records instead of
+receiving copies, each takes a run of neighbouring maps (so each copies only the memory its own
+records fill), and they send back only the addresses and titles of the pages they wrote.  The
+tasks that read every record (site-wide pages, the exports) are the build's own, and what needs
+every page (the site map, sitemap.xml) is written last, by the build itself.  The output never
+depends on how the tasks were shared.
 
 Builds are incremental: a task whose inputs are known (a unit's ``inputs``, builder.site.pages)
 has a digest of them and of what every page reads (the code and templates, the record, the
 edition, the base address).  The manifest ``.periplus-build.json`` in the site lists each task's
 digest and files; a build that finds the same digest in the site it replaces hard-links that
 task's files from it instead of writing them again, so the result is the clean build's, byte
-for byte (tests/site/test_incremental.py).
+for byte (tests/site/test_incremental.py).  The whole-record exports (data/catalogue.json,
+data/cycles.csv) are made of one piece per map; the manifest says where each lies, and an
+incremental build takes the unchanged maps' pieces from the previous site's files (once their
+SHA-256 is the manifest's) and makes the others.
 """
 
 from __future__ import annotations
@@ -209,7 +215,9 @@ class _Previous:
 
         def kept(map_id: str) -> MapPieces | None:
             at = spans.get(map_id)
-            if at is None:
+            if at is None or not (at[0] <= at[1] <= len(catalogue) and at[2] <= at[3] <= len(catalogue)):
+                return None
+            if not at[4] <= at[5] <= len(table):
                 return None
             return MapPieces(catalogue[at[0] : at[1]], catalogue[at[2] : at[3]], table[at[4] : at[5]])
 
