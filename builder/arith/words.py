@@ -22,6 +22,7 @@ __all__ = [
     "necklace_row",
     "binomial_row",
     "rotate",
+    "rotation_key",
     "word_text",
 ]
 
@@ -93,6 +94,23 @@ def least_rotation_index(word: Word) -> int:
         else:
             f[j - k] = i + 1
     return k % n
+
+
+#: Up to this length the least rotation of a word of byte-sized residues is found by comparing every
+#: rotation in C (k slices of k bytes); beyond it, by Booth's linear algorithm in Python.
+_SHORT_WORD = 512
+
+
+def rotation_key(word: Word) -> bytes | tuple[int, ...]:
+    """A key that two words share exactly when one is a rotation of the other: their least rotation
+    (bytes when every residue is below 256, else a tuple; a key of one kind never equals one of the other)."""
+    n = len(word)
+    if n <= _SHORT_WORD and all(0 <= c < 256 for c in word):
+        data = bytes(word)
+        doubled = data + data
+        return min((doubled[i : i + n] for i in range(n)), default=data)
+    least = rotate(word, least_rotation_index(word))
+    return bytes(least) if all(0 <= c < 256 for c in least) else least
 
 
 def rotate(word: Word, r: int) -> tuple[int, ...]:

@@ -20,7 +20,7 @@ from dataclasses import dataclass, field
 from math import gcd
 
 from builder.arith.dynamics import AffineMap, canonical_index, shortcut_form
-from builder.arith.words import least_rotation_index, rotate
+from builder.arith.words import rotation_key
 from builder.catalogue.model import Catalogue, Cycle, MapEntry
 
 __all__ = ["Relations", "find_relations", "qx_plus_d"]
@@ -97,11 +97,9 @@ def find_relations(catalogue: Catalogue) -> Relations:
     by_canonical = {(map_id, cycle.canonical): cycle for map_id, cycles in catalogue.cycles.items() for cycle in cycles}
 
     # Same word: group by modulus and least rotation of the word.
-    groups: dict[tuple[int, tuple[int, ...]], list[CycleKey]] = {}
+    groups: dict[tuple[int, bytes | tuple[int, ...]], list[CycleKey]] = {}
     for entry, cycle in _all_cycles(catalogue):
-        word = cycle.word
-        lyndon = rotate(word, least_rotation_index(word))
-        groups.setdefault((entry.modulus, lyndon), []).append(key_of[(entry.id, cycle.id)])
+        groups.setdefault((entry.modulus, rotation_key(cycle.word)), []).append(key_of[(entry.id, cycle.id)])
     for keys in groups.values():
         if len(keys) > 1:
             group = tuple(keys)

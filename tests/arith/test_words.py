@@ -27,6 +27,7 @@ from builder.arith.words import (
     mobius,
     necklace_row,
     rotate,
+    rotation_key,
     word_text,
 )
 
@@ -200,3 +201,23 @@ def test_a_word_is_written_as_its_residues_digit_by_digit_up_to_mod_10_else_with
     modulus, residues = case
     separator = "" if modulus <= 10 else ","
     assert word_text(tuple(residues), modulus) == separator.join(str(r) for r in residues)
+
+
+@given(
+    st.lists(st.integers(0, 300), max_size=40),
+    st.lists(st.integers(0, 300), max_size=40),
+    st.integers(0, 39),
+)
+def test_two_words_share_a_rotation_key_exactly_when_one_is_a_rotation_of_the_other(
+    u: list[int], v: list[int], r: int
+) -> None:
+    # The rule (common practice, no source): rotations of one word have one least rotation, and words
+    # that are not rotations of each other have different ones; a short and a long word of the same
+    # residues are keyed as the linear algorithm orders them, whether the word is short (every rotation
+    # compared in C) or longer than 512 residues (Booth's algorithm).
+    assert rotation_key(u) == rotation_key(rotate(u, r % len(u))) if u else rotation_key(u) == rotation_key(())
+    assert (rotation_key(u) == rotation_key(v)) == is_rotation(u, v)
+    small = [c % 2 for c in u]
+    assert rotation_key(small) == bytes(rotate(small, least_rotation_index(small)))
+    long = small * (600 // max(len(small), 1) + 1) if small else []
+    assert rotation_key(long) == bytes(rotate(long, least_rotation_index(long)))
