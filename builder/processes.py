@@ -1,4 +1,6 @@
-"""Work shared among processes: how many to use, and whether they can be forked.
+"""Work shared among processes: how many to use, whether they can be forked, how work is shared out
+among them (share_work), and the memory a process holds before it forks (the cycle collector paused
+while a big model is built, free memory given back).
 
 Forked workers inherit what the process holds (copy-on-write) instead of receiving it through a
 pipe, which is what makes sharing a big record among them cheap; where fork is missing (not on
@@ -129,8 +131,7 @@ def share_work(
       (default 1 each) counting ``home`` in this process's run, and each process does its own run,
       the costliest first;
     - a process whose run is done takes the cheapest item left in the run with most items left, so
-      the work stays balanced however the costs were guessed, and ends on small items.
-
+      the work stays balanced however the costs were guessed, and ends on small items;
     - ``last`` is work this process does once every worker has ended: the work that needs the most
       memory while it runs, which is then not added to the copies the workers hold.
 

@@ -15,7 +15,7 @@ All of it is derived from the verified model, never from the entries' text:
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+from collections.abc import Collection, Iterator
 from dataclasses import dataclass, field
 from math import gcd
 
@@ -69,9 +69,13 @@ class Relations:
     # that the site's tables can hold too), instead of a tuple of its own in each of 50,000-entry tables.
     keys: dict[CycleKey, CycleKey] = field(default_factory=dict)
 
-    def same_word(self, key: CycleKey) -> Iterator[CycleKey]:
-        """The cycles of other maps with the word of ``key``, in catalogue order."""
-        return (k for k in self.word_group.get(key, ()) if k[0] != key[0])
+    def same_word(self, key: CycleKey, first: int, leaving: Collection[CycleKey] = ()) -> list[CycleKey]:
+        """The first ``first`` cycles of other maps with the word of ``key``, in catalogue order, but those
+        of ``leaving``."""
+        # One map has one cycle per word: of the group's first first + 1 + len(leaving), at most
+        # 1 + len(leaving) are the cycle's own or left out.
+        head = self.word_group.get(key, ())[: first + 1 + len(leaving)]
+        return [k for k in head if k[0] != key[0] and k not in leaving][:first]
 
     def same_word_count(self, key: CycleKey) -> int:
         group = self.word_group.get(key, ())

@@ -180,7 +180,7 @@ class _Verification:
 
     def where(self, path: Path, key_path: KeyPath) -> Position:
         """The position of a key path in a file already read."""
-        entry = self.by_path.get(path.relative_to(self.raw.root).as_posix())
+        entry = self.by_path.get(self.rel(path))
         line, column = entry.position(key_path) if entry is not None else (0, 0)
         return Position(path, line, column, key_path)
 
@@ -325,7 +325,7 @@ class _Verification:
             key = keys[i]
             share = shares.get(i)
             if persistent and i in checked and key is not None and self.keeps(outcome):
-                written = outcome.written if i not in shares else shares[i].written_of(i)
+                written = outcome.written if share is None else share.written_of(i)
                 kept = replace(outcome, written=())  # its entries as written are kept apart, read when asked for
                 self.cache.keep_file(self.scope, file.rel, key, kept, self.paths, aside=written)
             elif key is not None and _folder_of(file) in revisit:

@@ -107,10 +107,7 @@ def _related(site: SiteContext, key: tuple[str, str], length: int) -> list[Relat
     group = site.rel.word_group.get(key, ())
     # The listed cycles that share the word are shown above, not again (a group is one shared tuple).
     count = site.rel.same_word_count(key) - sum(1 for k in listed if site.rel.word_group.get(k) is group)
-    # One map has one cycle per word: of the group's first SAME_WORD_SHOWN + 1 + len(listed), at most
-    # 1 + len(listed) are the cycle's own or listed above.
-    head = group[: SAME_WORD_SHOWN + 1 + len(listed)]
-    same = [k for k in head if k[0] != key[0] and k not in listed][:SAME_WORD_SHOWN]
+    same = site.rel.same_word(key, SAME_WORD_SHOWN, listed)
     if same:
         links = [site.cycle_link(k) for k in same]
         if count > SAME_WORD_SHOWN:
