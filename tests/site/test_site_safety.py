@@ -319,8 +319,8 @@ def test_render_refuses_a_path_outside_the_site(tmp_path: Path) -> None:
 
 @pytest.mark.parametrize("path", ["../x.html", "a/../../x.html", "/etc/x", "a//b.html", "./x.html", "a\\..\\x", ""])
 def test_the_writer_refuses_every_address_that_could_leave_the_site(tmp_path: Path, path: str) -> None:
-    with pytest.raises(AssertionError, match="outside the site"):
-        Writer(tmp_path).text(path, "x")
+    with Writer(tmp_path) as writer, pytest.raises(AssertionError, match="outside the site"):
+        writer.text(path, "x")
     assert list(tmp_path.iterdir()) == []
 
 

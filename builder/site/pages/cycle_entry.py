@@ -32,6 +32,8 @@ HEAD_MEMBERS, TAIL_MEMBERS = 500, 100
 WORD_ON_PAGE = 4000
 SAME_WORD_SHOWN = 12
 
+CycleKey = tuple[str, str]  # (map id, cycle id)
+
 
 @dataclass(frozen=True, slots=True)
 class RelatedGroup:
@@ -87,43 +89,72 @@ def _member_items(members: tuple[str, ...]) -> Markup:
     return Markup("".join(f"<li>{n}</li>\n" for n in members))
 
 
-def _related(site: SiteContext, key: tuple[str, str], length: int) -> list[RelatedGroup]:
+@dataclass(frozen=True, slots=True)
+class _Kin:
+    """The cycles related to one cycle, as keys: all that its related links are made from (besides each
+    linked cycle's map name and least member, and the cycle's length)."""
+
+    mirror: CycleKey | None
+    scaled: tuple[int, CycleKey] | None  # the factor and the cycle it is a scaled copy of
+    copies: tuple[tuple[int, CycleKey], ...]  # its scaled copies, with their factors
+    same: tuple[CycleKey, ...]  # the first cycles of other maps with its word, those above left out
+    more: int  # how many other cycles with its word are not among ``same`` (nor above)
+
+
+def _kin(site: SiteContext, key: CycleKey) -> _Kin | None:
     """The cycle's mirror, what it is a scaled copy of, its scaled copies, and the same word in other maps."""
-    related: list[RelatedGroup] = []
-    mirror = site.rel.mirror.get(key)
-    if mirror is not None:
-        related.append(RelatedGroup("Mirror", [site.cycle_link(mirror, "the negated cycle of the mirror map")]))
-    scaled = site.rel.scaled_from.get(key)
-    if scaled is not None:
-        related.append(
-            RelatedGroup("Scaled copy of", [site.cycle_link(scaled.base, f"times {to_decimal(scaled.factor)}")])
-        )
-    copies = site.rel.scaled_to.get(key, ())
-    if copies:
-        related.append(
-            RelatedGroup("Scaled copies", [site.cycle_link(s.copy, f"times {to_decimal(s.factor)}") for s in copies])
-        )
+    rel = site.rel
+    mirror = rel.mirror.get(key)
+    scaled = rel.scaled_from.get(key)
+    copies = rel.scaled_to.get(key, ())
+    group = rel.word_group.get(key)
+    if mirror is None and scaled is None and not copies and group is None:
+        return None
     listed = {k for k in (mirror, scaled.base if scaled else None, *(s.copy for s in copies)) if k is not None}
-    group = site.rel.word_group.get(key, ())
-    # The listed cycles that share the word are shown above, not again (a group is one shared tuple).
-    count = site.rel.same_word_count(key) - sum(1 for k in listed if site.rel.word_group.get(k) is group)
-    same = site.rel.same_word(key, SAME_WORD_SHOWN, listed)
-    if same:
-        links = [site.cycle_link(k) for k in same]
-        if count > SAME_WORD_SHOWN:
-            more = count - SAME_WORD_SHOWN
-            links.append(Link(f"{more} more cycles of length {length}", length_url(length)))
+    same: tuple[CycleKey, ...] = ()
+    more = 0
+    if group is not None:
+        # The listed cycles that share the word are shown above, not again (a group is one shared tuple).
+        count = rel.same_word_count(key) - sum(1 for k in listed if rel.word_group.get(k) is group)
+        same = tuple(rel.same_word(key, SAME_WORD_SHOWN, listed))
+        more = count - len(same)
+    return _Kin(
+        mirror,
+        (scaled.factor, scaled.base) if scaled else None,
+        tuple((s.factor, s.copy) for s in copies),
+        same,
+        more,
+    )
+
+
+def _related(site: SiteContext, kin: _Kin | None, length: int) -> list[RelatedGroup]:
+    """The groups of related links that ``kin`` makes."""
+    related: list[RelatedGroup] = []
+    if kin is None:
+        return related
+    if kin.mirror is not None:
+        related.append(RelatedGroup("Mirror", [site.cycle_link(kin.mirror, "the negated cycle of the mirror map")]))
+    if kin.scaled is not None:
+        factor, base = kin.scaled
+        related.append(RelatedGroup("Scaled copy of", [site.cycle_link(base, f"times {to_decimal(factor)}")]))
+    if kin.copies:
+        links = [site.cycle_link(copy, f"times {to_decimal(factor)}") for factor, copy in kin.copies]
+        related.append(RelatedGroup("Scaled copies", links))
+    if kin.same:
+        links = [site.cycle_link(k) for k in kin.same]
+        if kin.more > 0:
+            links.append(Link(f"{kin.more} more cycles of length {length}", length_url(length)))
         related.append(RelatedGroup("Same word in other maps", links))
     return related
 
 
-def _related_of_map(site: SiteContext, map_id: str) -> dict[str, list[RelatedGroup]]:
-    """The related cycles of each cycle of the map (made once for its pages and the digest of their inputs)."""
+def _kin_of_map(site: SiteContext, map_id: str) -> dict[str, _Kin | None]:
+    """The related cycles of each cycle of the map, as keys (made once for its pages and the digest of their inputs)."""
 
-    def make() -> dict[str, list[RelatedGroup]]:
-        return {c.id: _related(site, (map_id, c.id), c.length) for c in site.cat.cycles.get(map_id, ())}
+    def make() -> dict[str, _Kin | None]:
+        return {c.id: _kin(site, (map_id, c.id)) for c in site.cat.cycles.get(map_id, ())}
 
-    return site.of_map("related", map_id, make)
+    return site.of_map("kin", map_id, make)
 
 
 def _citations(site: SiteContext, entry: MapEntry, cycle: Cycle, title: str, permalink: str) -> tuple[str, str]:
@@ -194,7 +225,7 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle) -> Page:
         "length_url": length_url(cycle.length),
         "notes": render_notes(cycle.provenance.notes),
         "references": site.reference_links(cycle.provenance.references),
-        "related": _related_of_map(site, entry.id)[cycle.id],
+        "related": _related(site, _kin_of_map(site, entry.id)[cycle.id], cycle.length),
         "marks": site.marks(key),
         "cite": cite,
         "bibtex": bibtex,
@@ -214,17 +245,28 @@ def cycle_inputs(site: SiteContext, map_id: str) -> object:
     """What the map's cycle pages show: each entry as written and verified (the fingerprint fixes the
     map's definition and the members, word and equation), its history, relations and sources.
 
-    The related cycles are given as numbers in a table of the map's links, each written once: the
-    first cycles of a word that thousands of maps share are linked from most of their cycles."""
+    The related cycles are given as numbers in a table of the cycles the map's pages link to, each with
+    what its link shows (its map's name and least member): the first cycles of a word that thousands
+    of maps share are linked from most of their cycles."""
     out = []
-    related = _related_of_map(site, map_id)
-    links: dict[tuple[str, str, str], int] = {}
+    kin_of = _kin_of_map(site, map_id)
+    linked: dict[CycleKey, int] = {}
+
+    def at(key: CycleKey) -> int:
+        return linked.setdefault(key, len(linked))
+
     for c in site.cat.cycles.get(map_id, ()):
         key = (map_id, c.id)
-        groups = tuple(
-            (g.kind, tuple(links.setdefault((k.label, k.url, k.note), len(links)) for k in g.links))
-            for g in related[c.id]
-        )
+        kin = kin_of[c.id]
+        related = None
+        if kin is not None:
+            related = (
+                None if kin.mirror is None else at(kin.mirror),
+                None if kin.scaled is None else (kin.scaled[0], at(kin.scaled[1])),
+                tuple((factor, at(copy)) for factor, copy in kin.copies),
+                tuple(at(k) for k in kin.same),
+                kin.more,
+            )
         out.append(
             (
                 c.id,
@@ -232,12 +274,13 @@ def cycle_inputs(site: SiteContext, map_id: str) -> object:
                 c.start,
                 c.provenance,
                 site.records[key].history,
-                groups,
+                related,
                 site.reference_links(c.provenance.references),
                 site.marks(key),
             )
         )
-    return (site.cat.maps[map_id].name, out, list(links))
+    links = [(key, site.cat.maps[key[0]].name, site.records[key].canonical) for key in linked]
+    return (site.cat.maps[map_id].name, out, links)
 
 
 KIND = PageKind("cycle", map_pages=cycle_pages, map_inputs=cycle_inputs)
