@@ -105,12 +105,21 @@ def rotation_key(word: Word) -> bytes | tuple[int, ...]:
     """A key that two words share exactly when one is a rotation of the other: their least rotation
     (bytes when every residue is below 256, else a tuple; a key of one kind never equals one of the other)."""
     n = len(word)
-    if n <= _SHORT_WORD and all(0 <= c < 256 for c in word):
-        data = bytes(word)
+    data = _as_bytes(word)
+    if data is not None and n <= _SHORT_WORD:
         doubled = data + data
-        return min((doubled[i : i + n] for i in range(n)), default=data)
+        # Every rotation as a slice of the word written twice, made and compared in C.
+        return min(map(doubled.__getitem__, map(slice, range(n), range(n, 2 * n))), default=data)
     least = rotate(word, least_rotation_index(word))
-    return bytes(least) if all(0 <= c < 256 for c in least) else least
+    return bytes(least) if data is not None else least  # a rotation of bytes is bytes
+
+
+def _as_bytes(word: Word) -> bytes | None:
+    """The word as bytes when every residue is below 256 (bytes() checks each, in C), else None."""
+    try:
+        return bytes(word)
+    except ValueError:
+        return None
 
 
 def rotate(word: Word, r: int) -> tuple[int, ...]:

@@ -126,25 +126,29 @@ def find_relations(catalogue: Catalogue) -> Relations:
 
     # Scaled copies among qx+d maps.
     scaled_to: dict[CycleKey, list[Scaling]] = {}
-    for entry, cycle in _all_cycles(catalogue):
-        form = qx_plus_d(entry)
+    base_maps: dict[tuple[int, int], str | None] = {}  # (q, d) -> the map n/2, (qn+d)/2 if catalogued
+    for map_id, cycles in catalogue.cycles.items():
+        form = qx_plus_d(catalogue.maps[map_id])
         if form is None:
             continue
         q, d = form
-        key = key_of[(entry.id, cycle.id)]
-        g = gcd(_members_gcd(cycle), d)
-        rel.shared_factor[key] = g
-        if g == 1:
-            continue
-        base_map = by_branches.get(_shortcut(q, d // g))
-        if base_map is None:
-            continue
-        base = by_canonical.get((base_map, cycle.canonical // g))
-        if base is None:
-            continue
-        scaling = Scaling(g, key_of[(base_map, base.id)], key)
-        rel.scaled_from[key] = scaling
-        scaled_to.setdefault(scaling.base, []).append(scaling)
+        for cycle in cycles:
+            key = key_of[(map_id, cycle.id)]
+            g = gcd(_members_gcd(cycle), d)
+            rel.shared_factor[key] = g
+            if g == 1:
+                continue
+            if (q, d // g) not in base_maps:
+                base_maps[(q, d // g)] = by_branches.get(_shortcut(q, d // g))
+            base_map = base_maps[(q, d // g)]
+            if base_map is None:
+                continue
+            base = by_canonical.get((base_map, cycle.canonical // g))
+            if base is None:
+                continue
+            scaling = Scaling(g, key_of[(base_map, base.id)], key)
+            rel.scaled_from[key] = scaling
+            scaled_to.setdefault(scaling.base, []).append(scaling)
     rel.scaled_to = {k: tuple(sorted(v, key=lambda s: (s.factor, s.copy))) for k, v in sorted(scaled_to.items())}
     return rel
 
