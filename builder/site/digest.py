@@ -1,70 +1,41 @@
 """Digests of what pages are made from, for incremental builds (builder.site.render).
 
-``stable_digest`` reads plain data (numbers, text, dates, paths, tuples, lists, dicts and frozen
-dataclasses of them) into one SHA-256.  The data's repr() is that reading for every type handed here
-(pickle is not: its bytes depend on which equal objects happen to be shared), and it is fast; but
-repr refuses integers of more than 4,300 digits, so such data is read again item by item, with
-integers as hexadecimal, which has no such limit.  On that path a type it does not know is an error,
-and sets are refused on both: their order is not a property of their contents.
+``stable_digest`` reads plain data (numbers of any size, text, bytes, dates, paths, enums, tuples,
+lists, dicts and dataclasses of them) into one SHA-256, through pickle's encoding of it written
+without its memo.  With the memo, pickle's bytes would depend on which equal objects happen to be
+shared; without it, equal data gives equal bytes, and the encoding is made in C (repr() of a
+dataclass runs Python code per object, and refuses integers of more than 4,300 digits).  Sets must
+not be handed here: their order is not a property of their contents (it changes with the process's
+hash seed), so neither is their encoding.  tests/site/test_incremental.py digests every task's inputs
+under two hash seeds.
 """
 
 from __future__ import annotations
 
-import dataclasses
 import hashlib
-from datetime import date
-from enum import Enum
-from pathlib import PurePath
-from typing import Any
+import pickle
 
 __all__ = ["stable_digest"]
 
 
-def _feed(h: Any, obj: object) -> None:
-    # kept iterative-free but shallow: the data handed here nests a few levels deep at most
-    if obj is None or isinstance(obj, bool):
-        h.update(b"N" if obj is None else (b"T" if obj else b"F"))
-    elif isinstance(obj, int):
-        h.update(b"i" + format(obj, "x").encode() + b";")
-    elif isinstance(obj, str):
-        data = obj.encode("utf-8", "surrogatepass")
-        h.update(b"s" + str(len(data)).encode() + b":" + data)
-    elif isinstance(obj, float):
-        h.update(b"f" + repr(obj).encode() + b";")
-    elif isinstance(obj, bytes):
-        h.update(b"b" + str(len(obj)).encode() + b":" + obj)
-    elif isinstance(obj, date):
-        h.update(b"d" + obj.isoformat().encode() + b";")
-    elif isinstance(obj, PurePath):
-        _feed(h, obj.as_posix())
-    elif isinstance(obj, Enum):
-        _feed(h, (type(obj).__name__, obj.value))
-    elif isinstance(obj, (tuple, list)):
-        h.update(b"(" + str(len(obj)).encode() + b":")
-        for item in obj:
-            _feed(h, item)
-        h.update(b")")
-    elif isinstance(obj, dict):
-        h.update(b"{" + str(len(obj)).encode() + b":")
-        for key, value in obj.items():
-            _feed(h, key)
-            _feed(h, value)
-        h.update(b"}")
-    elif dataclasses.is_dataclass(obj) and not isinstance(obj, type):
-        h.update(b"<" + type(obj).__qualname__.encode() + b">")
-        for f in dataclasses.fields(obj):
-            h.update(f.name.encode() + b"=")
-            _feed(h, getattr(obj, f.name))
-    else:
-        raise TypeError(f"expected plain data to digest, got {type(obj).__qualname__}")
+class _Digest:
+    """What the pickler writes to: the SHA-256 of every byte."""
+
+    def __init__(self) -> None:
+        self.sha256 = hashlib.sha256(b"pickle-5:")
+
+    def write(self, data: bytes) -> int:
+        self.sha256.update(data)
+        return len(data)
 
 
 def stable_digest(obj: object) -> str:
     """The SHA-256 of ``obj`` read as plain data (hexadecimal)."""
+    sink = _Digest()
+    pickler = pickle.Pickler(sink, protocol=5)
+    pickler.fast = True  # no memo: the bytes do not depend on which equal objects are one object
     try:
-        text = repr(obj)
-    except ValueError:  # an integer past the interpreter's limit for decimal text
-        h = hashlib.sha256(b"long:")
-        _feed(h, obj)
-        return h.hexdigest()
-    return hashlib.sha256(b"repr:" + text.encode("utf-8", "surrogatepass")).hexdigest()
+        pickler.dump(obj)
+    except (pickle.PicklingError, AttributeError) as exc:
+        raise TypeError(f"expected plain data to digest, got data pickle cannot write: {exc}") from None
+    return sink.sha256.hexdigest()
