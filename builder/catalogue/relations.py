@@ -19,7 +19,7 @@ from collections.abc import Collection, Iterator
 from dataclasses import dataclass, field
 from math import gcd
 
-from builder.arith.dynamics import AffineMap, canonical_index, shortcut_form
+from builder.arith.dynamics import AffineMap, shortcut_form
 from builder.arith.words import rotation_key
 from builder.catalogue.model import Catalogue, Cycle, MapEntry
 
@@ -82,6 +82,12 @@ class Relations:
         return len(group) - 1 if group else 0
 
 
+def negated_canonical(members: Collection[int], canonical: int) -> int:
+    """The canonical member (least |n|, positive on a tie) of the cycle of negated ``members``, whose own is
+    ``canonical``: -canonical, or canonical itself when it and its negation are both members (a tie it won)."""
+    return canonical if canonical > 0 and -canonical in members else -canonical
+
+
 def _all_cycles(catalogue: Catalogue) -> Iterator[tuple[MapEntry, Cycle]]:
     for map_id, cycles in catalogue.cycles.items():
         entry = catalogue.maps[map_id]
@@ -118,9 +124,7 @@ def find_relations(catalogue: Catalogue) -> Relations:
             continue
         rel.mirror_map[map_id] = mirror_id
         for cycle in catalogue.cycles.get(map_id, ()):
-            negated = tuple(-n for n in cycle.members)
-            canonical = negated[canonical_index(negated)]
-            twin = by_canonical.get((mirror_id, canonical))
+            twin = by_canonical.get((mirror_id, negated_canonical(cycle.members, cycle.canonical)))
             if twin is not None and (mirror_id, twin.id) != (map_id, cycle.id):
                 rel.mirror[key_of[(map_id, cycle.id)]] = key_of[(mirror_id, twin.id)]
 

@@ -1,8 +1,10 @@
-"""builder.catalogue.relations.Relations.same_word: the first cycles of other maps with the same word.
+"""builder.catalogue.relations: the first cycles of other maps with the same word, and the mirror's canonical member.
 
-The rule checked (common practice, no source): one map has one cycle per word (the cycle equation
+The rules checked (common practice, no source): one map has one cycle per word (the cycle equation
 fixes the start from the word), so a word's group holds at most one cycle of each map, and taking
-the group's head instead of filtering all of it gives the same cycles.
+the group's head instead of filtering all of it gives the same cycles; and the canonical member of
+the negated cycle (least |n|, the positive one on a tie) follows from the cycle's own without
+negating every member.
 """
 
 from __future__ import annotations
@@ -10,7 +12,8 @@ from __future__ import annotations
 from hypothesis import given
 from hypothesis import strategies as st
 
-from builder.catalogue.relations import Relations
+from builder.arith.dynamics import canonical_index
+from builder.catalogue.relations import Relations, negated_canonical
 
 
 @given(
@@ -26,3 +29,10 @@ def test_the_head_of_a_group_gives_the_first_cycles_of_other_maps(maps: list[int
     whole = [k for k in group if k[0] != key[0] and k not in leaving][:first]
     assert rel.same_word(key, first, leaving) == whole
     assert rel.same_word(("map-none", "c"), first) == []  # a cycle whose word no other map shares
+
+
+@given(st.lists(st.integers(-50, 50), min_size=1, max_size=12, unique=True))
+def test_the_negated_cycles_canonical_member_is_read_from_the_cycles_own(members: list[int]) -> None:
+    negated = [-n for n in members]
+    own = members[canonical_index(members)]
+    assert negated_canonical(members, own) == negated[canonical_index(negated)]
