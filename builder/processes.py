@@ -21,9 +21,10 @@ from collections.abc import Callable, Iterator, Sequence
 from contextlib import contextmanager
 from functools import partial
 from multiprocessing.connection import Connection
-from typing import Any, TypeVar
+from typing import Any, Generic, TypeVar
 
 __all__ = [
+    "Background",
     "WorkerStopped",
     "can_fork",
     "default_jobs",
@@ -91,6 +92,49 @@ def return_free_memory() -> None:
 class WorkerStopped(Exception):
     """A worker process ended without finishing its share: stopped by a signal or by an exception that is
     not an Exception (KeyboardInterrupt, SystemExit), or gone without a word (killed, out of memory)."""
+
+
+class Background(Generic[R]):
+    """``run()`` done in a forked process while this one goes on (where fork is missing, in this one when
+    its result is asked for); :meth:`result` waits for it, :meth:`stop` ends it unasked.
+
+    The process is forked when this is made: what it reads is what this process holds then."""
+
+    def __init__(self, run: Callable[[], R]) -> None:
+        self._run: Callable[[], R] | None = None
+        self._pid: int | None = None
+        if not can_fork():
+            self._run = run
+            return
+        receive, send = multiprocessing.get_context("fork").Pipe(duplex=False)
+        pid = os.fork()
+        if pid == 0:
+            _work(receive, send, partial(next, iter((0,)), None), lambda _: run())
+        send.close()
+        self._pid, self._receive = pid, receive
+
+    def result(self) -> R:
+        """What ``run()`` returned; what it raised is raised here (WorkerStopped if its process was stopped)."""
+        if self._pid is None:
+            assert self._run is not None, "a result is asked for once"
+            run, self._run = self._run, None
+            return run()
+        try:
+            return _results_of(self._receive)[0]  # type: ignore[no-any-return]
+        finally:
+            self.stop()
+
+    def stop(self) -> None:
+        """End the process if it is still running (its work is not needed), and reap it."""
+        self._run = None
+        if self._pid is None:
+            return
+        pid, self._pid = self._pid, None
+        self._receive.close()
+        with contextlib.suppress(OSError):
+            os.kill(pid, signal.SIGKILL)  # done by now, unless its work is abandoned
+        with contextlib.suppress(ChildProcessError):
+            os.waitpid(pid, 0)
 
 
 def segments(order: Sequence[int], jobs: int, cost: Callable[[int], int], head: int = 0) -> list[list[int]]:

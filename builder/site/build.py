@@ -6,7 +6,7 @@ renameat2 RENAME_EXCHANGE where available, else two renames in quick
 succession, between which the target is briefly absent but never partial).
 If verification fails nothing is written; if the build is killed, the old
 site is untouched and the half-written folder is removed by the next build.
-Builds into one folder take turns: each writes while holding an exclusive lock
+Builds into one folder take turns: each verifies and writes while holding an exclusive lock
 (``.<name>.lock`` beside the folder), so none removes another's staging folder.
 """
 
@@ -20,7 +20,7 @@ import shutil
 import tempfile
 from collections.abc import Iterator
 from contextlib import contextmanager
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from builder.catalogue.cache import VerifyCache
@@ -30,6 +30,7 @@ from builder.errors import UsageError
 from builder.history.changelog import Changelog, Edition, read_changelog
 from builder.history.repo import NoHistory, RepoHistory, read_history
 from builder.processes import no_cycle_collection
+from builder.site.manifest import HeadStart
 from builder.site.render import MARKER, default_jobs, render_site
 from builder.site.views import SiteViews, build_views
 
@@ -47,6 +48,7 @@ class BuildResult:
     edition: Edition | None = None
     changelog: Changelog | None = None
     history: RepoHistory | NoHistory | None = None
+    views: SiteViews | None = field(default=None, repr=False)  # while the build writes the site
 
 
 def _check_target(out: Path) -> None:
@@ -181,6 +183,33 @@ def build_site(
     _check_target(out)
     _check_place(out)
     jobs = jobs if jobs is not None else default_jobs()
+    out = out.absolute()
+    if reuse and (out / MARKER).is_file():
+        # A site to replace: its files are linked into the staging folder while the catalogue is verified,
+        # which the lock covers too (no other build may replace the site meanwhile).
+        with _lock(out, wait):
+            _check_target(out)
+            with _staged(out, reuse, jobs) as staged:
+                result = _verified(catalogue, limits, base_url, jobs, cache)
+                if result.views is None:
+                    return result
+                pages = _write(result.views, out, staged, jobs, remove_later)
+    else:  # nothing to take from: nothing is made (not even the lock beside the folder) unless it verifies
+        result = _verified(catalogue, limits, base_url, jobs, cache)
+        if result.views is None:
+            return result
+        with _lock(out, wait):
+            _check_target(out)  # another build may have written it while this one waited
+            with _staged(out, reuse, 1) as staged:
+                pages = _write(result.views, out, staged, jobs, remove_later)
+    return replace(result, pages=len(pages), views=None)
+
+
+def _verified(
+    catalogue: Path, limits: Limits | None, base_url: str | None, jobs: int, cache: VerifyCache | None
+) -> BuildResult:
+    """The result of the build so far: the report, and with it the site's views of the verified catalogue
+    (pages 0, ``views`` None when it does not verify)."""
     with no_cycle_collection():  # the model and the site's records: millions of objects, and no cycles
         report = verify_catalogue(catalogue, limits or Limits(), cache, jobs)
         if not report.ok:
@@ -192,11 +221,30 @@ def build_site(
         # The entries as written serve comparisons (the changelog, done now); the pages read the model.
         report = replace(report, written={})
         views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)
-    out = out.absolute()
-    with _lock(out, wait):
-        _check_target(out)  # another build may have written it while this one waited
-        pages = _write(views, out, jobs, reuse, remove_later)
-    return BuildResult(report, len(pages), edition, changelog, history)
+    return BuildResult(report, 0, edition, changelog, history, views)
+
+
+@dataclass(slots=True)
+class _Staged:
+    """The staging folder of a build, what it takes from the site it replaces, and whether it was swapped in."""
+
+    folder: Path
+    head: HeadStart
+    swapped: bool = False
+
+
+@contextmanager
+def _staged(out: Path, reuse: bool, jobs: int) -> Iterator[_Staged]:
+    """A staging folder beside ``out`` (the lock held), removed unless the build swaps it in; with ``reuse``,
+    the files of the site in ``out`` are linked into it ahead of the pages (in a forked process if ``jobs`` > 1)."""
+    folder = _staging(out)
+    staged = _Staged(folder, HeadStart(folder, out if reuse and (out / MARKER).is_file() else None, jobs))
+    try:
+        yield staged
+    finally:
+        staged.head.stop()
+        if not staged.swapped:
+            shutil.rmtree(folder, ignore_errors=True)
 
 
 def _remove(folder: Path, later: bool) -> None:
@@ -220,28 +268,26 @@ def _remove(folder: Path, later: bool) -> None:
     os.waitpid(child, 0)
 
 
-def _write(views: SiteViews, out: Path, jobs: int, reuse: bool, remove_later: bool) -> list[str]:
-    """Write the site into a staging folder beside ``out`` and swap it in; return the pages written."""
-    staging = _staging(out)
-    try:
-        previous = out if reuse and (out / MARKER).is_file() else None
-        pages = render_site(views, staging, jobs, previous)
-        os.chmod(staging, 0o755)  # mkdtemp makes it private; a site is for reading
-        if not out.exists():
+def _write(views: SiteViews, out: Path, staged: _Staged, jobs: int, remove_later: bool) -> list[str]:
+    """Write the site into the staging folder beside ``out`` and swap it in; return the pages written."""
+    staging = staged.folder
+    pages = render_site(views, staging, jobs, staged.head)
+    os.chmod(staging, 0o755)  # mkdtemp makes it private; a site is for reading
+    if not out.exists():
+        staging.rename(out)
+        staged.swapped = True
+    elif _exchange(staging, out):
+        staged.swapped = True
+        _remove(staging, remove_later)  # now holds the old site
+    else:
+        retired = Path(tempfile.mkdtemp(prefix=_RETIRED.format(out.name), dir=out.parent))
+        retired.rmdir()
+        out.rename(retired)
+        try:
             staging.rename(out)
-        elif _exchange(staging, out):
-            _remove(staging, remove_later)  # now holds the old site
-        else:
-            retired = Path(tempfile.mkdtemp(prefix=_RETIRED.format(out.name), dir=out.parent))
-            retired.rmdir()
-            out.rename(retired)
-            try:
-                staging.rename(out)
-            except BaseException:
-                retired.rename(out)  # put the previous site back before giving up
-                raise
-            _remove(retired, remove_later)
-    except BaseException:
-        shutil.rmtree(staging, ignore_errors=True)
-        raise
+        except BaseException:
+            retired.rename(out)  # put the previous site back before giving up
+            raise
+        staged.swapped = True
+        _remove(retired, remove_later)
     return pages

@@ -35,15 +35,13 @@ import contextlib
 import functools
 import gc
 import hashlib
-import json
 import os
 import shutil
-import stat
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, replace
 from importlib import resources
 from pathlib import Path
-from typing import Any, BinaryIO
+from typing import BinaryIO
 
 import jinja2
 from markupsafe import Markup
@@ -53,12 +51,25 @@ from builder.processes import WorkerStopped, default_jobs, return_free_memory, s
 from builder.site.digest import stable_digest
 from builder.site.exports import (
     MapPieces,
-    Spans,
     atom_feed,
     map_json,
     search_files,
     sitemap_files,
     write_record_exports,
+)
+from builder.site.manifest import (
+    CATALOGUE_JSON,
+    CYCLES_CSV,
+    MANIFEST,
+    Done,
+    HeadStart,
+    Previous,
+    Record,
+    inside,
+    manifest_text,
+    open_folder,
+    remove_empty_folders,
+    remove_files,
 )
 from builder.site.metadata import citation_cff, robots_txt
 from builder.site.pages import NAV, Unit, index_pages
@@ -69,14 +80,8 @@ __all__ = ["MANIFEST", "MARKER", "Writer", "default_jobs", "render_site", "templ
 
 #: Written at the top of every built site, so a later build knows the folder is its own to replace.
 MARKER = ".periplus-site"
-#: What each task of the build wrote, with the digest of its inputs, for the next build.
-MANIFEST = ".periplus-build.json"
-_MANIFEST_FORMAT = "periplus-build/1"
 _SEARCH = "export:search"  # the task that writes the search index
 _RECORD = "export:record"  # the task that writes the whole-record exports, in a clean build
-_CATALOGUE, _TABLE = "data/catalogue.json", "data/cycles.csv"
-#: Where each map's pieces lie in data/catalogue.json and data/cycles.csv, and those files' SHA-256.
-_Record = tuple[dict[str, Spans], tuple[str, str]]
 
 
 def template_dir() -> Path:
@@ -106,13 +111,8 @@ def _environment() -> jinja2.Environment:
     return env
 
 
-def _inside(relative: str) -> bool:
-    """Whether ``relative`` is a relative POSIX path with no empty, "." or ".." part: one that stays inside."""
-    parts = relative.split("/")
-    return not (relative.startswith("/") or "\\" in relative or any(p in ("", ".", "..") for p in parts))
-
-
-_NEW_FILE = os.O_WRONLY | os.O_CREAT | os.O_TRUNC | getattr(os, "O_CLOEXEC", 0)
+# Every file is made new (O_EXCL): never written through a link to a file of the site being replaced.
+_NEW_FILE = os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_CLOEXEC", 0)
 
 
 class Writer:
@@ -125,10 +125,10 @@ class Writer:
     def __init__(self, out: Path, folder: int | None = None) -> None:
         self.out = out.resolve()
         self._own = folder is None
-        self.fd = _open_folder(self.out) if folder is None else folder
+        self.fd = open_folder(self.out) if folder is None else folder
         self._folders: set[str] = set()
         self.files: list[str] = []  # every file written, in order
-        self.record: _Record | None = None  # set by the task that writes the whole-record exports
+        self.record: Record | None = None  # set by the task that writes the whole-record exports
 
     def close(self) -> None:
         if self._own and self.fd >= 0:
@@ -144,7 +144,7 @@ class Writer:
     def _target(self, relative: str) -> str:
         # Addresses are built from validated ids; this is the second line of defence, done on the text
         # (no resolve() per file): a relative POSIX path with no empty, "." or ".." part.
-        if not _inside(relative):
+        if not inside(relative):
             raise AssertionError(f"refusing to write outside the site: {relative!r}")
         folder = relative.rpartition("/")[0]
         if folder and folder not in self._folders:
@@ -158,21 +158,15 @@ class Writer:
         self.files.append(relative)
         return relative
 
-    def link(self, relative: str, source: int) -> None:
-        """Put the file ``relative`` of the site this build replaces (whose folder ``source`` is open) at
-        ``relative``, as a hard link.
-
-        Only a regular file is linked (never what a symbolic link put there points to); anything else
-        is an OSError, and the caller writes the file instead."""
-        if not stat.S_ISREG(os.lstat(relative, dir_fd=source).st_mode):
-            raise OSError(f"{relative}: expected a regular file")
-        target = self._target(relative)
-        os.link(relative, target, src_dir_fd=source, dst_dir_fd=self.fd, follow_symlinks=False)
-
     def text(self, relative: str, text: str) -> None:
         # Unbuffered, from bytes encoded at once: a text file object per page costs more than the write.
         data = text.encode("utf-8")
-        fd = os.open(self._target(relative), _NEW_FILE, 0o666, dir_fd=self.fd)
+        target = self._target(relative)
+        try:
+            fd = os.open(target, _NEW_FILE, 0o666, dir_fd=self.fd)
+        except FileExistsError:  # a file taken from the previous site: replaced, not written through
+            os.unlink(target, dir_fd=self.fd)
+            fd = os.open(target, _NEW_FILE, 0o666, dir_fd=self.fd)
         try:
             view = memoryview(data)
             while view:
@@ -181,12 +175,11 @@ class Writer:
             os.close(fd)
 
     def path(self, relative: str) -> str:
-        """Where to write the file ``relative`` (its folder made, the address checked)."""
-        return os.path.join(self.out, self._target(relative))
-
-
-def _open_folder(path: Path) -> int:
-    return os.open(path, os.O_RDONLY | getattr(os, "O_DIRECTORY", 0) | getattr(os, "O_CLOEXEC", 0))
+        """Where to write the file ``relative`` (its folder made, the address checked, no file there)."""
+        target = self._target(relative)
+        with contextlib.suppress(FileNotFoundError):
+            os.unlink(target, dir_fd=self.fd)
+        return os.path.join(self.out, target)
 
 
 @dataclass(frozen=True, slots=True)
@@ -200,50 +193,6 @@ class _Task:
     @property
     def reads_all(self) -> bool:
         return self.map_id is None
-
-
-@dataclass(frozen=True, slots=True)
-class _Done:
-    """What a task left: its digest (None without known inputs), its pages and every file it wrote."""
-
-    digest: str | None
-    pages: list[PageInfo]
-    files: list[str]
-    reused: bool = False  # linked from the previous site, not made again
-    record: _Record | None = None  # the whole-record exports' layout, from the task that wrote them
-
-
-@dataclass(frozen=True, slots=True)
-class _Previous:
-    """The site a build replaces, as its manifest describes it."""
-
-    root: Path
-    tasks: dict[str, _Done]
-    record: _Record | None = None  # the layout of its whole-record exports (None: unknown)
-
-    def pieces(self) -> Callable[[str], MapPieces | None]:
-        """The pieces of a map as the previous site's exports hold them; None where they cannot be had."""
-        assert self.record is not None
-        spans, digests = self.record
-        files = [self.root / _CATALOGUE, self.root / _TABLE]
-        try:
-            if not all(f.is_file() and not f.is_symlink() for f in files):
-                return lambda map_id: None
-            catalogue, table = (f.read_bytes() for f in files)
-        except OSError:
-            return lambda map_id: None
-        if tuple(hashlib.sha256(data).hexdigest() for data in (catalogue, table)) != digests:
-            return lambda map_id: None  # not the files the manifest describes: made afresh
-
-        def kept(map_id: str) -> MapPieces | None:
-            at = spans.get(map_id)
-            if at is None or not (at[0] <= at[1] <= len(catalogue) and at[2] <= at[3] <= len(catalogue)):
-                return None
-            if not at[4] <= at[5] <= len(table):
-                return None
-            return MapPieces(catalogue[at[0] : at[1]], catalogue[at[2] : at[3]], table[at[4] : at[5]])
-
-        return kept
 
 
 def _source_digest() -> str:
@@ -274,55 +223,6 @@ def _common_inputs(views: SiteViews) -> str:
 
 def _digest(common: str, inputs: object) -> str:
     return stable_digest((common, inputs))
-
-
-def _read_previous(site: Path | None) -> _Previous | None:
-    """The manifest of the site a build replaces; None when there is none or it cannot be read."""
-    if site is None:
-        return None
-    try:
-        data = json.loads((site / MANIFEST).read_text(encoding="utf-8"))
-        if data.get("format") != _MANIFEST_FORMAT:
-            return None
-        tasks = {
-            name: _Done(entry["digest"], [PageInfo(*page) for page in entry["pages"]], list(entry["files"]))
-            for name, entry in data["tasks"].items()
-        }
-        record = _record_of(data.get("record"))
-    except (OSError, ValueError, KeyError, TypeError, IndexError):
-        return None
-    if not all(isinstance(f, str) and _inside(f) for done in tasks.values() for f in done.files):
-        return None  # not a manifest this tool wrote
-    return _Previous(site, tasks, record)
-
-
-def _record_of(data: Any) -> _Record | None:
-    """The layout of the whole-record exports as a manifest gives it; None if it gives none."""
-    if data is None:
-        return None
-    spans: dict[str, Spans] = {}
-    for map_id, at in data["spans"].items():
-        if len(at) != 6 or not all(isinstance(n, int) and n >= 0 for n in at):
-            return None
-        spans[str(map_id)] = (at[0], at[1], at[2], at[3], at[4], at[5])
-    whole, rows = data["sha256"]
-    return spans, (str(whole), str(rows))
-
-
-def _manifest(names: list[str], done: list[_Done], record: _Record) -> str:
-    tasks = {
-        name: {"digest": d.digest, "pages": [list(_page_row(p)) for p in d.pages], "files": d.files}
-        for name, d in zip(names, done, strict=True)
-        if d.digest is not None
-    }
-    spans, digests = record
-    layout = {"sha256": list(digests), "spans": {k: list(v) for k, v in spans.items()}}
-    whole = {"format": _MANIFEST_FORMAT, "tasks": tasks, "record": layout}
-    return json.dumps(whole, sort_keys=True, separators=(",", ":")) + "\n"
-
-
-def _page_row(p: PageInfo) -> tuple[str, str, bool, bool]:
-    return (p.path, p.title, p.listed, p.in_site_map)
 
 
 def _render(views: SiteViews, writer: Writer, env: jinja2.Environment, pages: Iterable[Page]) -> list[PageInfo]:
@@ -358,9 +258,9 @@ def _unit_pages(unit: Unit) -> Callable[[SiteViews, Writer, jinja2.Environment],
     return run
 
 
-def _write_record(views: SiteViews, writer: Writer, kept: Callable[[str], MapPieces | None]) -> _Record:
+def _write_record(views: SiteViews, writer: Writer, kept: Callable[[str], MapPieces | None]) -> Record:
     """data/catalogue.json and data/cycles.csv, with the pieces ``kept`` gives; their layout."""
-    with open(writer.path(_CATALOGUE), "wb") as catalogue, open(writer.path(_TABLE), "wb") as table:
+    with open(writer.path(CATALOGUE_JSON), "wb") as catalogue, open(writer.path(CYCLES_CSV), "wb") as table:
         sinks = _Hashed(catalogue), _Hashed(table)
         spans = write_record_exports(views, *sinks, kept)
         return spans, (sinks[0].sha256.hexdigest(), sinks[1].sha256.hexdigest())
@@ -398,58 +298,64 @@ def _search_inputs(views: SiteViews) -> object:
 
 @dataclass(frozen=True, slots=True)
 class _Folders:
-    """The folder being written and that of the site it replaces (None: no such site), held open."""
+    """The folder being written, held open."""
 
     out: Path
     fd: int
-    previous: int | None
 
 
 def _perform(
-    task: _Task, views: SiteViews, at: _Folders, env: jinja2.Environment, common: str, previous: _Previous | None
-) -> _Done:
-    """Run one task, or reuse its files from the previous site when its inputs are the same."""
+    task: _Task,
+    views: SiteViews,
+    at: _Folders,
+    env: jinja2.Environment,
+    common: str,
+    previous: Previous | None,
+    linked: frozenset[str],
+) -> Done:
+    """Run one task, or keep its files taken from the previous site when its inputs are the same."""
     digest = None if task.inputs is None else _digest(common, task.inputs(views))
-    before = previous.tasks.get(task.name) if previous is not None else None
-    if digest is not None and before is not None and before.digest == digest and at.previous is not None:
-        writer = Writer(at.out, at.fd)
-        try:
-            for relative in before.files:
-                writer.link(relative, at.previous)
-            return _Done(digest, before.pages, before.files, reused=True)
-        except OSError:  # a file gone or another file system: write them after all
-            for relative in writer.files:
-                with contextlib.suppress(FileNotFoundError):
-                    os.unlink(relative, dir_fd=at.fd)
+    if previous is not None and task.name in linked:
+        before = previous.tasks[task.name]
+        if digest is not None and before.digest == digest:
+            return Done(digest, before.pages, before.files, reused=True)
+        remove_files(at.fd, before.files)  # made again: the files it made before are not all made now
     writer = Writer(at.out, at.fd)
     pages = task.run(views, writer, env)
-    return _Done(digest, pages, writer.files, record=writer.record)
+    return Done(digest, pages, writer.files, record=writer.record)
 
 
-def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, previous: _Previous | None) -> list[_Done]:
+def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, head: HeadStart | None) -> list[Done]:
     """Run every task, in ``jobs`` processes (this one and forked workers); what each left, in task order."""
-    with contextlib.ExitStack() as held:
-        fd = _open_folder(out)
-        held.callback(os.close, fd)
-        before = None
+    fd = open_folder(out)
+    try:
+        previous = head.previous if head is not None else None
+        linked = head.linked() if head is not None else frozenset()
         if previous is not None:
-            with contextlib.suppress(OSError):  # gone, or not a folder: every task is made
-                before = _open_folder(previous.root)
-                held.callback(os.close, before)
-        return _share_tasks(views, tasks, _Folders(out, fd, before), jobs, previous)
+            # The files of the tasks this build does not have (a map removed) are not part of it.
+            names = {task.name for task in tasks}
+            remove_files(fd, (f for name in linked - names for f in previous.tasks[name].files))
+        done = _share_tasks(views, tasks, _Folders(out, fd), jobs, previous, linked)
+        if previous is not None:
+            # Folders that held only files taken from the previous site and made no more.
+            names = {task.name for task, d in zip(tasks, done, strict=True) if d.reused}
+            remove_empty_folders(fd, (f for name in linked - names for f in previous.tasks[name].files))
+        return done
+    finally:
+        os.close(fd)
 
 
 def _share_tasks(
-    views: SiteViews, tasks: list[_Task], at: _Folders, jobs: int, previous: _Previous | None
-) -> list[_Done]:
+    views: SiteViews, tasks: list[_Task], at: _Folders, jobs: int, previous: Previous | None, linked: frozenset[str]
+) -> list[Done]:
     common = _common_inputs(views)
     # Every template compiled once, here, before the workers are forked: they inherit the compiled code.
     env = _environment()
     for name in env.list_templates(filter_func=lambda name: name.endswith(".html")):
         env.get_template(name)
 
-    def run(i: int) -> _Done:
-        return _perform(tasks[i], views, at, env, common, previous)
+    def run(i: int) -> Done:
+        return _perform(tasks[i], views, at, env, common, previous, linked)
 
     # A map's pages read its own records, made together in catalogue order: the maps are shared out in
     # runs of neighbours, so that each process reads (and a worker copies) its own part of the record;
@@ -476,33 +382,33 @@ def _share_tasks(
         reused = {tasks[i].map_id for i in maps if done[i].reused}
         writer = Writer(at.out, at.fd)
         layout = _write_record(views, writer, lambda map_id: kept(map_id) if map_id in reused else None)
-        done[record] = _Done(None, [], writer.files, record=layout)
+        done[record] = Done(None, [], writer.files, record=layout)
     return [done[i] for i in range(len(tasks))]
 
 
-def render_site(views: SiteViews, out: Path, jobs: int = 1, previous: Path | None = None) -> list[str]:
+def render_site(views: SiteViews, out: Path, jobs: int = 1, head: HeadStart | None = None) -> list[str]:
     """Write every page, export and asset into ``out`` (an empty folder, made if missing), in ``jobs`` processes;
-    return the pages written.  ``previous`` is the site this one replaces, if any: the files of the
-    tasks whose inputs did not change are taken from it."""
+    return the pages written.  ``head`` holds the site this one replaces, if any, and its files taken into
+    ``out``: the files of the tasks whose inputs did not change are kept from it."""
     out.mkdir(parents=True, exist_ok=True)
     # What exists now (the records) is left out of the collector's passes while the site is written:
     # it would otherwise traverse them again and again (rendering makes reference cycles, so it runs),
     # and in each worker touch, and so copy, every object the worker inherits.
     gc.freeze()
     try:
-        return _write_site(views, out, jobs, previous)
+        return _write_site(views, out, jobs, head)
     finally:
         gc.unfreeze()
 
 
-def _write_site(views: SiteViews, out: Path, jobs: int, previous: Path | None) -> list[str]:
+def _write_site(views: SiteViews, out: Path, jobs: int, head: HeadStart | None) -> list[str]:
     tasks = _tasks(views)
-    done = _run_tasks(views, tasks, out, jobs, _read_previous(previous))
+    done = _run_tasks(views, tasks, out, jobs, head)
     with Writer(out) as writer:
         return _write_rest(views, out, writer, tasks, done)
 
 
-def _write_rest(views: SiteViews, out: Path, writer: Writer, tasks: list[_Task], done: list[_Done]) -> list[str]:
+def _write_rest(views: SiteViews, out: Path, writer: Writer, tasks: list[_Task], done: list[Done]) -> list[str]:
     """The pages and files made from every other: the indexes, the site map, the feed, the assets, the manifest."""
     written = [info for d in done for info in d.pages]
     written += _render(views, writer, _environment(), index_pages(views.site, written))
@@ -522,6 +428,6 @@ def _write_rest(views: SiteViews, out: Path, writer: Writer, tasks: list[_Task],
             (out / "static").mkdir(exist_ok=True)
             shutil.copyfile(asset, out / "static" / asset.name)
     layout = next(d.record for d in done if d.record is not None)
-    writer.text(MANIFEST, _manifest([t.name for t in tasks], done, layout))
+    writer.text(MANIFEST, manifest_text([t.name for t in tasks], done, layout))
     writer.text(MARKER, f"This folder was written by periplus {__version__}; periplus build replaces it whole.\n")
     return pages
