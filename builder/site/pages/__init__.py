@@ -7,20 +7,23 @@ navigation should link to it, a ``NavEntry``; then add the module's name to ``MO
 Pages are not made all at once: the site is cut into units (``page_units``), each a function that
 makes a few pages from the shared ``SiteContext`` when it is rendered, so a build holds one unit's
 pages at a time and can hand units to worker processes.  The kinds made per map form one unit per
-map (the map's pages, then its cycles' pages); every kind made for the whole site is a unit of
-its own.  Kinds that list every page (the site map) are made last, from what was written.
+map (the map's pages, then its cycles' pages), and a big map's cycle pages are made in parts, each a
+unit of its own; every kind made for the whole site is a unit of its own.  Kinds that list every page (the site map) are made last, from what was written.
 """
 
 from __future__ import annotations
 
+import math
+import zlib
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from importlib import import_module
 
+from builder.catalogue.model import Cycle
 from builder.site.pages.common import NavEntry, Page, PageInfo, PageKind
 from builder.site.pages.context import SiteContext
 
-__all__ = ["KINDS", "MODULES", "NAV", "Unit", "index_pages", "page_units"]
+__all__ = ["CYCLES_PER_PART", "KINDS", "MODULES", "NAV", "Unit", "index_pages", "page_units"]
 
 #: The modules of the page kinds, in the order their pages are made: a new kind is one more name here.
 MODULES = (
@@ -51,33 +54,71 @@ KINDS: tuple[PageKind, ...] = tuple(_kind(name) for name in MODULES)
 NAV: tuple[NavEntry, ...] = tuple(sorted((k.nav for k in KINDS if k.nav is not None), key=lambda e: e.place))
 
 
+#: A map with more cycles than this has the pages of its kinds made per cycle made in parts of about this
+#: many cycles, each a unit: a note edited in a map of thousands of cycles makes one part's pages again,
+#: not the map's.  A cycle's part follows from a hash of its id and the number of parts (a power of two),
+#: so a cycle added or removed changes one part, until the map doubles in size or halves.
+CYCLES_PER_PART = 256
+
+
 @dataclass(frozen=True, slots=True)
 class Unit:
     """Some pages made together: ``make`` builds them from the site when the unit is rendered."""
 
-    name: str  # unique within a build: "map:<id>" or "site:<kind>"
+    name: str  # unique within a build: "map:<id>", "map:<id>:part-<n>" or "site:<kind>"
     cost: int  # a rough measure of its work (a cycle's page costs 1), to share units evenly among processes
     make: Callable[[SiteContext], Iterable[Page]]
     # What its pages are made from (None: unknown, so an incremental build always makes them).
     inputs: Callable[[SiteContext], object] | None = None
-    map_id: str | None = None  # for the unit of one map
+    map_id: str | None = None  # for the units of one map
+    part: int | None = None  # for a part of a big map's cycle pages; None for the map's own unit
 
 
-def _map_unit(kinds: tuple[PageKind, ...], map_id: str, cycles: int) -> Unit:
+def _map_units(kinds: tuple[PageKind, ...], map_id: str, cycles: Sequence[Cycle]) -> list[Unit]:
+    """The units of one map: one, or for a big map, one for its own pages and one per part of its cycles'.
+
+    The map's own unit reads the inputs of every kind for all its cycles even when it does not make
+    the pages of each: they are what its data file and its pieces of the exports are made from."""
+    if len(cycles) <= CYCLES_PER_PART:
+        return [_unit(f"map:{map_id}", kinds, kinds, map_id, cycles, None, 4 + len(cycles))]
+    whole = tuple(kind for kind in kinds if not kind.per_cycle)
+    per_cycle = tuple(kind for kind in kinds if kind.per_cycle)
+    units = [_unit(f"map:{map_id}", whole, kinds, map_id, cycles, None, 4 + len(cycles) // 8)]
+    count = 1 << math.ceil(math.log2(len(cycles) / CYCLES_PER_PART))
+    parts: list[list[Cycle]] = [[] for _ in range(count)]
+    for cycle in cycles:
+        parts[zlib.crc32(cycle.id.encode()) % count].append(cycle)
+    for n, part in enumerate(parts):
+        if part:
+            units.append(_unit(f"map:{map_id}:part-{n}", per_cycle, per_cycle, map_id, part, n, len(part)))
+    return units
+
+
+def _unit(
+    name: str,
+    kinds: tuple[PageKind, ...],
+    read: tuple[PageKind, ...],
+    map_id: str,
+    cycles: Sequence[Cycle],
+    part: int | None,
+    cost: int,
+) -> Unit:
+    """A unit that makes the pages of ``kinds`` for ``cycles`` of the map, from the inputs of the kinds ``read``."""
+
     def make(site: SiteContext) -> Iterator[Page]:
         for kind in kinds:  # made one at a time as they are rendered: one page's text is held at once
             assert kind.map_pages is not None
-            yield from kind.map_pages(site, map_id)
+            yield from kind.map_pages(site, map_id, cycles)
 
     def inputs(site: SiteContext) -> object:
         parts = []
-        for kind in kinds:
+        for kind in read:
             assert kind.map_inputs is not None
-            parts.append(kind.map_inputs(site, map_id))
+            parts.append(kind.map_inputs(site, map_id, cycles))
         return parts
 
-    known = all(kind.map_inputs is not None for kind in kinds)
-    return Unit(f"map:{map_id}", 4 + cycles, make, inputs if known else None, map_id)
+    known = all(kind.map_inputs is not None for kind in read)
+    return Unit(name, cost, make, inputs if known else None, map_id, part)
 
 
 def _site_unit(kind: PageKind, cycles: int) -> Unit:
@@ -88,7 +129,7 @@ def _site_unit(kind: PageKind, cycles: int) -> Unit:
 def page_units(site: SiteContext) -> list[Unit]:
     """Every unit of pages of the site: one per map, then one per kind made for the whole site."""
     per_map = tuple(k for k in KINDS if k.map_pages is not None)
-    units = [_map_unit(per_map, map_id, len(site.cat.cycles.get(map_id, ()))) for map_id in site.cat.maps]
+    units = [unit for map_id in site.cat.maps for unit in _map_units(per_map, map_id, site.cat.cycles.get(map_id, ()))]
     units += [_site_unit(k, len(site.records)) for k in KINDS if k.site_pages is not None]
     return units
 

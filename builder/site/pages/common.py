@@ -12,6 +12,7 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:
+    from builder.catalogue.model import Cycle
     from builder.site.pages.context import SiteContext
 
 __all__ = [
@@ -125,11 +126,12 @@ class NavEntry:
 
 #: Makes a kind's pages for the whole site.
 SitePages = Callable[["SiteContext"], Iterable[Page]]
-#: Makes a kind's pages for one map, given its id, one at a time (a map may have thousands of cycle pages).
-MapPages = Callable[["SiteContext", str], Iterable[Page]]
-#: What a kind's pages for one map are made from, as plain data (builder.site.digest reads it): an
-#: incremental build renders the map's pages again only when this changes (builder.site.render).
-MapInputs = Callable[["SiteContext", str], object]
+#: Makes a kind's pages for one map, given its id and its cycles whose pages are wanted (all of them, or
+#: for a kind ``per_cycle``, a part of a big map's), one at a time (a map may have thousands of cycle pages).
+MapPages = Callable[["SiteContext", str, Sequence["Cycle"]], Iterable[Page]]
+#: What a kind's pages for one map (and those cycles) are made from, as plain data (builder.site.digest
+#: reads it): an incremental build renders them again only when this changes (builder.site.render).
+MapInputs = Callable[["SiteContext", str, Sequence["Cycle"]], object]
 #: The same for a kind made for the whole site.
 SiteInputs = Callable[["SiteContext"], object]
 #: Makes a kind's pages once every other page is written, given what was written (the site map).
@@ -154,6 +156,9 @@ class PageKind:
     # For a kind made for the whole site: the time its pages take, per cycle of the record, as a share of
     # the time of one cycle's page (to share the work evenly among processes; a rough guess does).
     cost_per_cycle: float = 0.002
+    # For a kind made per map: one page per cycle, so a big map's pages of this kind are made in parts
+    # (builder.site.pages.page_units), each given some of its cycles; the other kinds are given all.
+    per_cycle: bool = False
 
     def __post_init__(self) -> None:
         ways = (self.site_pages, self.map_pages, self.index_pages)

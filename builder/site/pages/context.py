@@ -8,7 +8,7 @@ page says of the entry's history.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable, Mapping
+from collections.abc import Callable, Hashable, Iterable, Mapping
 from dataclasses import dataclass
 from typing import TypeVar
 
@@ -183,15 +183,15 @@ class SiteContext:
         self.records = records
         self.cycles: dict[tuple[str, str], Cycle] = {key: r.cycle for key, r in records.items()}
         self.map_order = sorted(catalogue.maps, key=lambda map_id: _display_order(catalogue.maps[map_id]))
-        self._of_map: dict[str, tuple[str, object]] = {}
+        self._made: dict[str, tuple[Hashable, object]] = {}
         self._links: dict[tuple[str, str], Link] = {}
 
-    def of_map(self, name: str, map_id: str, make: Callable[[], T]) -> T:
-        """``make()``, made once for the map at hand: a map's unit reads some pieces twice (for the digest
-        of its inputs, then for its pages), and only the latest map's are kept."""
-        kept = self._of_map.get(name)
-        if kept is None or kept[0] != map_id:
-            kept = self._of_map[name] = (map_id, make())
+    def made_once(self, name: str, key: Hashable, make: Callable[[], T]) -> T:
+        """``make()``, made once for the unit at hand (``key`` tells units apart): a unit reads some pieces
+        twice (for the digest of its inputs, then for its pages), and only the latest unit's are kept."""
+        kept = self._made.get(name)
+        if kept is None or kept[0] != key:
+            kept = self._made[name] = (key, make())
         return kept[1]  # type: ignore[return-value]
 
     def cycle_link(self, key: tuple[str, str], note: str = "") -> Link:

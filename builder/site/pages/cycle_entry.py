@@ -9,7 +9,7 @@ from __future__ import annotations
 import operator
 import posixpath
 import re
-from collections.abc import Iterator
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, fields
 
 from markupsafe import Markup
@@ -149,13 +149,14 @@ def _related(site: SiteContext, kin: _Kin | None, length: int) -> list[RelatedGr
     return related
 
 
-def _kin_of_map(site: SiteContext, map_id: str) -> dict[str, _Kin | None]:
-    """The related cycles of each cycle of the map, as keys (made once for its pages and the digest of their inputs)."""
+def _kin_of(site: SiteContext, map_id: str, cycles: Sequence[Cycle]) -> dict[str, _Kin | None]:
+    """The related cycles of each of ``cycles`` of the map, as keys (made once for their pages and the
+    digest of their inputs)."""
 
     def make() -> dict[str, _Kin | None]:
-        return {c.id: _kin(site, (map_id, c.id)) for c in site.cat.cycles.get(map_id, ())}
+        return {c.id: _kin(site, (map_id, c.id)) for c in cycles}
 
-    return site.of_map("kin", map_id, make)
+    return site.made_once("kin", (map_id, len(cycles), cycles[0].id if cycles else ""), make)
 
 
 def _citations(site: SiteContext, entry: MapEntry, cycle: Cycle, title: str, permalink: str) -> tuple[str, str]:
@@ -201,7 +202,7 @@ def _members(r: CycleRecord) -> dict[str, object]:
     }
 
 
-def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle) -> Page:
+def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle, kin: _Kin | None) -> Page:
     key = (entry.id, cycle.id)
     r = site.records[key]
     title = f"{entry.name}: cycle through {r.canonical}"
@@ -226,7 +227,7 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle) -> Page:
         "length_url": length_url(cycle.length),
         "notes": render_notes(cycle.provenance.notes),
         "references": site.reference_links(cycle.provenance.references),
-        "related": _related(site, _kin_of_map(site, entry.id)[cycle.id], cycle.length),
+        "related": _related(site, kin, cycle.length),
         "marks": site.marks(key),
         "cite": cite,
         "bibtex": bibtex,
@@ -237,16 +238,17 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle) -> Page:
     return Page(cycle_url(entry.id, cycle.id), "cycle.html", title, SECTION, context, crumbs, in_site_map=False)
 
 
-def cycle_pages(site: SiteContext, map_id: str) -> Iterator[Page]:
+def cycle_pages(site: SiteContext, map_id: str, cycles: Sequence[Cycle]) -> Iterator[Page]:
     entry = site.cat.maps[map_id]
-    return (cycle_page(site, entry, cycle) for cycle in site.cat.cycles.get(map_id, ()))
+    kin = _kin_of(site, map_id, cycles)
+    return (cycle_page(site, entry, cycle, kin[cycle.id]) for cycle in cycles)
 
 
 #: Every field of a cycle's provenance, read as one tuple (in C; as a dataclass, a digest reads it in Python).
 _provenance = operator.attrgetter(*(f.name for f in fields(Provenance)))
 
 
-def cycle_inputs(site: SiteContext, map_id: str) -> object:
+def cycle_inputs(site: SiteContext, map_id: str, cycles: Sequence[Cycle]) -> object:
     """What the map's cycle pages show: each entry as written and verified (the fingerprint fixes the
     map's definition and the members, word and equation), its history, relations and sources.
 
@@ -254,13 +256,13 @@ def cycle_inputs(site: SiteContext, map_id: str) -> object:
     what its link shows (its map's name and least member): the first cycles of a word that thousands
     of maps share are linked from most of their cycles."""
     out = []
-    kin_of = _kin_of_map(site, map_id)
+    kin_of = _kin_of(site, map_id, cycles)
     linked: dict[CycleKey, int] = {}
 
     def at(key: CycleKey) -> int:
         return linked.setdefault(key, len(linked))
 
-    for c in site.cat.cycles.get(map_id, ()):
+    for c in cycles:
         key = (map_id, c.id)
         kin = kin_of[c.id]
         related = None
@@ -288,4 +290,4 @@ def cycle_inputs(site: SiteContext, map_id: str) -> object:
     return (site.cat.maps[map_id].name, out, links)
 
 
-KIND = PageKind("cycle", map_pages=cycle_pages, map_inputs=cycle_inputs)
+KIND = PageKind("cycle", map_pages=cycle_pages, map_inputs=cycle_inputs, per_cycle=True)

@@ -6,13 +6,14 @@ beside the catalogued counts (builder.arith.odds).
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import replace
 
 from markupsafe import Markup
 
 from builder.arith.integers import to_decimal
 from builder.arith.odds import length_chances, modelled
-from builder.catalogue.model import MapEntry
+from builder.catalogue.model import Cycle, MapEntry
 from builder.catalogue.relations import qx_plus_d
 from builder.site.markdown import render_notes
 from builder.site.mathml import map_definition_mathml
@@ -65,7 +66,8 @@ def _table_pages(site: SiteContext, map_id: str) -> tuple[list[tuple[str, slice,
     return pages, by_length
 
 
-def map_pages(site: SiteContext, map_id: str) -> list[Page]:
+def map_pages(site: SiteContext, map_id: str, cycles: Sequence[Cycle]) -> list[Page]:
+    """The map's page and its table pages, which list all its cycles (``cycles`` are all of them)."""
     entry = site.cat.maps[map_id]
     record = site.maps[map_id]
     tables, by_length = _table_pages(site, map_id)
@@ -114,12 +116,12 @@ def map_pages(site: SiteContext, map_id: str) -> list[Page]:
     return pages
 
 
-def map_inputs(site: SiteContext, map_id: str) -> object:
+def map_inputs(site: SiteContext, map_id: str, cycles: Sequence[Cycle]) -> object:
     """What the map's pages and its table pages show: the entry, its history and mirror, the sources it
     cites, and for each cycle what its row shows (the fingerprint fixes the members, length and word)."""
     entry = site.cat.maps[map_id]
     mirror = site.maps[map_id].mirror_map
-    rows = [(c.id, c.fingerprint, site.marks((map_id, c.id))) for c in site.cat.cycles.get(map_id, ())]
+    rows = [(c.id, c.fingerprint, site.marks((map_id, c.id))) for c in cycles]
     return (
         replace(entry, path=entry.path.relative_to(site.cat.root)),  # where the catalogue lies is not shown
         site.maps[map_id].history,
