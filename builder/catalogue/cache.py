@@ -25,9 +25,11 @@ from __future__ import annotations
 
 import contextlib
 import hashlib
+import math
 import platform
 import sqlite3
 import time
+import zlib
 from collections.abc import Hashable, Iterator, Mapping
 from functools import cache
 from pathlib import Path
@@ -52,7 +54,7 @@ __all__ = [
 ]
 
 #: Bump when what verification decides or keeps changes (a message, a check, a model object's fields).
-CACHE_FORMAT = 2
+CACHE_FORMAT = 3
 #: The default cache folder's name, beside the catalogue folder.
 FOLDER_NAME = ".periplus-cache"
 DATABASE = "verify.sqlite3"
@@ -62,16 +64,20 @@ _KEEP_DAYS = 30
 _BUSY_SECONDS = 20.0
 #: Outcomes are written in batches of about this many bytes (memory stays bounded on a cold run).
 _BATCH_BYTES = 8 << 20
+#: A folder of more files than this keeps its outcomes in parts of about this many.
+FILES_PER_PART = 256
 #: The modules whose code decides a verification's outcome (relative to the package).
 _ENGINE_CODE = ("*.py", "arith/*.py", "search/*.py", "catalogue/*.py")
 
 #: The tables beside ``meta``; a database of another engine version has them made anew.  A row of ``files``
-#: holds the outcomes of the files of one folder (loading them at once is twice as fast as one by one), and
-#: apart from them what the files keep aside (``aside``): read only when asked for.
+#: holds the outcomes of the files of one folder (loading them at once is twice as fast as one by one), or of
+#: a big folder, of one part of its files (``part`` of ``parts``, by a hash of the file's path: one file
+#: changed in a folder of 6,000 writes one part again), and apart from them what the files keep aside
+#: (``aside``): read only when asked for.
 _TABLES = {
     "scopes": "scope BLOB PRIMARY KEY, used INTEGER NOT NULL",
-    "files": "scope BLOB NOT NULL, folder TEXT NOT NULL, value BLOB NOT NULL, aside BLOB, mac BLOB NOT NULL, "
-    "PRIMARY KEY (scope, folder)",
+    "files": "scope BLOB NOT NULL, folder TEXT NOT NULL, part INTEGER NOT NULL, parts INTEGER NOT NULL, "
+    "value BLOB NOT NULL, aside BLOB, mac BLOB NOT NULL, PRIMARY KEY (scope, folder, part)",
     "searches": "key BLOB PRIMARY KEY, value BLOB NOT NULL, mac BLOB NOT NULL, used INTEGER NOT NULL",
 }
 
@@ -142,7 +148,8 @@ class VerifyCache:
         self._writable = writable
         self.notes = notes
         self._memory: dict[bytes, Any] = {}
-        self._pending_files: list[tuple[bytes, str, bytes, bytes | None, bytes]] = []
+        # Rows to write, in order: a row of a folder's part, or (scope, folder) for every row of a folder gone.
+        self._pending_files: list[tuple[bytes, str, int, int, bytes, bytes | None, bytes] | tuple[bytes, str]] = []
         self._pending_searches: dict[bytes, tuple[bytes, bytes]] = {}
         self._pending_bytes = 0
         self._touched: set[bytes] = set()
@@ -151,9 +158,12 @@ class VerifyCache:
         self._paths: Mapping[str, Path] = {}
         self._kept: dict[str, tuple[Hashable, Any]] = {}
         self._seen: dict[str, tuple[Hashable, Any]] = {}
-        self._dirty = False
-        # What the folder's files keep aside: as kept (bytes, read only when needed) and as this run has it.
-        self._kept_aside: bytes | None = None
+        self._changed: set[str] = set()  # the files kept anew by this run
+        # How the folder's rows are cut into parts as kept (0: no row), and the files each part holds.
+        self._parts = 0
+        self._kept_parts: dict[int, set[str]] = {}
+        # What the folder's files keep aside: as kept (bytes by part, read only when needed) and as this run has it.
+        self._kept_aside: dict[int, bytes] = {}
         self._seen_aside: dict[str, Any] = {}
 
     @classmethod
@@ -221,13 +231,13 @@ class VerifyCache:
         self._seen_aside.pop(rel, None)
         if aside is not None:
             self._seen_aside[rel] = aside
-        self._dirty = True
+        self._changed.add(rel)
 
-    def aside(self) -> bytes | None:
-        """What the files of the folder at hand keep aside, as kept (``rel``: value, in the bytes of
-        :func:`builder.catalogue.serial.dumps`), or None: read with ``loads`` only if it is needed.
-        Only the files whose outcome :meth:`file` gives, unchanged, have theirs there."""
-        return self._kept_aside
+    def aside(self) -> tuple[bytes, ...]:
+        """What the files of the folder at hand keep aside, as kept: pieces of ``rel``: value, in the bytes
+        of :func:`builder.catalogue.serial.dumps`, read with ``loads`` only if they are needed.  Only the
+        files whose outcome :meth:`file` gives, unchanged, have theirs there."""
+        return tuple(self._kept_aside.values())
 
     def search(self, key: bytes) -> Any | None:
         """The coverage search kept under ``key``, or None."""
@@ -287,47 +297,86 @@ class VerifyCache:
             return []
 
     def _enter(self, scope: bytes, folder: str, paths: Mapping[str, Path]) -> None:
-        """Make ``folder`` of ``scope`` the folder at hand, reading what is kept of it."""
+        """Make ``folder`` of ``scope`` the folder at hand, reading what is kept of it (every part)."""
         if self._folder == (scope, folder):
             return
         self._leave()
         self._use_scope(scope)
-        self._folder, self._paths, self._seen, self._dirty = (scope, folder), paths, {}, False
-        row = self._query("SELECT value, aside, mac FROM files WHERE scope = ? AND folder = ?", (scope, folder))
-        kept = None
-        self._kept_aside, self._seen_aside = None, {}
-        if row is not None and row[2] == self._mac(b"f", scope, folder.encode(), row[0], row[1] or b""):
-            kept = loads(row[0], paths)
-            self._kept_aside = row[1] if isinstance(kept, dict) else None
-        self._kept = kept if isinstance(kept, dict) else {}
+        self._folder, self._paths, self._seen, self._changed = (scope, folder), paths, {}, set()
+        self._kept, self._parts, self._kept_parts, self._kept_aside, self._seen_aside = {}, 0, {}, {}, {}
+        rows = self._select(
+            "SELECT part, parts, value, aside, mac FROM files WHERE scope = ? AND folder = ?", (scope, folder)
+        )
+        if len({parts for _, parts, _, _, _ in rows}) != 1:
+            return  # none, or rows of two ways of cutting: none is used, and the folder is written anew
+        for part, parts, value, aside, mac in rows:
+            if mac != self._mac(b"f", scope, folder.encode(), _number(part), _number(parts), value, aside or b""):
+                continue  # not this user's: the part's files are checked again
+            kept = loads(value, paths)
+            if not isinstance(kept, dict):
+                continue
+            self._kept.update(kept)
+            self._parts = parts
+            self._kept_parts[part] = set(kept)
+            if aside is not None:
+                self._kept_aside[part] = aside
 
     def _leave(self) -> None:
-        """Done with the folder at hand: keep its outcomes anew if any changed, or any file came or went."""
+        """Done with the folder at hand: keep anew each part of its outcomes in which a file changed, came or went."""
         if self._folder is None:
             return
         scope, folder = self._folder
-        if self._writable and (self._dirty or self._seen.keys() != self._kept.keys()):
-            rels = {self._paths[rel]: rel for rel in self._seen}
-            data = dumps(self._seen, rels)
-            aside = self._asides()
-            kept_aside = dumps(aside, rels) if aside else None
-            mac = self._mac(b"f", scope, folder.encode(), data, kept_aside or b"")
-            self._pending_files.append((scope, folder, data, kept_aside, mac))
-            self._grew(len(data) + len(kept_aside or b""))
-        self._folder, self._paths, self._kept, self._seen = None, {}, {}, {}
-        self._kept_aside, self._seen_aside = None, {}
+        if self._writable:
+            parts = _parts_for(len(self._seen))
+            now: dict[int, dict[str, tuple[Hashable, Any]]] = {}
+            for rel, seen in self._seen.items():
+                now.setdefault(_part_of(rel, parts), {})[rel] = seen
+            if parts != self._parts:  # cut another way (or never kept): every part is written anew
+                if self._parts:
+                    self._pending_files.append((scope, folder))
+                changed = set(now)
+            else:
+                changed = {_part_of(rel, parts) for rel in self._changed}
+                changed |= {
+                    n
+                    for n in now.keys() | self._kept_parts.keys()
+                    if now.get(n, {}).keys() != self._kept_parts.get(n, set())
+                }
+                if any(n not in now for n in changed):  # a part left with no file: the folder is written anew
+                    self._pending_files.append((scope, folder))
+                    changed = set(now)
+            for n in sorted(changed):
+                self._keep_part(scope, folder, n, parts, now[n], recut=parts != self._parts)
+        self._folder, self._paths, self._kept, self._seen, self._changed = None, {}, {}, {}, set()
+        self._parts, self._kept_parts, self._kept_aside, self._seen_aside = 0, {}, {}, {}
 
-    def _asides(self) -> dict[str, Any]:
-        """What each file of the folder at hand keeps aside, as this run leaves it: kept anew, or as kept
-        before for the files whose outcome was kept before and is unchanged."""
-        earlier: Any = {}
-        if self._kept_aside is not None and any(rel not in self._seen_aside for rel in self._seen):
-            earlier = loads(self._kept_aside, self._paths) or {}
+    def _keep_part(
+        self, scope: bytes, folder: str, part: int, parts: int, seen: dict[str, tuple[Hashable, Any]], recut: bool
+    ) -> None:
+        """Keep ``seen``, the outcomes of the files of one part of the folder at hand, as that part's row."""
+        rels = {self._paths[rel]: rel for rel in seen}
+        data = dumps(seen, rels)
+        aside = self._asides(part, seen, recut)
+        kept_aside = dumps(aside, rels) if aside else None
+        mac = self._mac(b"f", scope, folder.encode(), _number(part), _number(parts), data, kept_aside or b"")
+        self._pending_files.append((scope, folder, part, parts, data, kept_aside, mac))
+        self._grew(len(data) + len(kept_aside or b""))
+
+    def _asides(self, part: int, seen: dict[str, tuple[Hashable, Any]], recut: bool) -> dict[str, Any]:
+        """What each file of ``seen`` (a part of the folder at hand) keeps aside, as this run leaves it: kept
+        anew, or as kept before for the files whose outcome was kept before and is unchanged (in the same
+        part, unless the folder is ``recut`` into another number of parts)."""
+        earlier: dict[str, Any] = {}
+        if any(rel not in self._seen_aside for rel in seen):
+            pieces = self._kept_aside.values() if recut else [self._kept_aside.get(part, b"")]
+            for data in pieces:
+                if data:
+                    earlier.update(loads(data, self._paths) or {})
         aside = {}
-        for rel, seen in self._seen.items():
+        for rel, value in seen.items():
             if rel in self._seen_aside:
                 aside[rel] = self._seen_aside[rel]
-            elif rel in earlier and self._kept.get(rel) is seen:
+            elif rel in earlier and self._kept.get(rel) is value:
                 aside[rel] = earlier[rel]
         return aside
 
@@ -352,7 +401,11 @@ class VerifyCache:
         today = _today()
 
         def write(db: sqlite3.Connection) -> None:
-            db.executemany("INSERT OR REPLACE INTO files VALUES (?, ?, ?, ?, ?)", files)
+            for row in files:  # in order: a folder's rows dropped before its parts are written anew
+                if len(row) == 2:
+                    db.execute("DELETE FROM files WHERE scope = ? AND folder = ?", row)
+                else:
+                    db.execute("INSERT OR REPLACE INTO files VALUES (?, ?, ?, ?, ?, ?, ?)", row)
             db.executemany(
                 "INSERT OR REPLACE INTO searches VALUES (?, ?, ?, ?)",
                 [(key, data, mac, today) for key, (data, mac) in searches.items()],
@@ -387,6 +440,19 @@ class VerifyCache:
         self._db = None
         if self._writable and self._path is not None and not isinstance(exc, sqlite3.OperationalError):
             _remove(self._path)  # the next run makes it anew
+
+
+def _parts_for(files: int) -> int:
+    """How many parts the outcomes of a folder of ``files`` files are kept in: a power of two."""
+    return 1 if files <= FILES_PER_PART else 1 << math.ceil(math.log2(files / FILES_PER_PART))
+
+
+def _part_of(rel: str, parts: int) -> int:
+    return zlib.crc32(rel.encode()) % parts
+
+
+def _number(n: int) -> bytes:
+    return n.to_bytes(8, "little")
 
 
 def _mark(folder: Path) -> None:

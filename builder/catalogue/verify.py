@@ -304,7 +304,7 @@ class _Verification:
         keys: list[tuple[bytes, str] | None] = [None] * len(files)
         persistent = self.cache.persistent
         # The entries as written of the files the cache keeps, kept apart by folder: read when asked for.
-        asides: dict[str, bytes | None] = {}
+        asides: dict[str, tuple[bytes, ...]] = {}
         for i, file in enumerate(files):
             if file.problems is not None:  # parsed already (a raw catalogue loaded whole)
                 outcomes[i] = self.check(file, self.check_cycle)
@@ -339,25 +339,21 @@ class _Verification:
             if outcome.value is not None and not outcome.faulted:
                 assert not isinstance(outcome.value, MapEntry)
                 self.add_cycle(*outcome.value)
-        self.shares += kept_apart.values()
+        self.shares += kept_apart
         for share in self.shares:
             share.forget()  # read again only if the entries as written are asked for
         self.cycle_order = {file.rel: i for i, file in enumerate(files)}
 
     def kept_apart(
-        self, files: list[RawFile], checked: set[int], asides: Mapping[str, bytes | None]
-    ) -> dict[str, Share]:
+        self, files: list[RawFile], checked: set[int], asides: Mapping[str, tuple[bytes, ...]]
+    ) -> list[Share]:
         """For each folder, the entries as written of its files whose outcome the cache kept (checked
         files have theirs with their outcome): read from the cache's bytes when asked for."""
         wanted: dict[str, set[str]] = {}
         for i, file in enumerate(files):
             if i not in checked and file.problems is None:
                 wanted.setdefault(_folder_of(file), set()).add(file.rel)
-        return {
-            folder: Share(data, self.paths, rels)
-            for folder, rels in wanted.items()
-            if (data := asides.get(folder)) is not None
-        }
+        return [Share(data, self.paths, rels) for folder, rels in wanted.items() for data in asides.get(folder, ())]
 
     def cycle_state(self, folder: str | None) -> str:
         """What a cycle's checks read besides its file: the map of its folder (its definition, or that it

@@ -189,7 +189,7 @@ class _Task:
     run: Callable[[SiteViews, Writer, jinja2.Environment], list[PageInfo]]
     inputs: Callable[[SiteViews], object] | None = None  # None: made at every build
     map_id: str | None = None  # for a map's pages, which read the records of that map (and a few related)
-    part: int | None = None  # for a part of a big map's cycle pages (None: the map's own task, or none)
+    data: bool = False  # writes the map's data file; its inputs are what the map's export pieces are made from
 
     @property
     def reads_all(self) -> bool:
@@ -241,7 +241,7 @@ def _tasks(views: SiteViews) -> list[_Task]:
     for unit in views.units:
         known = unit.inputs
         inputs = None if known is None else (lambda v, known=known: known(v.site))
-        tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs, unit.map_id, unit.part))
+        tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs, unit.map_id, unit.data))
     size = len(views.cycles)
     # Costs as a share of a cycle's page per cycle (measured at 50,000 cycles; a rough guess does).
     tasks.append(_Task(_RECORD, 1 + size // 18, _record_export))
@@ -252,7 +252,7 @@ def _tasks(views: SiteViews) -> list[_Task]:
 def _unit_pages(unit: Unit) -> Callable[[SiteViews, Writer, jinja2.Environment], list[PageInfo]]:
     def run(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
         pages = _render(views, writer, env, unit.make(views.site))
-        if unit.map_id is not None and unit.part is None:  # the map's data file, from the same inputs as its pages
+        if unit.map_id is not None and unit.data:  # the map's data file, from the unit's inputs
             writer.text(f"data/maps/{unit.map_id}.json", map_json(views.maps[unit.map_id]))
         return pages
 
@@ -380,8 +380,8 @@ def _share_tasks(
     if pieced:
         assert previous is not None
         kept = previous.pieces()
-        # The map's own task reads what its pieces are made from (its parts read their cycles' pages only).
-        reused = {tasks[i].map_id for i in maps if done[i].reused and tasks[i].part is None}
+        # The map's task with its data file reads what its pieces are made from.
+        reused = {tasks[i].map_id for i in maps if done[i].reused and tasks[i].data}
         writer = Writer(at.out, at.fd)
         layout = _write_record(views, writer, lambda map_id: kept(map_id) if map_id in reused else None)
         done[record] = Done(None, [], writer.files, record=layout)

@@ -150,6 +150,48 @@ def test_the_entries_as_written_are_kept_apart_and_read_only_when_asked_for(cata
     assert detail(again) == detail(cold)
 
 
+def _rows(folder: Path, cycles: str) -> dict[tuple[int, int], bytes]:
+    with sqlite3.connect(folder / DATABASE) as db:
+        rows = db.execute("SELECT part, parts, value FROM files WHERE folder = ?", (cycles,)).fetchall()
+    db.close()
+    return {(part, parts): value for part, parts, value in rows}
+
+
+def test_a_big_folder_is_kept_in_parts_and_a_changed_file_writes_its_part_again(
+    catalogue, tmp_path, parses, monkeypatch
+):
+    # With parts of one file, the five cycle files of 3x+1 are kept in eight parts (a power of two, by a
+    # hash of the path).  One edited file is checked again and its part alone written again; files
+    # removed cut the folder into fewer parts; every report is the cold run's, entries as written included.
+    monkeypatch.setattr(cache_module, "FILES_PER_PART", 1)
+    root = catalogue()
+    folder = tmp_path / "cache"
+    cycles = "cycles/3x-plus-1"
+    assert verified(root, folder).ok
+    before = _rows(folder, cycles)
+    assert {parts for _, parts in before} == {8} and 1 < len(before) <= 5
+    path = root / cycles / "through-minus-5.yaml"
+    path.write_text(path.read_text(encoding="utf-8") + "  notes: an edited note\n", encoding="utf-8")
+    parses.clear()
+    warm = verified(root, folder)
+    assert parses == [f"{cycles}/through-minus-5.yaml"]
+    assert detail(warm) == detail(verify_catalogue(root, NO_RECHECK))
+    after = _rows(folder, cycles)
+    assert after.keys() == before.keys()
+    assert len([k for k in after if after[k] != before[k]]) == 1
+    for name in ("through-0.yaml", "through-minus-17.yaml", "through-minus-1.yaml"):
+        (root / cycles / name).unlink()
+    parses.clear()
+    fewer = verified(root, folder)
+    assert parses == []
+    assert detail(fewer) == detail(verify_catalogue(root, NO_RECHECK))
+    assert {parts for _, parts in _rows(folder, cycles)} == {2}
+    parses.clear()
+    again = verified(root, folder)
+    assert parses == []
+    assert detail(again) == detail(fewer)
+
+
 # --- what makes the cache miss ----------------------------------------------------------------------
 
 
@@ -296,8 +338,11 @@ def test_a_planted_outcome_is_believed_only_with_the_users_own_signature(catalog
 
     def plant(signer: VerifyCache) -> Report:
         with sqlite3.connect(folder / DATABASE) as db:
-            scope = db.execute("SELECT scope FROM files WHERE folder = ?", (cycles,)).fetchone()[0]
-            mac = signer._mac(b"f", scope, cycles.encode(), data, aside or b"")
+            scope, part, parts = db.execute(
+                "SELECT scope, part, parts FROM files WHERE folder = ?", (cycles,)
+            ).fetchone()
+            numbers = (part.to_bytes(8, "little"), parts.to_bytes(8, "little"))
+            mac = signer._mac(b"f", scope, cycles.encode(), *numbers, data, aside or b"")
             db.execute("UPDATE files SET value = ?, mac = ? WHERE folder = ?", (data, mac, cycles))
         db.close()
         return verified(root, folder)

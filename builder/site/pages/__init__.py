@@ -65,32 +65,37 @@ CYCLES_PER_PART = 256
 class Unit:
     """Some pages made together: ``make`` builds them from the site when the unit is rendered."""
 
-    name: str  # unique within a build: "map:<id>", "map:<id>:part-<n>" or "site:<kind>"
+    name: str  # unique within a build: "map:<id>", "map:<id>:data", "map:<id>:part-<n>" or "site:<kind>"
     cost: int  # a rough measure of its work (a cycle's page costs 1), to share units evenly among processes
     make: Callable[[SiteContext], Iterable[Page]]
     # What its pages are made from (None: unknown, so an incremental build always makes them).
     inputs: Callable[[SiteContext], object] | None = None
     map_id: str | None = None  # for the units of one map
-    part: int | None = None  # for a part of a big map's cycle pages; None for the map's own unit
+    # For the map's unit that writes its data file (data/maps/<id>.json): its inputs are what that file
+    # and the map's pieces of the whole-record exports are made from.
+    data: bool = False
 
 
 def _map_units(kinds: tuple[PageKind, ...], map_id: str, cycles: Sequence[Cycle]) -> list[Unit]:
-    """The units of one map: one, or for a big map, one for its own pages and one per part of its cycles'.
+    """The units of one map: one, or for a big map, its own pages, its data, and one per part of its cycles'.
 
-    The map's own unit reads the inputs of every kind for all its cycles even when it does not make
-    the pages of each: they are what its data file and its pieces of the exports are made from."""
+    The unit with the map's data reads the inputs of every kind for all its cycles, whatever pages it
+    makes: they are what its data file and its pieces of the exports are made from."""
     if len(cycles) <= CYCLES_PER_PART:
-        return [_unit(f"map:{map_id}", kinds, kinds, map_id, cycles, None, 4 + len(cycles))]
+        return [_unit(f"map:{map_id}", kinds, kinds, map_id, cycles, 4 + len(cycles), data=True)]
     whole = tuple(kind for kind in kinds if not kind.per_cycle)
     per_cycle = tuple(kind for kind in kinds if kind.per_cycle)
-    units = [_unit(f"map:{map_id}", whole, kinds, map_id, cycles, None, 4 + len(cycles) // 8)]
+    units = [
+        _unit(f"map:{map_id}", whole, whole, map_id, cycles, 4 + len(cycles) // 8),
+        _unit(f"map:{map_id}:data", (), kinds, map_id, cycles, 1 + len(cycles) // 8, data=True),
+    ]
     count = 1 << math.ceil(math.log2(len(cycles) / CYCLES_PER_PART))
     parts: list[list[Cycle]] = [[] for _ in range(count)]
     for cycle in cycles:
         parts[zlib.crc32(cycle.id.encode()) % count].append(cycle)
     for n, part in enumerate(parts):
         if part:
-            units.append(_unit(f"map:{map_id}:part-{n}", per_cycle, per_cycle, map_id, part, n, len(part)))
+            units.append(_unit(f"map:{map_id}:part-{n}", per_cycle, per_cycle, map_id, part, len(part)))
     return units
 
 
@@ -100,8 +105,8 @@ def _unit(
     read: tuple[PageKind, ...],
     map_id: str,
     cycles: Sequence[Cycle],
-    part: int | None,
     cost: int,
+    data: bool = False,
 ) -> Unit:
     """A unit that makes the pages of ``kinds`` for ``cycles`` of the map, from the inputs of the kinds ``read``."""
 
@@ -118,7 +123,7 @@ def _unit(
         return parts
 
     known = all(kind.map_inputs is not None for kind in read)
-    return Unit(name, cost, make, inputs if known else None, map_id, part)
+    return Unit(name, cost, make, inputs if known else None, map_id, data)
 
 
 def _site_unit(kind: PageKind, cycles: int) -> Unit:
