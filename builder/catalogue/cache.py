@@ -5,7 +5,9 @@ Two kinds of result are kept, in one SQLite database in the cache folder:
 - each map or cycle file's outcome (its problems, its entries as written, its verified model
   object), under the file's path and a key made of its bytes' SHA-256 and everything else its
   checks read (the definition of the map a cycle names, whether references.yaml could be read);
-  the reference keys it asked about are kept with it and must give the same answers again;
+  the reference keys it asked about are kept with it and must give the same answers again.  With
+  it is kept the file's stamp (builder.catalogue.files.Stamp: size, times, inode) when its bytes
+  were hashed: a file whose stamp is still that one is not read again to know its SHA-256;
 - each coverage search, under the map's definition, the range, the limits and the work budget.
 
 Everything between files (duplicates, references, relations, the comparison of searches with the
@@ -156,8 +158,9 @@ class VerifyCache:
         # The folder at hand: its outcomes as kept, and as this run has them (rel: (key, outcome)).
         self._folder: tuple[bytes, str] | None = None
         self._paths: Mapping[str, Path] = {}
-        self._kept: dict[str, tuple[Hashable, Any]] = {}
-        self._seen: dict[str, tuple[Hashable, Any]] = {}
+        # (key, outcome, stamp), the stamp None where there is none.
+        self._kept: dict[str, tuple[Hashable, Any, Hashable]] = {}
+        self._seen: dict[str, tuple[Hashable, Any, Hashable]] = {}
         self._changed: set[str] = set()  # the files kept anew by this run
         # How the folder's rows are cut into parts as kept (0: no row), and the files each part holds.
         self._parts = 0
@@ -204,11 +207,14 @@ class VerifyCache:
 
     # -- what verification asks
 
-    def file(self, scope: bytes, rel: str, key: Hashable, paths: Mapping[str, Path]) -> Any | None:
+    def file(
+        self, scope: bytes, rel: str, key: Hashable, paths: Mapping[str, Path], stamp: Hashable = None
+    ) -> Any | None:
         """The outcome kept for the file ``rel`` of ``scope`` under ``key``, or None.
 
         ``paths`` gives the path of every file of the catalogue by ``rel``; files are asked for folder
-        by folder, and each folder's outcomes are read in one piece.
+        by folder, and each folder's outcomes are read in one piece.  ``stamp`` (unless None) is what
+        tells the file's bytes apart now, kept with the outcome for :meth:`key_of`.
         """
         if self._db is None:
             return None
@@ -216,18 +222,38 @@ class VerifyCache:
         kept = self._kept.get(rel)
         if kept is None or kept[0] != key:
             return None
+        if stamp is not None and stamp != kept[2]:
+            kept = (kept[0], kept[1], stamp)
+            self._changed.add(rel)  # kept again with the stamp it has now
         self._seen[rel] = kept
         return kept[1]
 
+    def key_of(self, scope: bytes, rel: str, stamp: Hashable, paths: Mapping[str, Path]) -> Hashable | None:
+        """The key the file ``rel`` of ``scope`` was kept under, if it was kept with ``stamp`` (not None):
+        the file's bytes are those its key was made from, unread."""
+        if self._db is None or stamp is None:
+            return None
+        self._enter(scope, rel.rpartition("/")[0], paths)
+        kept = self._kept.get(rel)
+        return kept[0] if kept is not None and kept[2] == stamp else None
+
     def keep_file(
-        self, scope: bytes, rel: str, key: Hashable, value: Any, paths: Mapping[str, Path], aside: Any = None
+        self,
+        scope: bytes,
+        rel: str,
+        key: Hashable,
+        value: Any,
+        paths: Mapping[str, Path],
+        aside: Any = None,
+        stamp: Hashable = None,
     ) -> None:
-        """Keep the outcome of the file ``rel`` of ``scope`` under ``key`` (replacing the one before), and
-        ``aside`` (unless None) apart from it: what is seldom read (see :meth:`aside`)."""
+        """Keep the outcome of the file ``rel`` of ``scope`` under ``key`` (replacing the one before), with
+        ``stamp`` (see :meth:`file`), and ``aside`` (unless None) apart from it: what is seldom read (see
+        :meth:`aside`)."""
         if self._db is None or not self._writable:
             return
         self._enter(scope, rel.rpartition("/")[0], paths)
-        self._seen[rel] = (key, value)
+        self._seen[rel] = (key, value, stamp)
         self._seen_aside.pop(rel, None)
         if aside is not None:
             self._seen_aside[rel] = aside
@@ -328,7 +354,7 @@ class VerifyCache:
         scope, folder = self._folder
         if self._writable:
             parts = _parts_for(len(self._seen))
-            now: dict[int, dict[str, tuple[Hashable, Any]]] = {}
+            now: dict[int, dict[str, tuple[Hashable, Any, Hashable]]] = {}
             for rel, seen in self._seen.items():
                 now.setdefault(_part_of(rel, parts), {})[rel] = seen
             if parts != self._parts:  # cut another way (or never kept): every part is written anew
@@ -351,7 +377,13 @@ class VerifyCache:
         self._parts, self._kept_parts, self._kept_aside, self._seen_aside = 0, {}, {}, {}
 
     def _keep_part(
-        self, scope: bytes, folder: str, part: int, parts: int, seen: dict[str, tuple[Hashable, Any]], recut: bool
+        self,
+        scope: bytes,
+        folder: str,
+        part: int,
+        parts: int,
+        seen: dict[str, tuple[Hashable, Any, Hashable]],
+        recut: bool,
     ) -> None:
         """Keep ``seen``, the outcomes of the files of one part of the folder at hand, as that part's row."""
         rels = {self._paths[rel]: rel for rel in seen}
@@ -362,7 +394,7 @@ class VerifyCache:
         self._pending_files.append((scope, folder, part, parts, data, kept_aside, mac))
         self._grew(len(data) + len(kept_aside or b""))
 
-    def _asides(self, part: int, seen: dict[str, tuple[Hashable, Any]], recut: bool) -> dict[str, Any]:
+    def _asides(self, part: int, seen: dict[str, tuple[Hashable, Any, Hashable]], recut: bool) -> dict[str, Any]:
         """What each file of ``seen`` (a part of the folder at hand) keeps aside, as this run leaves it: kept
         anew, or as kept before for the files whose outcome was kept before and is unchanged (in the same
         part, unless the folder is ``recut`` into another number of parts)."""

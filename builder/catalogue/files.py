@@ -12,6 +12,8 @@ from __future__ import annotations
 import hashlib
 import os
 import re
+import stat
+import time
 from collections.abc import Iterable, Iterator, Mapping
 from dataclasses import dataclass, field
 from enum import StrEnum
@@ -23,11 +25,13 @@ from builder.errors import CatalogueUnreadable, Problem
 
 __all__ = [
     "ID_PATTERN",
+    "SETTLE_NS",
     "FolderSource",
     "PathKind",
     "RawCatalogue",
     "RawFile",
     "Source",
+    "Stamp",
     "TreeSource",
     "load_catalogue",
     "parse_bytes",
@@ -67,6 +71,21 @@ class Source(Protocol):
         """A file's bytes; raises OSError when it cannot be read."""
         ...
 
+    def stamp(self, rel: str) -> Stamp | None:
+        """What tells a file's bytes apart without reading them, once they have been read (see :data:`Stamp`);
+        None when there is no such thing, or the file changed too lately for it to be trusted."""
+        ...
+
+
+#: A regular file's size, modification and change times (ns), inode and device.  Every write to a file
+#: sets its change time to the clock's time, which no program but the system can set; so a file whose
+#: stamp is the one it had when its bytes were read, then already SETTLE_NS old, has those bytes still
+#: (common practice, no source: version control systems compare such stamps to skip reading files).
+#: A file changed within SETTLE_NS of being looked at gets no stamp: a write in the same tick of a
+#: coarse clock could leave its stamp unchanged.
+Stamp = tuple[int, int, int, int, int]
+SETTLE_NS = 3_000_000_000
+
 
 @dataclass(frozen=True, slots=True)
 class FolderSource:
@@ -96,6 +115,15 @@ class FolderSource:
         finally:
             os.close(fd)
         return chunks[0] if len(chunks) == 1 else b"".join(chunks)
+
+    def stamp(self, rel: str) -> Stamp | None:
+        try:
+            st = os.lstat(os.path.join(self.root, rel))
+        except OSError:
+            return None
+        if not stat.S_ISREG(st.st_mode) or max(st.st_mtime_ns, st.st_ctime_ns) > time.time_ns() - SETTLE_NS:
+            return None
+        return (st.st_size, st.st_mtime_ns, st.st_ctime_ns, st.st_ino, st.st_dev)
 
 
 def _kind_on_disk(path: Path) -> PathKind:
@@ -161,6 +189,9 @@ class TreeSource:
             return self._files[rel]
         except KeyError:
             raise FileNotFoundError(2, "No such file or directory", str(rel)) from None
+
+    def stamp(self, rel: str) -> Stamp | None:
+        return None  # a tree in memory is read, not looked at
 
 
 @dataclass(slots=True)

@@ -27,6 +27,7 @@ from builder.catalogue.files import (
     RawCatalogue,
     RawFile,
     Source,
+    Stamp,
     parse_bytes,
     read_bytes,
     read_file,
@@ -221,13 +222,17 @@ class _Verification:
         """
         if file.problems is not None:  # parsed already (a raw catalogue loaded whole)
             return self.check(file, check)
+        stamp = self.raw.source.stamp(file.rel) if self.cache.persistent else None
+        key = self.unread_key(file, context, stamp)
+        if key is not None and (kept := self.kept_under(file, key, stamp)) is not None:
+            return kept
         data, problems, key = self.read(file, context)
-        kept = self.kept_under(file, key)
+        kept = self.kept_under(file, key, stamp)
         if kept is not None:
             return kept
         outcome = self.check(parse_bytes(file, data, problems, key[0] if key else None), check)
         if key is not None and self.keeps(outcome):
-            self.cache.keep_file(self.scope, file.rel, key, outcome, self.paths)
+            self.cache.keep_file(self.scope, file.rel, key, outcome, self.paths, stamp=stamp)
         return outcome
 
     def read(self, file: RawFile, context: str) -> tuple[bytes | None, list[Problem], tuple[bytes, str] | None]:
@@ -235,11 +240,17 @@ class _Verification:
         data, problems = read_bytes(self.raw, file)
         return data, problems, None if data is None else (hashlib.sha256(data).digest(), context)
 
-    def kept_under(self, file: RawFile, key: tuple[bytes, str] | None) -> Checked | None:
+    def unread_key(self, file: RawFile, context: str, stamp: Stamp | None) -> tuple[bytes, str] | None:
+        """The file's cache key without reading it: the SHA-256 it was kept under, when its stamp is the
+        one kept with it (the same bytes, builder.catalogue.files.Stamp), and ``context``."""
+        kept = self.cache.key_of(self.scope, file.rel, stamp, self.paths)
+        return (kept[0], context) if isinstance(kept, tuple) and isinstance(kept[0], bytes) else None
+
+    def kept_under(self, file: RawFile, key: tuple[bytes, str] | None, stamp: Stamp | None = None) -> Checked | None:
         """The outcome the cache keeps for the file under ``key``, if it still holds with the references."""
         if key is None:
             return None
-        kept = self.cache.file(self.scope, file.rel, key, self.paths)
+        kept = self.cache.file(self.scope, file.rel, key, self.paths, stamp)
         return kept if isinstance(kept, Checked) and kept.holds_with(self.known) else None
 
     def keeps(self, outcome: Checked) -> bool:
@@ -303,13 +314,15 @@ class _Verification:
         outcomes: list[Checked | None] = [None] * len(files)
         keys: list[tuple[bytes, str] | None] = [None] * len(files)
         persistent = self.cache.persistent
+        source = self.raw.source
+        stamps = [source.stamp(file.rel) if persistent else None for file in files]
         # The entries as written of the files the cache keeps, kept apart by folder: read when asked for.
         asides: dict[str, tuple[bytes, ...]] = {}
         for i, file in enumerate(files):
             if file.problems is not None:  # parsed already (a raw catalogue loaded whole)
                 outcomes[i] = self.check(file, self.check_cycle)
             elif persistent:
-                outcomes[i], keys[i] = self.kept(file, states[i])
+                outcomes[i], keys[i] = self.kept(file, states[i], stamps[i])
                 asides[_folder_of(file)] = self.cache.aside()
         todo = [i for i, outcome in enumerate(outcomes) if outcome is None]
         shares: dict[int, Share] = {}  # the outcomes checked by workers, whose entries as written they keep
@@ -327,10 +340,10 @@ class _Verification:
             if persistent and i in checked and key is not None and self.keeps(outcome):
                 written = outcome.written if share is None else share.written_of(i)
                 kept = replace(outcome, written=())  # its entries as written are kept apart, read when asked for
-                self.cache.keep_file(self.scope, file.rel, key, kept, self.paths, aside=written)
+                self.cache.keep_file(self.scope, file.rel, key, kept, self.paths, aside=written, stamp=stamps[i])
             elif key is not None and _folder_of(file) in revisit:
                 # Kept, in a folder left before its other files were checked: seen by this run again.
-                self.cache.file(self.scope, file.rel, key, self.paths)
+                self.cache.file(self.scope, file.rel, key, self.paths, stamps[i])
             self.take(outcome)
             if share is not None and (not self.shares or self.shares[-1] is not share):
                 if self.shares:
@@ -372,10 +385,14 @@ class _Verification:
         cycle, node, key = result
         return cycle, node.line, node.column, key
 
-    def kept(self, file: RawFile, context: str) -> tuple[Checked | None, tuple[bytes, str] | None]:
-        """The outcome the cache keeps for the file's bytes and ``context`` (None if none), and its key."""
+    def kept(self, file: RawFile, context: str, stamp: Stamp | None) -> tuple[Checked | None, tuple[bytes, str] | None]:
+        """The outcome the cache keeps for the file's bytes and ``context`` (None if none), and its key; the
+        file is read only if its ``stamp`` is not the one kept with it."""
+        key = self.unread_key(file, context, stamp)
+        if key is not None and (kept := self.kept_under(file, key, stamp)) is not None:
+            return kept, key
         _, _, key = self.read(file, context)
-        return self.kept_under(file, key), key
+        return self.kept_under(file, key, stamp), key
 
     def check_one(self, file: RawFile, context: str) -> tuple[tuple[bytes, str] | None, Checked]:
         """Read, parse and check one cycle file: its cache key (None if unreadable) and outcome."""

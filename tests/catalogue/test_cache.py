@@ -9,6 +9,7 @@ prove nothing.
 
 from __future__ import annotations
 
+import os
 import shutil
 import sqlite3
 import subprocess
@@ -190,6 +191,69 @@ def test_a_big_folder_is_kept_in_parts_and_a_changed_file_writes_its_part_again(
     again = verified(root, folder)
     assert parses == []
     assert detail(again) == detail(fewer)
+
+
+@pytest.fixture
+def reads(monkeypatch: pytest.MonkeyPatch) -> list[str]:
+    """The map and cycle files whose bytes are read (the others are known by their stamps)."""
+    from builder.catalogue import files as files_module
+
+    seen: list[str] = []
+    real = files_module.FolderSource.read
+
+    def counting(source: Any, rel: str) -> bytes:
+        if rel.startswith(("maps/", "cycles/")):
+            seen.append(rel)
+        return real(source, rel)
+
+    monkeypatch.setattr(files_module.FolderSource, "read", counting)
+    return seen
+
+
+def test_a_file_whose_stamp_is_kept_is_not_read_again(catalogue, tmp_path, reads, monkeypatch):
+    # Files changed SETTLE_NS ago or more: with no wait, every file of the fixture is settled at once.
+    monkeypatch.setattr("builder.catalogue.files.SETTLE_NS", 0)
+    root = catalogue()
+    folder = tmp_path / "cache"
+    cold = verified(root, folder)
+    assert set(reads) == {f.relative_to(root).as_posix() for f in root.glob("*/**/*.yaml")}
+    reads.clear()
+    warm = verified(root, folder)
+    assert reads == []
+    assert detail(warm) == detail(cold)
+
+
+def test_a_file_rewritten_with_its_size_and_times_put_back_is_read_again(catalogue, tmp_path, reads, monkeypatch):
+    # The cycle through -5 of 3x+1 is -5, -7, -10 (the fixture's source): -8 is not its second member.  The
+    # edit keeps the size, and the modification time is put back; the change time, which only the system
+    # sets, still tells the file has changed.
+    monkeypatch.setattr("builder.catalogue.files.SETTLE_NS", 0)
+    root = catalogue()
+    folder = tmp_path / "cache"
+    assert verified(root, folder).ok
+    path = root / "cycles" / "3x-plus-1" / "through-minus-5.yaml"
+    before = path.stat()
+    text = path.read_text(encoding="utf-8")
+    path.write_text(text.replace("[-5, -7, -10]", "[-5, -8, -10]"), encoding="utf-8")
+    os.utime(path, ns=(before.st_atime_ns, before.st_mtime_ns))
+    assert path.stat().st_size == before.st_size and path.stat().st_mtime_ns == before.st_mtime_ns
+    reads.clear()
+    warm = verified(root, folder)
+    assert set(reads) == {"cycles/3x-plus-1/through-minus-5.yaml"}  # read to hash it, then to check it
+    assert [p.code for p in warm.errors] == ["wrong-members"]
+    assert detail(warm) == detail(verify_catalogue(root, NO_RECHECK))
+
+
+def test_a_file_changed_lately_is_read_every_time(catalogue, tmp_path, reads):
+    # The fixture's files were just written: within SETTLE_NS, a stamp could miss a second write in the
+    # same tick of a coarse clock, so none is kept and every file is read (its outcome still kept).
+    root = catalogue()
+    folder = tmp_path / "cache"
+    cold = verified(root, folder)
+    reads.clear()
+    warm = verified(root, folder)
+    assert len(reads) == len(set(reads)) == entry_files(root)
+    assert detail(warm) == detail(cold)
 
 
 # --- what makes the cache miss ----------------------------------------------------------------------
