@@ -315,6 +315,13 @@ def _join(folder: str, name: str) -> str:
     return name if folder == "." else f"{folder}/{name}"
 
 
+def _child(folder: Path, name: str) -> Path:
+    """``folder / name`` for a name from a folder's listing (one part, no separator): made without parsing
+    it again, which is most of the time of listing 50,000 files, where pathlib has the means."""
+    child = getattr(folder, "_make_child_relpath", None)
+    return child(name) if child is not None else folder / name
+
+
 def _entry_files(raw: RawCatalogue, folder: str, what: str) -> Iterator[tuple[str, Path]]:
     """Yield (id, path) for each ``<id>.yaml`` in folder, reporting anything else there."""
     problems = raw.layout_problems
@@ -322,7 +329,7 @@ def _entry_files(raw: RawCatalogue, folder: str, what: str) -> Iterator[tuple[st
     for name, kind in _listing(raw, folder):
         if name.startswith("."):
             continue  # .gitkeep and editor files
-        path = base / name
+        path = _child(base, name)
         if kind is PathKind.LINK:
             problems.append(_problem(path, "expected a regular file, got a symbolic link", "layout"))
             continue
