@@ -8,11 +8,13 @@ Two kinds of result are kept, in one SQLite database in the cache folder:
   the reference keys it asked about are kept with it and must give the same answers again.  With
   it is kept the file's stamp (builder.catalogue.files.Stamp: size, times, inode) when its bytes
   were hashed: a file whose stamp is still that one is not read again to know its SHA-256;
-- each coverage search, under the map's definition, the range, the limits and the work budget.
+- each coverage search, under the map's definition, the range, the limits and the work budget;
+- the relations among the cycles (builder.catalogue.relations: same word, mirrors, scaled copies),
+  under a digest of every map's definition and every cycle's least member, which fix them.
 
-Everything between files (duplicates, references, relations, the comparison of searches with the
-listed cycles) is worked out again on every run from these, so a cached result cannot let a false
-claim through: a changed file has another hash, so it is checked again.
+Everything else between files (duplicates, references, the comparison of searches with the listed
+cycles) is worked out again on every run from these, so a cached result cannot let a false claim
+through: a changed file has another hash, so it is checked again.
 
 Every result is kept under the engine's version (:func:`engine_version`: the package version,
 :data:`CACHE_FORMAT` and a digest of the verification code), the root as given and the limits of
@@ -28,21 +30,18 @@ from __future__ import annotations
 import contextlib
 import hashlib
 import math
-import platform
 import sqlite3
 import time
 import zlib
-from collections.abc import Hashable, Iterator, Mapping
-from functools import cache
+from collections.abc import Hashable, Mapping
 from pathlib import Path
 from types import TracebackType
 from typing import Any
 
-import yaml
-
 from builder.arith.dynamics import AffineMap
 from builder.catalogue.serial import dumps, loads
 from builder.catalogue.signing import key_file, signing_key
+from builder.catalogue.store import CACHE_FORMAT, connect, engine_version, mark_folder, remove_database
 
 __all__ = [
     "CACHE_FORMAT",
@@ -55,33 +54,15 @@ __all__ = [
     "key_file",
 ]
 
-#: Bump when what verification decides or keeps changes (a message, a check, a model object's fields).
-CACHE_FORMAT = 3
 #: The default cache folder's name, beside the catalogue folder.
 FOLDER_NAME = ".periplus-cache"
 DATABASE = "verify.sqlite3"
 #: Rows not used for this many days are removed.
 _KEEP_DAYS = 30
-#: How long a run waits for another one writing the database before it gives up writing.
-_BUSY_SECONDS = 20.0
 #: Outcomes are written in batches of about this many bytes (memory stays bounded on a cold run).
 _BATCH_BYTES = 8 << 20
 #: A folder of more files than this keeps its outcomes in parts of about this many.
 FILES_PER_PART = 256
-#: The modules whose code decides a verification's outcome (relative to the package).
-_ENGINE_CODE = ("*.py", "arith/*.py", "search/*.py", "catalogue/*.py")
-
-#: The tables beside ``meta``; a database of another engine version has them made anew.  A row of ``files``
-#: holds the outcomes of the files of one folder (loading them at once is twice as fast as one by one), or of
-#: a big folder, of one part of its files (``part`` of ``parts``, by a hash of the file's path: one file
-#: changed in a folder of 6,000 writes one part again), and apart from them what the files keep aside
-#: (``aside``): read only when asked for.
-_TABLES = {
-    "scopes": "scope BLOB PRIMARY KEY, used INTEGER NOT NULL",
-    "files": "scope BLOB NOT NULL, folder TEXT NOT NULL, part INTEGER NOT NULL, parts INTEGER NOT NULL, "
-    "value BLOB NOT NULL, aside BLOB, mac BLOB NOT NULL, PRIMARY KEY (scope, folder, part)",
-    "searches": "key BLOB PRIMARY KEY, value BLOB NOT NULL, mac BLOB NOT NULL, used INTEGER NOT NULL",
-}
 
 
 def definition_digest(mapping: AffineMap) -> str:
@@ -96,31 +77,6 @@ def definition_digest(mapping: AffineMap) -> str:
 def default_cache_folder(catalogue: Path) -> Path:
     """The cache folder a command uses unless told otherwise: ``.periplus-cache`` beside the catalogue folder."""
     return catalogue.absolute().parent / FOLDER_NAME
-
-
-@cache
-def engine_version() -> str:
-    """The package version, the cache format and a digest of the code that verifies (any edit changes it)."""
-    from builder import __version__
-
-    package = Path(__file__).resolve().parent.parent
-    h = hashlib.sha256()
-    try:
-        for pattern in _ENGINE_CODE:
-            for path in sorted(package.glob(pattern)):
-                h.update(path.relative_to(package).as_posix().encode() + b"\0" + path.read_bytes())
-        code = h.hexdigest()[:16]
-    except OSError:  # an installation without readable sources: the version and format alone
-        code = "no-source"
-    # The parser's messages for malformed YAML, and Python's own reading of text, are part of an outcome too.
-    libyaml = yaml.__with_libyaml__ and _libyaml_version()
-    return f"{__version__}/{CACHE_FORMAT}/{code}/python {platform.python_version()}/pyyaml {yaml.__version__} {libyaml}"
-
-
-def _libyaml_version() -> str:
-    from yaml import _yaml
-
-    return str(_yaml.get_version_string())
 
 
 def _today() -> int:
@@ -185,8 +141,8 @@ class VerifyCache:
             return cls(None, None, False, (note,), None)
         with contextlib.suppress(OSError):  # a read-only place: an existing cache may still be read
             folder.mkdir(parents=True, exist_ok=True)
-            _mark(folder)
-        db, writable = _connect(folder / DATABASE)
+            mark_folder(folder)
+        db, writable = connect(folder / DATABASE)
         if db is None:
             return cls(
                 None, None, False, (f"the cache {folder} can be neither read nor written; it is not used",), None
@@ -264,6 +220,14 @@ class VerifyCache:
         of :func:`builder.catalogue.serial.dumps`, read with ``loads`` only if they are needed.  Only the
         files whose outcome :meth:`file` gives, unchanged, have theirs there."""
         return tuple(self._kept_aside.values())
+
+    def worked_out(self, key: bytes) -> Any | None:
+        """What was worked out from the whole catalogue (its relations) under ``key``, a digest of all it was
+        worked out from; None if nothing is kept under it.  Kept beside the coverage searches."""
+        return self.search(key)
+
+    def keep_worked_out(self, key: bytes, value: Any) -> None:
+        self.keep_search(key, value)
 
     def search(self, key: bytes) -> Any | None:
         """The coverage search kept under ``key``, or None."""
@@ -471,7 +435,7 @@ class VerifyCache:
             self._db.close()
         self._db = None
         if self._writable and self._path is not None and not isinstance(exc, sqlite3.OperationalError):
-            _remove(self._path)  # the next run makes it anew
+            remove_database(self._path)  # the next run makes it anew
 
 
 def _parts_for(files: int) -> int:
@@ -485,90 +449,3 @@ def _part_of(rel: str, parts: int) -> int:
 
 def _number(n: int) -> bytes:
     return n.to_bytes(8, "little")
-
-
-def _mark(folder: Path) -> None:
-    """Mark the folder as a cache: git ignores it, and backup tools that follow the Cache Directory Tagging
-    Specification skip it."""
-    for name, text in _MARKS.items():
-        path = folder / name
-        if not path.exists():
-            path.write_text(text, encoding="utf-8")
-
-
-_MARKS = {
-    ".gitignore": "# Periplus keeps verification results here; deleting this folder is always safe.\n*\n",
-    "CACHEDIR.TAG": "Signature: 8a477f597d28d172789f06886806bc55\n"
-    "# This file marks the folder as a cache of Periplus (https://bford.info/cachedir/).\n",
-}
-
-
-def _connect(path: Path) -> tuple[sqlite3.Connection | None, bool]:
-    """The database at ``path`` and whether it may be written; a corrupt or foreign one is made anew."""
-    for attempt in range(2):
-        db: sqlite3.Connection | None = None
-        try:
-            db = sqlite3.connect(path, timeout=_BUSY_SECONDS, isolation_level=None)
-            db.execute("PRAGMA synchronous = OFF")  # a cache: a crash costs at most its rebuilding
-            db.execute("CREATE TABLE IF NOT EXISTS meta (name TEXT PRIMARY KEY, value TEXT NOT NULL)")
-            _settle_version(db)
-            return db, True
-        except sqlite3.Error as exc:
-            if db is not None:
-                db.close()
-            if _read_only(exc) or not path.exists():
-                break
-            if attempt == 0:  # not a database, or damaged: made anew
-                _remove(path)
-    return _connect_read_only(path), False
-
-
-def _settle_version(db: sqlite3.Connection) -> None:
-    """Make the tables anew in a database written by another engine version (or none), and mark it with this one."""
-    row = db.execute("SELECT value FROM meta WHERE name = 'engine'").fetchone()
-    if row is not None and row[0] == engine_version():
-        return
-    db.execute("BEGIN IMMEDIATE")
-    try:
-        for table, columns in _TABLES.items():
-            db.execute(f"DROP TABLE IF EXISTS {table}")
-            db.execute(f"CREATE TABLE {table} ({columns})")
-        db.execute("INSERT OR REPLACE INTO meta VALUES ('engine', ?)", (engine_version(),))
-        db.execute("COMMIT")
-    except BaseException:
-        db.execute("ROLLBACK")
-        raise
-
-
-def _connect_read_only(path: Path) -> sqlite3.Connection | None:
-    """The database opened for reading only, when it exists and is of this engine version."""
-    if not path.is_file():
-        return None
-    db: sqlite3.Connection | None = None
-    try:
-        db = sqlite3.connect(f"{path.absolute().as_uri()}?mode=ro", uri=True, timeout=_BUSY_SECONDS)
-        row = db.execute("SELECT value FROM meta WHERE name = 'engine'").fetchone()
-        if row is not None and row[0] == engine_version():
-            return db
-    except sqlite3.Error:
-        pass
-    if db is not None:
-        db.close()
-    return None
-
-
-def _read_only(exc: sqlite3.Error) -> bool:
-    text = str(exc).lower()
-    return "readonly" in text or "read-only" in text or "unable to open" in text
-
-
-def _remove(path: Path) -> None:
-    for leftover in _with_journals(path):
-        with contextlib.suppress(OSError):
-            leftover.unlink()
-
-
-def _with_journals(path: Path) -> Iterator[Path]:
-    yield path
-    for suffix in ("-journal", "-wal", "-shm"):
-        yield path.with_name(path.name + suffix)

@@ -15,15 +15,17 @@ All of it is derived from the verified model, never from the entries' text:
 
 from __future__ import annotations
 
+import hashlib
 from collections.abc import Collection, Iterator
 from dataclasses import dataclass, field
 from math import gcd
 
 from builder.arith.dynamics import AffineMap, shortcut_form
 from builder.arith.words import rotation_key
+from builder.catalogue.cache import VerifyCache, definition_digest
 from builder.catalogue.model import Catalogue, Cycle, MapEntry
 
-__all__ = ["Relations", "find_relations", "qx_plus_d"]
+__all__ = ["Relations", "find_relations", "qx_plus_d", "relations_key"]
 
 CycleKey = tuple[str, str]  # (map id, cycle id)
 
@@ -95,8 +97,35 @@ def _all_cycles(catalogue: Catalogue) -> Iterator[tuple[MapEntry, Cycle]]:
             yield entry, cycle
 
 
-def find_relations(catalogue: Catalogue) -> Relations:
-    """Compute every relation among the catalogue's cycles (deterministic order)."""
+def relations_key(catalogue: Catalogue) -> bytes:
+    """A digest of all that the relations are found from: each map's id and definition, and each cycle's
+    map, id and least member (which, with the map's definition, fix the cycle's members and its word up
+    to rotation), in catalogue order.  Catalogues with the same key have the same relations."""
+    h = hashlib.sha256(b"periplus relations 1\0")
+    for map_id, entry in catalogue.maps.items():
+        h.update(f"{map_id}\0{definition_digest(entry.dynamics)}\n".encode())
+    for map_id, cycles in catalogue.cycles.items():
+        h.update(f"{map_id}\0{len(cycles)}\n".encode())
+        # Hexadecimal, which has no limit of digits (decimal text refuses integers of more than 4,300).
+        h.update("\0".join(f"{c.id}\1{c.canonical:x}" for c in cycles).encode())
+    return h.digest()
+
+
+def find_relations(catalogue: Catalogue, cache: VerifyCache | None = None) -> Relations:
+    """Every relation among the catalogue's cycles (deterministic order); with a ``cache``, kept there under
+    :func:`relations_key`, and taken from it when the key is the same."""
+    if cache is None:
+        return _find_relations(catalogue)
+    key = b"relations:" + relations_key(catalogue)
+    kept = cache.worked_out(key)
+    if isinstance(kept, Relations):
+        return kept
+    rel = _find_relations(catalogue)
+    cache.keep_worked_out(key, rel)
+    return rel
+
+
+def _find_relations(catalogue: Catalogue) -> Relations:
     rel = Relations()
     key_of = rel.keys
     for map_id, cycles in catalogue.cycles.items():

@@ -220,7 +220,9 @@ def _verified(
         changelog, edition = read_changelog(report, history, cache)
         # The entries as written serve comparisons (the changelog, done now); the pages read the model.
         report = replace(report, written={})
-        views = build_views(report.catalogue, base_url, edition=edition, changelog=changelog, history=history)
+        views = build_views(
+            report.catalogue, base_url, edition=edition, changelog=changelog, history=history, cache=cache
+        )
     return BuildResult(report, 0, edition, changelog, history, views)
 
 

@@ -13,6 +13,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
 
+from builder.catalogue.cache import VerifyCache
 from builder.catalogue.model import Catalogue, Record, Reference
 from builder.catalogue.relations import find_relations
 from builder.history import Changelog, Edition, NoHistory, RepoHistory
@@ -61,10 +62,12 @@ def build_views(
     edition: Edition | None = None,
     changelog: Changelog | None = None,
     history: RepoHistory | NoHistory | None = None,
+    cache: VerifyCache | None = None,
 ) -> SiteViews:
     """Build every page's view and every export record from a verified catalogue.
 
-    ``base_url`` (else the record's) makes permalinks, citations and the feed absolute.  ``edition``,
+    ``base_url`` (else the record's) makes permalinks, citations and the feed absolute.  A ``cache`` keeps
+    the relations among the cycles between builds (builder.catalogue.relations.find_relations).  ``edition``,
     ``changelog`` and ``history`` come from git (builder.history); without them the site says the
     record has no history.
     """
@@ -77,7 +80,7 @@ def build_views(
         reason = history.reason if isinstance(history, NoHistory) else "the build did not read the releases"
         changelog = Changelog((), "no changelog: " + reason)
     names = record.credit_committers
-    rel = find_relations(catalogue)
+    rel = find_relations(catalogue, cache)
     maps = catalogue.maps
     by_key: dict[tuple[str, str], CycleRecord] = {}
     for map_id, cycles in catalogue.cycles.items():

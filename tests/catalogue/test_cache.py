@@ -26,6 +26,7 @@ from builder.catalogue import cache as cache_module
 from builder.catalogue import coverage as coverage_module
 from builder.catalogue import serial
 from builder.catalogue import signing as signing_module
+from builder.catalogue import store as store_module
 from builder.catalogue import verify as verify_module
 from builder.catalogue.cache import DATABASE, FOLDER_NAME, VerifyCache, default_cache_folder
 from builder.catalogue.model import Report
@@ -324,7 +325,7 @@ def test_another_engine_version_misses_the_cache(catalogue, tmp_path, parses, mo
     root = catalogue()
     folder = tmp_path / "cache"
     verified(root, folder)
-    monkeypatch.setattr(cache_module, "engine_version", lambda: "another version")
+    monkeypatch.setattr(store_module, "engine_version", lambda: "another version")
     parses.clear()
     verified(root, folder)
     assert len(parses) == 10
@@ -427,7 +428,7 @@ def test_a_read_only_cache_is_read_and_not_written(catalogue, tmp_path, parses, 
     before = (folder / DATABASE).read_bytes()
     path = root / "cycles" / "3x-plus-1" / "through-minus-5.yaml"
     path.write_text(path.read_text(encoding="utf-8") + "# edited\n", encoding="utf-8")
-    monkeypatch.setattr(cache_module, "_connect", lambda db: (cache_module._connect_read_only(db), False))
+    monkeypatch.setattr(cache_module, "connect", lambda db: (store_module.connect_read_only(db), False))
     parses.clear()
     with VerifyCache.open(folder) as cache:
         assert cache.notes == (f"the cache {folder} is read-only: it is read, and nothing new is kept",)

@@ -1,0 +1,152 @@
+"""The cache's database file (builder.catalogue.cache): made, opened read-write or read-only, of which engine
+version, and marked as a cache.
+
+A database of another engine version (:func:`engine_version`: the package version, :data:`CACHE_FORMAT`
+and a digest of the verification code) has its tables made anew; a damaged one is removed and made
+anew; one that cannot be written is read.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import hashlib
+import platform
+import sqlite3
+from collections.abc import Iterator
+from functools import cache
+from pathlib import Path
+
+import yaml
+
+__all__ = ["CACHE_FORMAT", "connect", "connect_read_only", "engine_version", "mark_folder", "remove_database"]
+
+#: Bump when what verification decides or keeps changes (a message, a check, a model object's fields).
+CACHE_FORMAT = 3
+#: How long a run waits for another one writing the database before it gives up writing.
+_BUSY_SECONDS = 20.0
+#: The modules whose code decides a verification's outcome (relative to the package).
+_ENGINE_CODE = ("*.py", "arith/*.py", "search/*.py", "catalogue/*.py")
+
+#: The tables beside ``meta``; a database of another engine version has them made anew.  A row of ``files``
+#: holds the outcomes of the files of one folder (loading them at once is twice as fast as one by one), or of
+#: a big folder, of one part of its files (``part`` of ``parts``, by a hash of the file's path: one file
+#: changed in a folder of 6,000 writes one part again), and apart from them what the files keep aside
+#: (``aside``): read only when asked for.
+_TABLES = {
+    "scopes": "scope BLOB PRIMARY KEY, used INTEGER NOT NULL",
+    "files": "scope BLOB NOT NULL, folder TEXT NOT NULL, part INTEGER NOT NULL, parts INTEGER NOT NULL, "
+    "value BLOB NOT NULL, aside BLOB, mac BLOB NOT NULL, PRIMARY KEY (scope, folder, part)",
+    "searches": "key BLOB PRIMARY KEY, value BLOB NOT NULL, mac BLOB NOT NULL, used INTEGER NOT NULL",
+}
+
+
+@cache
+def engine_version() -> str:
+    """The package version, the cache format and a digest of the code that verifies (any edit changes it)."""
+    from builder import __version__
+
+    package = Path(__file__).resolve().parent.parent
+    h = hashlib.sha256()
+    try:
+        for pattern in _ENGINE_CODE:
+            for path in sorted(package.glob(pattern)):
+                h.update(path.relative_to(package).as_posix().encode() + b"\0" + path.read_bytes())
+        code = h.hexdigest()[:16]
+    except OSError:  # an installation without readable sources: the version and format alone
+        code = "no-source"
+    # The parser's messages for malformed YAML, and Python's own reading of text, are part of an outcome too.
+    libyaml = yaml.__with_libyaml__ and _libyaml_version()
+    return f"{__version__}/{CACHE_FORMAT}/{code}/python {platform.python_version()}/pyyaml {yaml.__version__} {libyaml}"
+
+
+def _libyaml_version() -> str:
+    from yaml import _yaml
+
+    return str(_yaml.get_version_string())
+
+
+def mark_folder(folder: Path) -> None:
+    """Mark the folder as a cache: git ignores it, and backup tools that follow the Cache Directory Tagging
+    Specification skip it."""
+    for name, text in _MARKS.items():
+        path = folder / name
+        if not path.exists():
+            path.write_text(text, encoding="utf-8")
+
+
+_MARKS = {
+    ".gitignore": "# Periplus keeps verification results here; deleting this folder is always safe.\n*\n",
+    "CACHEDIR.TAG": "Signature: 8a477f597d28d172789f06886806bc55\n"
+    "# This file marks the folder as a cache of Periplus (https://bford.info/cachedir/).\n",
+}
+
+
+def connect(path: Path) -> tuple[sqlite3.Connection | None, bool]:
+    """The database at ``path`` and whether it may be written; a corrupt or foreign one is made anew."""
+    for attempt in range(2):
+        db: sqlite3.Connection | None = None
+        try:
+            db = sqlite3.connect(path, timeout=_BUSY_SECONDS, isolation_level=None)
+            db.execute("PRAGMA synchronous = OFF")  # a cache: a crash costs at most its rebuilding
+            db.execute("CREATE TABLE IF NOT EXISTS meta (name TEXT PRIMARY KEY, value TEXT NOT NULL)")
+            _settle_version(db)
+            return db, True
+        except sqlite3.Error as exc:
+            if db is not None:
+                db.close()
+            if _read_only(exc) or not path.exists():
+                break
+            if attempt == 0:  # not a database, or damaged: made anew
+                remove_database(path)
+    return connect_read_only(path), False
+
+
+def _settle_version(db: sqlite3.Connection) -> None:
+    """Make the tables anew in a database written by another engine version (or none), and mark it with this one."""
+    row = db.execute("SELECT value FROM meta WHERE name = 'engine'").fetchone()
+    if row is not None and row[0] == engine_version():
+        return
+    db.execute("BEGIN IMMEDIATE")
+    try:
+        for table, columns in _TABLES.items():
+            db.execute(f"DROP TABLE IF EXISTS {table}")
+            db.execute(f"CREATE TABLE {table} ({columns})")
+        db.execute("INSERT OR REPLACE INTO meta VALUES ('engine', ?)", (engine_version(),))
+        db.execute("COMMIT")
+    except BaseException:
+        db.execute("ROLLBACK")
+        raise
+
+
+def connect_read_only(path: Path) -> sqlite3.Connection | None:
+    """The database opened for reading only, when it exists and is of this engine version."""
+    if not path.is_file():
+        return None
+    db: sqlite3.Connection | None = None
+    try:
+        db = sqlite3.connect(f"{path.absolute().as_uri()}?mode=ro", uri=True, timeout=_BUSY_SECONDS)
+        row = db.execute("SELECT value FROM meta WHERE name = 'engine'").fetchone()
+        if row is not None and row[0] == engine_version():
+            return db
+    except sqlite3.Error:
+        pass
+    if db is not None:
+        db.close()
+    return None
+
+
+def _read_only(exc: sqlite3.Error) -> bool:
+    text = str(exc).lower()
+    return "readonly" in text or "read-only" in text or "unable to open" in text
+
+
+def remove_database(path: Path) -> None:
+    for leftover in _with_journals(path):
+        with contextlib.suppress(OSError):
+            leftover.unlink()
+
+
+def _with_journals(path: Path) -> Iterator[Path]:
+    yield path
+    for suffix in ("-journal", "-wal", "-shm"):
+        yield path.with_name(path.name + suffix)
