@@ -240,12 +240,14 @@ def _staged(out: Path, reuse: bool, jobs: int) -> Iterator[_Staged]:
     """A staging folder beside ``out`` (the lock held), removed unless the build swaps it in; with ``reuse``,
     the files of the site in ``out`` are linked into it ahead of the pages (in a forked process if ``jobs`` > 1)."""
     folder = _staging(out)
-    staged = _Staged(folder, HeadStart(folder, out if reuse and (out / MARKER).is_file() else None, jobs))
+    staged: _Staged | None = None
     try:
+        staged = _Staged(folder, HeadStart(folder, out if reuse and (out / MARKER).is_file() else None, jobs))
         yield staged
     finally:
-        staged.head.stop()
-        if not staged.swapped:
+        if staged is not None:
+            staged.head.stop()
+        if staged is None or not staged.swapped:
             shutil.rmtree(folder, ignore_errors=True)
 
 

@@ -245,7 +245,7 @@ class HeadStart:
             else:
                 try:
                     self._linked = self._helper.result()
-                except WorkerStopped:  # which files it linked is not known: none of them is used
+                except (WorkerStopped, OSError):  # which files it linked is not known: none of them is used
                     _empty(self.staging)
                     self._linked = frozenset()
         return self._linked

@@ -274,3 +274,30 @@ def test_a_big_maps_cycle_pages_are_made_in_parts(tmp_path: Path, monkeypatch: p
         assert after[page] != before[page], f"{page} was not written again"
     for page in [*others, "maps/3x-plus-1/index.html"]:
         assert after[page] == before[page], f"{page} was written again"
+
+
+def test_a_linking_process_that_dies_leaves_a_full_build(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # Common practice, no source: work a stopped worker may have half done is thrown away, not trusted.
+    # The process linking the previous site's files is killed after linking some: the build makes every
+    # page itself, and the site is the clean build's, with no file of the old site in it.
+    import signal
+
+    from builder.site import manifest
+
+    site, clean = tmp_path / "site", tmp_path / "clean"
+    assert build_site(VALID, site).report.ok
+    real = manifest._link_previous
+
+    def dies(previous: manifest.Previous, staging: Path) -> frozenset[str]:
+        first = next(iter(previous.tasks))
+        real(manifest.Previous(previous.root, {first: previous.tasks[first]}), staging)
+        os.kill(os.getpid(), signal.SIGKILL)
+        raise AssertionError("not reached")
+
+    monkeypatch.setattr(manifest, "_link_previous", dies)
+    before = inodes(site)
+    assert build_site(VALID, site, jobs=2).report.ok
+    assert build_site(VALID, clean, reuse=False).report.ok
+    assert tree(site) == tree(clean)
+    after = inodes(site)
+    assert not [p for p in after if before.get(p) == after[p]], "no file was taken from the old site"
