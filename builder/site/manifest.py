@@ -56,8 +56,19 @@ Record = tuple[dict[str, Spans], tuple[str, str]]
 
 def inside(relative: str) -> bool:
     """Whether ``relative`` is a relative POSIX path with no empty, "." or ".." part: one that stays inside."""
-    parts = relative.split("/")
-    return not (relative.startswith("/") or "\\" in relative or any(p in ("", ".", "..") for p in parts))
+    return "\n" not in relative and _all_inside([relative])
+
+
+def _all_inside(paths: list[str]) -> bool:
+    """Whether every one of ``paths`` (strings with no line break) stays inside, all looked at at once (in C):
+    with every path on a line of its own and every slash a line break, no line is empty, "." or "..",
+    and no backslash or NUL is left."""
+    if not all(isinstance(p, str) for p in paths):
+        return False
+    if not paths:
+        return True
+    lines = ("\n" + "\n".join(paths) + "\n").replace("/", "\n")
+    return not any(bad in lines for bad in ("\n\n", "\n.\n", "\n..\n", "\\", "\x00"))
 
 
 def open_folder(path: Path) -> int:
@@ -117,14 +128,17 @@ def read_previous(site: Path | None) -> Previous | None:
         data = json.loads((site / MANIFEST).read_text(encoding="utf-8"))
         if data.get("format") != _FORMAT:
             return None
+        new = tuple.__new__  # each row checked below to have PageInfo's four fields
         tasks = {
-            name: Done(entry["digest"], [PageInfo(*page) for page in entry["pages"]], list(entry["files"]))
+            name: Done(entry["digest"], [new(PageInfo, row) for row in entry["pages"]], list(entry["files"]))
             for name, entry in data["tasks"].items()
         }
         record = _record_of(data.get("record"))
     except (OSError, ValueError, KeyError, TypeError, IndexError):
         return None
-    if not all(isinstance(f, str) and inside(f) for done in tasks.values() for f in done.files):
+    if not all(len(p) == 4 for done in tasks.values() for p in done.pages):
+        return None
+    if not _all_inside([f for done in tasks.values() for f in done.files]):
         return None  # not a manifest this tool wrote
     return Previous(site, tasks, record)
 

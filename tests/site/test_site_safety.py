@@ -317,7 +317,9 @@ def test_render_refuses_a_path_outside_the_site(tmp_path: Path) -> None:
     assert not (tmp_path / "escaped.html").exists()
 
 
-@pytest.mark.parametrize("path", ["../x.html", "a/../../x.html", "/etc/x", "a//b.html", "./x.html", "a\\..\\x", ""])
+@pytest.mark.parametrize(
+    "path", ["../x.html", "a/../../x.html", "/etc/x", "a//b.html", "./x.html", "a\\..\\x", "", "a/", "a/.", "x\x00y"]
+)
 def test_the_writer_refuses_every_address_that_could_leave_the_site(tmp_path: Path, path: str) -> None:
     with Writer(tmp_path) as writer, pytest.raises(AssertionError, match="outside the site"):
         writer.text(path, "x")

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, NamedTuple
 
 if TYPE_CHECKING:
     from builder.catalogue.model import Cycle
@@ -104,9 +104,9 @@ class Page:
         return "../" * depth
 
 
-@dataclass(frozen=True, slots=True)
-class PageInfo:
-    """What the build keeps of a page once it is written: where it is and what it is called."""
+class PageInfo(NamedTuple):
+    """What the build keeps of a page once it is written: where it is and what it is called (a named
+    tuple: the manifest of a big site holds 50,000, read back at every build)."""
 
     path: str
     title: str
