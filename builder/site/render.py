@@ -8,7 +8,7 @@ output directory, whatever the ids (they are validated long before, this is
 a second line of defence).
 
 The work is cut into tasks: one per unit of pages (builder.site.pages.page_units: a map with
-its cycles, or one kind of page for the whole site) and one per large export.  Each task makes
+its cycles, a part of a big map's, or one kind of page for the whole site) and one per large export.  Each task makes
 its pages, renders them and writes them at once, so a build holds one task's text at a time.
 With more than one process the maps' tasks are shared among the build and worker processes
 forked from it (builder.processes.share_work): they inherit the site's records instead of
@@ -21,9 +21,11 @@ depends on how the tasks were shared.
 Builds are incremental: a task whose inputs are known (a unit's ``inputs``, builder.site.pages)
 has a digest of them and of what every page reads (the code and templates, the record, the
 edition, the base address).  The manifest ``.periplus-build.json`` in the site lists each task's
-digest and files; a build that finds the same digest in the site it replaces hard-links that
-task's files from it instead of writing them again, so the result is the clean build's, byte
-for byte (tests/site/test_incremental.py).  The whole-record exports (data/catalogue.json,
+digest and files.  The files of the site a build replaces are hard-linked into the new one while
+the catalogue is verified (builder.site.manifest.HeadStart); a task with the same digest keeps
+them instead of writing them again, any other removes them first, so the result is the clean
+build's, byte for byte (tests/site/test_incremental.py).  Every file is made new, never written
+through a link to the site being replaced.  The whole-record exports (data/catalogue.json,
 data/cycles.csv) are made of one piece per map; the manifest says where each lies, and an
 incremental build takes the unchanged maps' pieces from the previous site's files (once their
 SHA-256 is the manifest's) and makes the others.
