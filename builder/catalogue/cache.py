@@ -118,8 +118,10 @@ class VerifyCache:
         self._kept: dict[str, tuple[Hashable, Any, Hashable]] = {}
         self._seen: dict[str, tuple[Hashable, Any, Hashable]] = {}
         self._changed: set[str] = set()  # the files kept anew by this run
-        # How the folder's rows are cut into parts as kept (0: no row), and the files each part holds.
+        # How the folder's rows are cut into parts as kept (0: no row used), whether it has rows at all, and
+        # the files each part holds.
         self._parts = 0
+        self._had_rows = False
         self._kept_parts: dict[int, set[str]] = {}
         # What the folder's files keep aside: as kept (bytes by part, read only when needed) and as this run has it.
         self._kept_aside: dict[int, bytes] = {}
@@ -297,6 +299,7 @@ class VerifyCache:
         rows = self._select(
             "SELECT part, parts, value, aside, mac FROM files WHERE scope = ? AND folder = ?", (scope, folder)
         )
+        self._had_rows = bool(rows)
         if len({parts for _, parts, _, _, _ in rows}) != 1:
             return  # none, or rows of two ways of cutting: none is used, and the folder is written anew
         for part, parts, value, aside, mac in rows:
@@ -321,8 +324,8 @@ class VerifyCache:
             now: dict[int, dict[str, tuple[Hashable, Any, Hashable]]] = {}
             for rel, seen in self._seen.items():
                 now.setdefault(_part_of(rel, parts), {})[rel] = seen
-            if parts != self._parts:  # cut another way (or never kept): every part is written anew
-                if self._parts:
+            if parts != self._parts:  # cut another way (or none used): every part is written anew
+                if self._had_rows:  # and no row of another cut (or unsigned) is left behind
                     self._pending_files.append((scope, folder))
                 changed = set(now)
             else:
@@ -338,7 +341,7 @@ class VerifyCache:
             for n in sorted(changed):
                 self._keep_part(scope, folder, n, parts, now[n], recut=parts != self._parts)
         self._folder, self._paths, self._kept, self._seen, self._changed = None, {}, {}, {}, set()
-        self._parts, self._kept_parts, self._kept_aside, self._seen_aside = 0, {}, {}, {}
+        self._parts, self._had_rows, self._kept_parts, self._kept_aside, self._seen_aside = 0, False, {}, {}, {}
 
     def _keep_part(
         self,

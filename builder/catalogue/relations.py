@@ -171,9 +171,10 @@ def _find_relations(catalogue: Catalogue) -> Relations:
             rel.shared_factor[key] = g
             if g == 1:
                 continue
-            if (q, d // g) not in base_maps:
-                base_maps[(q, d // g)] = by_branches.get(_shortcut(q, d // g))
-            base_map = base_maps[(q, d // g)]
+            base_form = (q, d // g)
+            if base_form not in base_maps:
+                base_maps[base_form] = by_branches.get(_shortcut(*base_form))
+            base_map = base_maps[base_form]
             if base_map is None:
                 continue
             base = by_canonical.get((base_map, cycle.canonical // g))

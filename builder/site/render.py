@@ -125,7 +125,7 @@ class Writer:
     folder's path again for each of 50,000 files."""
 
     def __init__(self, out: Path, folder: int | None = None) -> None:
-        self.out = out.resolve()
+        self.out = out.resolve() if folder is None else out  # with a descriptor, the caller's resolved path
         self._own = folder is None
         self.fd = open_folder(self.out) if folder is None else folder
         self._folders: set[str] = set()
@@ -338,7 +338,7 @@ def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, head:
             # The files of the tasks this build does not have (a map removed) are not part of it.
             names = {task.name for task in tasks}
             remove_files(fd, (f for name in linked - names for f in previous.tasks[name].files))
-        done = _share_tasks(views, tasks, _Folders(out, fd), jobs, previous, linked)
+        done = _share_tasks(views, tasks, _Folders(out.resolve(), fd), jobs, previous, linked)
         if previous is not None:
             # Folders that held only files taken from the previous site and made no more.
             names = {task.name for task, d in zip(tasks, done, strict=True) if d.reused}

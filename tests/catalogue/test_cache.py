@@ -257,6 +257,30 @@ def test_a_file_changed_lately_is_read_every_time(catalogue, tmp_path, reads):
     assert detail(warm) == detail(cold)
 
 
+def test_unsigned_parts_of_another_cut_are_not_left_behind(catalogue, tmp_path, parses, monkeypatch):
+    # The folder's parts signed by someone else, and the folder then cut into fewer parts: the run after
+    # checks its files again and keeps them anew, and leaves no row of the old cut, so the next run
+    # checks nothing (rows of two cuts would be ignored at every run).
+    monkeypatch.setattr(cache_module, "FILES_PER_PART", 1)
+    root = catalogue()
+    folder = tmp_path / "cache"
+    cycles = "cycles/3x-plus-1"
+    assert verified(root, folder).ok
+    with sqlite3.connect(folder / DATABASE) as db:
+        db.execute("UPDATE files SET mac = ? WHERE folder = ?", (b"\0" * 32, cycles))
+    db.close()
+    for name in ("through-0.yaml", "through-minus-17.yaml", "through-minus-1.yaml"):
+        (root / cycles / name).unlink()
+    parses.clear()
+    warm = verified(root, folder)
+    assert sorted(parses) == [f"{cycles}/through-1.yaml", f"{cycles}/through-minus-5.yaml"]
+    assert detail(warm) == detail(verify_catalogue(root, NO_RECHECK))
+    assert {parts for _, parts in _rows(folder, cycles)} == {2}
+    parses.clear()
+    verified(root, folder)
+    assert parses == []
+
+
 # --- what makes the cache miss ----------------------------------------------------------------------
 
 

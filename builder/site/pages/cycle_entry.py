@@ -16,6 +16,7 @@ from markupsafe import Markup
 
 from builder.arith.integers import show, to_decimal
 from builder.catalogue.model import Cycle, MapEntry, Provenance
+from builder.catalogue.relations import CycleKey
 from builder.site.markdown import render_notes
 from builder.site.mathml import cycle_equation_mathml
 from builder.site.pages.common import Link, Page, PageKind
@@ -32,8 +33,6 @@ MEMBERS_ON_PAGE = 1000
 HEAD_MEMBERS, TAIL_MEMBERS = 500, 100
 WORD_ON_PAGE = 4000
 SAME_WORD_SHOWN = 12
-
-CycleKey = tuple[str, str]  # (map id, cycle id)
 
 
 @dataclass(frozen=True, slots=True)
