@@ -218,7 +218,9 @@ class Report:
 
     ``written`` holds every entry of every file read, verified or not, by (kind, key), in the order
     the files were read; ``references_readable`` is False when references.yaml exists but is not a
-    mapping of keys (so its entries cannot be told apart).
+    mapping of keys (so its entries cannot be told apart).  ``digests`` gives the SHA-256 of the
+    bytes of each cycle file verified, by its path from the root (POSIX), where verification had it
+    (a catalogue read whole from memory has none).
     """
 
     catalogue: Catalogue
@@ -226,6 +228,7 @@ class Report:
     files: int
     written: Mapping[tuple[str, str], WrittenEntry] = field(default_factory=dict)
     references_readable: bool = True
+    digests: Mapping[str, bytes] = field(default_factory=dict)
 
     @property
     def errors(self) -> tuple[Problem, ...]:

@@ -111,12 +111,12 @@ def relations_key(catalogue: Catalogue) -> bytes:
     return h.digest()
 
 
-def find_relations(catalogue: Catalogue, cache: VerifyCache | None = None) -> Relations:
+def find_relations(catalogue: Catalogue, cache: VerifyCache | None = None, key: bytes | None = None) -> Relations:
     """Every relation among the catalogue's cycles (deterministic order); with a ``cache``, kept there under
-    :func:`relations_key`, and taken from it when the key is the same."""
+    :func:`relations_key` (``key``, if the caller has it already), and taken from it when the key is the same."""
     if cache is None:
         return _find_relations(catalogue)
-    key = b"relations:" + relations_key(catalogue)
+    key = b"relations:" + (key if key is not None else relations_key(catalogue))
     kept = cache.worked_out(key)
     if isinstance(kept, Relations):
         return kept

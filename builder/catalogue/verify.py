@@ -156,6 +156,7 @@ class _Verification:
         self._states: dict[str | None, str] = {}
         self.shares: list[Share] = []  # the entries as written of worker-checked cycle files, in bytes
         self.cycle_order: dict[str, int] = {}  # each cycle file's number among them, by its path
+        self.digests: dict[str, bytes] = {}  # the SHA-256 of each cycle file's bytes, by its path
 
     def parsed(self, file: RawFile) -> tuple[RawFile, bool]:
         """The record's or the references' file with its nodes, and whether the loader found fault with it.
@@ -336,6 +337,8 @@ class _Verification:
         for i, (file, outcome) in enumerate(zip(files, outcomes, strict=True)):
             assert outcome is not None, "every cycle file has an outcome"
             key = keys[i]
+            if key is not None:
+                self.digests[file.rel] = key[0]
             share = shares.get(i)
             if persistent and i in checked and key is not None and self.keeps(outcome):
                 written = outcome.written if share is None else share.written_of(i)
@@ -456,7 +459,9 @@ class _Verification:
             if self.shares
             else MappingProxyType(self.written)
         )
-        return Report(catalogue, tuple(sorted(self.problems)), len(files), written, self.references_readable)
+        return Report(
+            catalogue, tuple(sorted(self.problems)), len(files), written, self.references_readable, self.digests
+        )
 
 
 def _folder_of(file: RawFile) -> str:

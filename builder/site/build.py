@@ -221,7 +221,13 @@ def _verified(
         # The entries as written serve comparisons (the changelog, done now); the pages read the model.
         report = replace(report, written={})
         views = build_views(
-            report.catalogue, base_url, edition=edition, changelog=changelog, history=history, cache=cache
+            report.catalogue,
+            base_url,
+            edition=edition,
+            changelog=changelog,
+            history=history,
+            cache=cache,
+            digests=report.digests,
         )
     return BuildResult(report, 0, edition, changelog, history, views)
 

@@ -85,6 +85,7 @@ class Done:
     files: list[str]
     reused: bool = False  # taken from the previous site, not made again
     record: Record | None = None  # the whole-record exports' layout, from the task that wrote them
+    sources: str | None = None  # the digest of what its inputs are made from (None: not known)
 
 
 @dataclass(frozen=True, slots=True)
@@ -130,7 +131,12 @@ def read_previous(site: Path | None) -> Previous | None:
             return None
         new = tuple.__new__  # each row checked below to have PageInfo's four fields
         tasks = {
-            name: Done(entry["digest"], [new(PageInfo, row) for row in entry["pages"]], list(entry["files"]))
+            name: Done(
+                entry["digest"],
+                [new(PageInfo, row) for row in entry["pages"]],
+                list(entry["files"]),
+                sources=entry.get("sources"),
+            )
             for name, entry in data["tasks"].items()
         }
         record = _record_of(data.get("record"))
@@ -163,6 +169,7 @@ def manifest_text(names: list[str], done: list[Done], record: Record) -> str:
             "digest": d.digest,
             "pages": [[p.path, p.title, p.listed, p.in_site_map] for p in d.pages],
             "files": d.files,
+            **({} if d.sources is None else {"sources": d.sources}),
         }
         for name, d in zip(names, done, strict=True)
         if d.digest is not None

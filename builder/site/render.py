@@ -192,6 +192,7 @@ class _Task:
     inputs: Callable[[SiteViews], object] | None = None  # None: made at every build
     map_id: str | None = None  # for a map's pages, which read the records of that map (and a few related)
     data: bool = False  # writes the map's data file; its inputs are what the map's export pieces are made from
+    sources: Callable[[SiteViews], object | None] | None = None  # what its inputs are made from (pages.Unit)
 
     @property
     def reads_all(self) -> bool:
@@ -243,7 +244,9 @@ def _tasks(views: SiteViews) -> list[_Task]:
     for unit in views.units:
         known = unit.inputs
         inputs = None if known is None else (lambda v, known=known: known(v.site))
-        tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs, unit.map_id, unit.data))
+        origin = unit.sources
+        sources = None if origin is None else (lambda v, origin=origin: origin(v.site))
+        tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs, unit.map_id, unit.data, sources))
     size = len(views.cycles)
     # Costs as a share of a cycle's page per cycle (measured at 50,000 cycles; a rough guess does).
     tasks.append(_Task(_RECORD, 1 + size // 18, _record_export))
@@ -307,25 +310,40 @@ class _Folders:
     fd: int
 
 
+@dataclass(frozen=True, slots=True)
+class _Common:
+    """What every task's digests start from: what every page reads (_common_inputs), and that with what
+    every map's inputs are made from (SiteContext.shared_sources)."""
+
+    inputs: str
+    sources: str
+
+
 def _perform(
     task: _Task,
     views: SiteViews,
     at: _Folders,
     env: jinja2.Environment,
-    common: str,
+    common: _Common,
     previous: Previous | None,
     linked: frozenset[str],
 ) -> Done:
-    """Run one task, or keep its files taken from the previous site when its inputs are the same."""
-    digest = None if task.inputs is None else _digest(common, task.inputs(views))
-    if previous is not None and task.name in linked:
-        before = previous.tasks[task.name]
+    """Run one task, or keep its files taken from the previous site when its inputs are the same.
+
+    Its inputs are not even read when what they are made from, its sources, are the previous site's."""
+    known = None if task.sources is None else task.sources(views)
+    sources = None if known is None else _digest(common.sources, known)
+    before = previous.tasks[task.name] if previous is not None and task.name in linked else None
+    if before is not None and sources is not None and before.sources == sources and before.digest is not None:
+        return Done(before.digest, before.pages, before.files, reused=True, sources=sources)
+    digest = None if task.inputs is None else _digest(common.inputs, task.inputs(views))
+    if before is not None:
         if digest is not None and before.digest == digest:
-            return Done(digest, before.pages, before.files, reused=True)
+            return Done(digest, before.pages, before.files, reused=True, sources=sources)
         remove_files(at.fd, before.files)  # made again: the files it made before are not all made now
     writer = Writer(at.out, at.fd)
     pages = task.run(views, writer, env)
-    return Done(digest, pages, writer.files, record=writer.record)
+    return Done(digest, pages, writer.files, record=writer.record, sources=sources)
 
 
 def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, head: HeadStart | None) -> list[Done]:
@@ -351,7 +369,8 @@ def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, head:
 def _share_tasks(
     views: SiteViews, tasks: list[_Task], at: _Folders, jobs: int, previous: Previous | None, linked: frozenset[str]
 ) -> list[Done]:
-    common = _common_inputs(views)
+    inputs = _common_inputs(views)
+    common = _Common(inputs, _digest(inputs, views.site.shared_sources()))
     # Every template compiled once, here, before the workers are forked: they inherit the compiled code.
     env = _environment()
     for name in env.list_templates(filter_func=lambda name: name.endswith(".html")):

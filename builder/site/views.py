@@ -15,10 +15,10 @@ from pathlib import Path
 
 from builder.catalogue.cache import VerifyCache
 from builder.catalogue.model import Catalogue, Record, Reference
-from builder.catalogue.relations import find_relations
+from builder.catalogue.relations import find_relations, relations_key
 from builder.history import Changelog, Edition, NoHistory, RepoHistory
 from builder.site.pages import Unit, page_units
-from builder.site.pages.context import SiteContext
+from builder.site.pages.context import SiteContext, Sources
 from builder.site.records import AboutRecord, CycleRecord, HistoryRecord, MapRecord
 
 __all__ = ["SiteViews", "build_views"]
@@ -63,13 +63,15 @@ def build_views(
     changelog: Changelog | None = None,
     history: RepoHistory | NoHistory | None = None,
     cache: VerifyCache | None = None,
+    digests: Mapping[str, bytes] | None = None,
 ) -> SiteViews:
     """Build every page's view and every export record from a verified catalogue.
 
     ``base_url`` (else the record's) makes permalinks, citations and the feed absolute.  A ``cache`` keeps
     the relations among the cycles between builds (builder.catalogue.relations.find_relations).  ``edition``,
     ``changelog`` and ``history`` come from git (builder.history); without them the site says the
-    record has no history.
+    record has no history.  ``digests`` (the report's: the SHA-256 of each cycle file) tell an incremental
+    build which maps' pages may have changed without reading them (SiteContext.map_sources).
     """
     record = catalogue.record
     assert record is not None, "a site is built only from a catalogue whose record verifies"
@@ -80,7 +82,8 @@ def build_views(
         reason = history.reason if isinstance(history, NoHistory) else "the build did not read the releases"
         changelog = Changelog((), "no changelog: " + reason)
     names = record.credit_committers
-    rel = find_relations(catalogue, cache)
+    relations = relations_key(catalogue)
+    rel = find_relations(catalogue, cache, relations)
     maps = catalogue.maps
     by_key: dict[tuple[str, str], CycleRecord] = {}
     for map_id, cycles in catalogue.cycles.items():
@@ -109,6 +112,7 @@ def build_views(
         edition=edition,
         changelog=changelog,
         history=history,
+        sources=Sources(relations, digests or {}),
     )
     return SiteViews(
         site, page_units(site), about, map_records, cycle_records, catalogue.references, record, edition, base, history

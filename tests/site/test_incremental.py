@@ -18,6 +18,7 @@ from pathlib import Path
 
 import pytest
 from conftest import VALID
+from gitrepo import Repo
 
 from builder.site.build import build_site
 from builder.site.render import MANIFEST
@@ -70,6 +71,36 @@ def _nothing(cat: Path) -> None:
     pass
 
 
+def _scaled_copy_added(cat: Path) -> None:
+    # A new map, 3x+5, with its fixed point -5 = (3*(-5)+5)/2: 5 times the fixed point -1 of 3x+1 (a
+    # scaled copy: Lagarias 1990 via ../shared/literature.md), and with the same word.  The unchanged
+    # cycle of 3x+1 now links to it: its page is made again although its own file did not change.
+    (cat / "maps/3x-plus-5.yaml").write_text(
+        "name: 3x+5\nmodulus: 2\nbranches:\n"
+        "  - {residue: 0, multiplier: 1, increment: 0}\n  - {residue: 1, multiplier: 3, increment: 5}\n"
+        "summary: T(n) = n/2 for even n and (3n+5)/2 for odd n.\n",
+        encoding="utf-8",
+    )
+    (cat / "cycles/3x-plus-5").mkdir()
+    (cat / "cycles/3x-plus-5/through-minus-5.yaml").write_text(
+        "map: 3x-plus-5\nstart: -5\nlength: 1\nprovenance:\n  found_by: Periplus test fixture\n"
+        "  found_on: 2024-05-01\n  method: iteration by hand\n",
+        encoding="utf-8",
+    )
+
+
+def _cycle_start(cat: Path) -> None:
+    # The same cycle written from another member (-17 -> -25 under 3x+1: (3*(-17)+1)/2 = -25): its pages
+    # show the start, and the pages of the mirror map that link it show the least member, unchanged.
+    path = cat / "cycles/3x-plus-1/through-minus-17.yaml"
+    edit(path, "start: -17", "start: -25")
+    edit(
+        path,
+        "[-17, -25, -37, -55, -82, -41, -61, -91, -136, -68, -34]",
+        "[-25, -37, -55, -82, -41, -61, -91, -136, -68, -34, -17]",
+    )
+
+
 CASES: dict[str, tuple[Callable[[Path], None], list[str], list[str]]] = {
     # change, pages that must be written again, pages that must be taken from the old site
     "a cycle's method": (_cycle_method, ["maps/3x-plus-1/through-1/index.html"], ["maps/3x-minus-1/index.html"]),
@@ -82,6 +113,16 @@ CASES: dict[str, tuple[Callable[[Path], None], list[str], list[str]]] = {
     "a reference's title": (_reference_title, ["maps/3x-minus-1/through-17/index.html"], []),
     "the record's title": (_record_title, ["maps/3x-minus-1/index.html", "maps/3x-plus-1/through-1/index.html"], []),
     "nothing": (_nothing, [], ["maps/3x-plus-1/index.html", "maps/3x-minus-1/through-5/index.html"]),
+    "a map with a scaled copy added": (
+        _scaled_copy_added,
+        ["maps/3x-plus-1/through-minus-1/index.html", "maps/3x-plus-5/through-minus-5/index.html"],
+        [],
+    ),
+    "a cycle's start": (
+        _cycle_start,
+        ["maps/3x-plus-1/through-minus-17/index.html"],
+        ["maps/3x-minus-1/through-17/index.html", "maps/3x-minus-1/index.html"],
+    ),
 }
 
 
@@ -106,6 +147,28 @@ def test_an_incremental_build_is_the_clean_build(tmp_path: Path, case: str) -> N
     if case == "nothing":  # then only what every build makes is written again: no unit's pages
         rewritten = sorted(p for p in after if before.get(p) != after[p] and p.startswith("maps/") and p.count("/") > 1)
         assert rewritten == [], rewritten
+
+
+def test_a_commit_that_changes_no_file_still_changes_the_pages_of_its_history(tmp_path: Path) -> None:
+    """A cycle's page shows when its file was added and last changed: committing an edit made before
+    changes that page (and no byte of the catalogue), and the incremental build writes it again."""
+    repo = Repo(tmp_path / "repo")
+    cat = repo.path / "catalogue"
+    shutil.copytree(VALID, cat)
+    repo.commit("The catalogue", when="2024-05-01T12:00:00Z")
+    _cycle_method(cat)  # edited, not yet committed
+    site = tmp_path / "site"
+    assert build_site(cat, site, jobs=1).report.ok
+    before = inodes(site)
+    repo.commit("A cycle's method", when="2024-06-01T12:00:00Z")
+    assert build_site(cat, site, jobs=2).report.ok
+    clean = tmp_path / "clean"
+    assert build_site(cat, clean, jobs=1, reuse=False).report.ok
+    assert tree(site) == tree(clean)
+    after = inodes(site)
+    page = "maps/3x-plus-1/through-1/index.html"
+    assert after[page] != before[page], f"{page} was not written again"
+    assert "2024-06-01" in (site / page).read_text(encoding="utf-8")
 
 
 def test_a_build_without_reuse_writes_every_file(tmp_path: Path) -> None:

@@ -74,6 +74,10 @@ class Unit:
     # For the map's unit that writes its data file (data/maps/<id>.json): its inputs are what that file
     # and the map's pieces of the whole-record exports are made from.
     data: bool = False
+    # What its inputs are made from, besides what every map's are (SiteContext.shared_sources), as
+    # digests of files: cheaper to read than the inputs, which are not read when the sources are the
+    # same as the site's it replaces (None, or None returned: unknown, so the inputs are read).
+    sources: Callable[[SiteContext], object | None] | None = None
 
 
 def _map_units(kinds: tuple[PageKind, ...], map_id: str, cycles: Sequence[Cycle]) -> list[Unit]:
@@ -122,8 +126,11 @@ def _unit(
             parts.append(kind.map_inputs(site, map_id, cycles))
         return parts
 
+    def sources(site: SiteContext) -> object | None:
+        return site.map_sources(map_id, cycles)
+
     known = all(kind.map_inputs is not None for kind in read)
-    return Unit(name, cost, make, inputs if known else None, map_id, data)
+    return Unit(name, cost, make, inputs if known else None, map_id, data, sources if known else None)
 
 
 def _site_unit(kind: PageKind, cycles: int) -> Unit:

@@ -8,8 +8,11 @@ page says of the entry's history.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Hashable, Iterable, Mapping
-from dataclasses import dataclass
+import operator
+import os
+from collections.abc import Callable, Hashable, Iterable, Mapping, Sequence
+from dataclasses import dataclass, fields
+from pathlib import Path
 from typing import TypeVar
 
 from builder.arith.integers import to_decimal
@@ -151,6 +154,18 @@ def _display_order(entry: MapEntry) -> tuple[int, int, int, bool, str]:
     return (0, q, abs(d), d < 0, entry.name)
 
 
+@dataclass(frozen=True, slots=True)
+class Sources:
+    """Digests of what the verified catalogue was made from, for :meth:`SiteContext.map_sources`."""
+
+    relations: bytes  # builder.catalogue.relations.relations_key of the catalogue
+    files: Mapping[str, bytes]  # the SHA-256 of each cycle file's bytes, by its path from the root
+
+
+#: Every field of a map's entry but its path, read as one tuple (in C).
+_entry_fields = operator.attrgetter(*(f.name for f in fields(MapEntry) if f.name != "path"))
+
+
 class SiteContext:
     """The verified catalogue with its records, and the site's shared pieces of pages."""
 
@@ -166,6 +181,7 @@ class SiteContext:
         edition: Edition,
         changelog: Changelog,
         history: RepoHistory | NoHistory,
+        sources: Sources | None = None,
     ) -> None:
         assert catalogue.record is not None
         self.record: Record = catalogue.record
@@ -185,6 +201,46 @@ class SiteContext:
         self.map_order = sorted(catalogue.maps, key=lambda map_id: _display_order(catalogue.maps[map_id]))
         self._made: dict[str, tuple[Hashable, object]] = {}
         self._links: dict[tuple[str, str], Link] = {}
+        self._sources = sources
+        self._root = str(catalogue.root) + os.sep
+
+    def shared_sources(self) -> object:
+        """What the pages of every map may read of the whole catalogue, for :meth:`map_sources`: every map's
+        entry as verified (its coverage claims as rechecked included), the references, and the key of
+        the relations (every map's definition, and every cycle's map, id and least member)."""
+        relations = self._sources.relations if self._sources is not None else None
+        entries = [(_entry_fields(entry), self._relative(entry.path)) for entry in self.cat.maps.values()]
+        return (relations, entries, dict(self.references))
+
+    def _relative(self, path: Path | None) -> str | None:
+        """A path from the catalogue root (POSIX), as text; None for a path outside it (or none).  Where the
+        catalogue lies is no source of a page: two copies of one catalogue make the same site."""
+        text, root = str(path), self._root
+        return text[len(root) :].replace(os.sep, "/") if path is not None and text.startswith(root) else None
+
+    def map_sources(self, map_id: str, cycles: Sequence[Cycle]) -> object | None:
+        """What the pages and data of ``cycles`` of the map are made from, besides :meth:`shared_sources`,
+        as digests of the files read: None when a cycle file's digest is not known.
+
+        Why that is all: a map's pages and data show its entry, its cycles and the history of their
+        files, and of other entries only what the relations give (which cycles are related, and each
+        linked cycle's map, name and least member) and the references cited.  A cycle as verified
+        follows from its file's path and bytes and its map's entry (and the references it may cite);
+        the entries, references and relations are the shared sources.  Equal sources give equal inputs
+        (builder.site.render: a task whose sources are those of the site it replaces keeps its files
+        without its inputs being read); a test makes incremental builds after edits of each kind and
+        compares them with clean builds."""
+        if self._sources is None:
+            return None
+        files = self._sources.files
+        rows = []
+        for cycle in cycles:
+            rel = self._relative(cycle.path)
+            digest = None if rel is None else files.get(rel)
+            if digest is None:
+                return None
+            rows.append((cycle.id, rel, digest, self.records[map_id, cycle.id].history))
+        return (map_id, self.maps[map_id].history, rows)
 
     def made_once(self, name: str, key: Hashable, make: Callable[[], T]) -> T:
         """``make()``, made once for the unit at hand (``key`` tells units apart): a unit reads some pieces
