@@ -9,18 +9,19 @@ build time): the same catalogue always gives the same bytes.
 from __future__ import annotations
 
 import csv
-import heapq
 import io
+import itertools
 import json
+import operator
 import uuid
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from typing import Any, Protocol
 from xml.sax.saxutils import escape, quoteattr
 
 from builder.arith.fingerprint import FINGERPRINT_DIGITS, FINGERPRINT_HEADER
 from builder.catalogue.model import Reference
-from builder.site.records import AboutRecord, CycleRecord, HistoryRecord, MapRecord
+from builder.site.records import AboutRecord, CycleRecord, HistoryRecord, MapRecord, newest
 from builder.site.search_index import DEFAULT_LIMITS, ListedMap, SearchLimits, map_order, search_index
 from builder.site.views import SiteViews
 
@@ -283,11 +284,19 @@ def _entry_id(*parts: str) -> str:
     return f"urn:uuid:{uuid.uuid5(_FEED_NAMESPACE, '/'.join(parts))}"
 
 
+_found_on = operator.attrgetter("provenance.found_on")
+
+
+def _ties(cycles: Sequence[CycleRecord]) -> Iterable[tuple[str, str, int]]:
+    """What orders the feed's cycles of one date: map and id (then their place, which makes each distinct)."""
+    return zip(map(operator.attrgetter("map_id"), cycles), map(operator.attrgetter("id"), cycles), itertools.count())
+
+
 def atom_feed(views: SiteViews) -> str:
     """An Atom feed (RFC 4287) of the newest ``FEED_ENTRIES`` cycles by found_on, newest first; entry ids
     follow fingerprints."""
-    # heapq.nlargest gives sorted(..., reverse=True)[:FEED_ENTRIES] without sorting every cycle.
-    entries = heapq.nlargest(FEED_ENTRIES, views.cycles, key=lambda c: (c.provenance.found_on, c.map_id, c.id))
+    cycles = views.cycles
+    entries = [cycles[i] for _, (_, _, i) in newest(FEED_ENTRIES, list(map(_found_on, cycles)), _ties(cycles))]
     record = views.record
     updated = f"{entries[0].provenance.found_on.isoformat()}T00:00:00Z" if entries else "1970-01-01T00:00:00Z"
     rights = f"Data licence {record.licence} ({record.licence_url}); {views.edition.label}"

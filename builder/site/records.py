@@ -10,7 +10,11 @@ published as the model's own frozen type (builder.catalogue.model), not copied i
 
 from __future__ import annotations
 
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
+from datetime import date
+from itertools import compress
+from typing import TypeVar
 
 from builder.arith.integers import to_decimal
 from builder.arith.words import word_text
@@ -21,6 +25,7 @@ from builder.site.paths import cycle_url, map_url
 
 __all__ = [
     "AboutRecord",
+    "newest",
     "CoverageRecord",
     "CycleRecord",
     "HistoryRecord",
@@ -270,3 +275,17 @@ class MapRecord:
 
 def _decimal_or_none(n: int | None) -> str | None:
     return None if n is None else to_decimal(n)
+
+
+K = TypeVar("K")
+
+
+def newest(count: int, dates: Sequence[date], keys: Iterable[K]) -> list[tuple[date, K]]:
+    """The ``count`` greatest pairs (date, key) of ``dates`` and ``keys`` (each key distinct and comparable),
+    greatest first: heapq.nlargest's answer, found by the dates alone first (in C), since nlargest pushes
+    every pair when the dates rise through the sequence, as a record's do."""
+    pairs = zip(dates, keys, strict=True)
+    if len(dates) > count > 0:
+        cut = sorted(dates)[-count]
+        pairs = compress(pairs, map(cut.__le__, dates))  # type: ignore[assignment]
+    return sorted(pairs, reverse=True)[:count]

@@ -371,10 +371,12 @@ def _share_tasks(
 ) -> list[Done]:
     inputs = _common_inputs(views)
     common = _Common(inputs, _digest(inputs, views.site.shared_sources()))
-    # Every template compiled once, here, before the workers are forked: they inherit the compiled code.
     env = _environment()
-    for name in env.list_templates(filter_func=lambda name: name.endswith(".html")):
-        env.get_template(name)
+    if previous is None:
+        # Every template compiled once, here, before the workers are forked: they inherit the compiled code.
+        # A build that takes most pages from the site it replaces compiles only those it uses, as it uses them.
+        for name in env.list_templates(filter_func=lambda name: name.endswith(".html")):
+            env.get_template(name)
 
     def run(i: int) -> Done:
         return _perform(tasks[i], views, at, env, common, previous, linked)

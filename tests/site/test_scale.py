@@ -8,14 +8,19 @@ addresses and 50 MB in one file, more through a sitemap index).
 
 from __future__ import annotations
 
+import heapq
 import re
 import xml.etree.ElementTree as ET
+from datetime import date
 from pathlib import Path
 
 from bs4 import BeautifulSoup
 from conftest import BigSite
+from hypothesis import given
+from hypothesis import strategies as st
 
 from builder.site.exports import FEED_ENTRIES, SITEMAP_BYTES, SITEMAP_URLS
+from builder.site.records import newest
 
 SITEMAP = "{http://www.sitemaps.org/schemas/sitemap/0.9}"
 ATOM = "{http://www.w3.org/2005/Atom}"
@@ -103,3 +108,15 @@ def test_the_feed_carries_only_the_newest_cycles(big_site: BigSite) -> None:
     entries = ET.parse(big_site.site / "feed.xml").getroot().findall(f"{ATOM}entry")
     assert len(entries) == min(FEED_ENTRIES, big_site.cycles)
     assert (big_site.site / "feed.xml").stat().st_size < 200_000
+
+
+@given(
+    st.integers(min_value=0, max_value=15),
+    st.lists(st.tuples(st.dates(), st.integers(min_value=-50, max_value=50)), unique_by=lambda p: p[1], max_size=60),
+)
+def test_the_newest_are_what_heapq_nlargest_gives(count: int, pairs: list[tuple[date, int]]) -> None:
+    """The home page's latest cycles and the feed's entries: the greatest pairs (date, key), greatest first,
+    as the standard library's heapq.nlargest gives them (Python documentation, heapq)."""
+    dates = [d for d, _ in pairs]
+    keys = [k for _, k in pairs]
+    assert newest(count, dates, keys) == heapq.nlargest(count, pairs)

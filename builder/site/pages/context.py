@@ -8,6 +8,7 @@ page says of the entry's history.
 
 from __future__ import annotations
 
+import functools
 import operator
 import os
 from collections.abc import Callable, Hashable, Iterable, Mapping, Sequence
@@ -278,12 +279,18 @@ class SiteContext:
 
     def marks(self, key: tuple[str, str]) -> tuple[str, ...]:
         """The badges of a cycle: a scaled copy, or members sharing a factor with d."""
-        scaling = self.rel.scaled_from.get(key)
-        if scaling is not None:
-            return (f"{to_decimal(scaling.factor)} × a cycle of {self.cat.maps[scaling.base[0]].name}",)
-        if self.rel.shared_factor.get(key, 1) > 1:
-            return (f"members share the factor {to_decimal(self.rel.shared_factor[key])} with d",)
-        return ()
+        return self.marked.get(key, ())
+
+    @functools.cached_property
+    def marked(self) -> Mapping[tuple[str, str], tuple[str, ...]]:
+        """The badges of every cycle that has any (few do), made once."""
+        out: dict[tuple[str, str], tuple[str, ...]] = {}
+        for key, factor in self.rel.shared_factor.items():
+            if factor > 1:
+                out[key] = (f"members share the factor {to_decimal(factor)} with d",)
+        for key, scaling in self.rel.scaled_from.items():  # a scaled copy says so instead
+            out[key] = (f"{to_decimal(scaling.factor)} × a cycle of {self.cat.maps[scaling.base[0]].name}",)
+        return out
 
     def cycle_rows(self, keys: Iterable[tuple[str, str]], with_map: bool = False) -> list[CycleRow]:
         rows = []

@@ -6,7 +6,7 @@ engines, with the exports as its downloads.
 
 from __future__ import annotations
 
-import heapq
+import operator
 from dataclasses import dataclass, replace
 from datetime import date
 from typing import Any
@@ -15,6 +15,7 @@ from builder.history import RepoHistory
 from builder.site.metadata import Download, dataset_jsonld, jsonld_script
 from builder.site.pages.common import Link, NavEntry, Page, PageKind
 from builder.site.pages.context import SiteContext, family_rows
+from builder.site.records import newest
 
 __all__ = ["KIND", "RECENT", "RecentCycle"]
 
@@ -28,6 +29,9 @@ class RecentCycle:
     link: Link
     found_on: date
     length: int
+
+
+_found_on = operator.attrgetter("provenance.found_on")
 
 
 def _dataset(site: SiteContext) -> dict[str, Any]:
@@ -55,8 +59,8 @@ def _citation(site: SiteContext) -> str:
 
 
 def home_pages(site: SiteContext) -> list[Page]:
-    # heapq.nlargest gives sorted(..., reverse=True)[:RECENT] without sorting every cycle.
-    recent = heapq.nlargest(RECENT, site.records.items(), key=lambda kv: (kv[1].provenance.found_on, kv[0]))
+    latest = newest(RECENT, list(map(_found_on, site.records.values())), site.records)
+    recent = [(key, site.records[key]) for _, key in latest]
     context = {
         "cite": _citation(site),
         "dataset_jsonld": jsonld_script(_dataset(site)),

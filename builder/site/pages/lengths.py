@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import operator
 from collections.abc import Iterator
 from dataclasses import dataclass
 from functools import partial
@@ -57,10 +58,14 @@ def length_pages(site: SiteContext) -> Iterator[Page]:
             yield page
 
 
+_fingerprint = operator.attrgetter("fingerprint")
+
+
 def length_inputs(site: SiteContext) -> object:
     """What the length pages show: each cycle's row (its fingerprint fixes the numbers), and the maps' names and order."""
     names = [(map_id, site.cat.maps[map_id].name) for map_id in site.map_order]
-    return names, [(key, r.fingerprint, site.marks(key)) for key, r in site.records.items()]
+    rows = list(zip(site.records, map(_fingerprint, site.records.values()), strict=True))
+    return names, rows, sorted(site.marked.items())
 
 
 KIND = PageKind(
