@@ -332,9 +332,11 @@ def atom_feed(views: SiteViews) -> str:
     return "\n".join(lines) + "\n"
 
 
-def _urlset(locations: Sequence[str]) -> str:
-    rows = "".join(f"  <url><loc>{escape(loc)}</loc></url>\n" for loc in locations)
-    return f'<?xml version="1.0" encoding="utf-8"?>\n<urlset xmlns="http://www.sitemaps.org/schemas/sitemap/0.9">\n{rows}</urlset>\n'
+def _urlset(rows: Sequence[str]) -> str:
+    return (
+        '<?xml version="1.0" encoding="utf-8"?>\n<urlset xmlns="http://www.sitemaps.org/schemas/sitemap/0.9">\n'
+        f"{''.join(rows)}</urlset>\n"
+    )
 
 
 def sitemap_files(
@@ -344,16 +346,17 @@ def sitemap_files(
     (address, text) pairs.  Within one file's limits it is one urlset; beyond them, sitemap.xml is a
     sitemap index of sitemaps/<n>.xml, each within the limits."""
     base = base_url if base_url.endswith("/") else base_url + "/"
-    locations = [base + p for p in sorted(paths)]
     parts: list[list[str]] = [[]]
-    size = len(_urlset([]).encode())
-    for loc in locations:
-        row = len(f"  <url><loc>{escape(loc)}</loc></url>\n".encode())
-        if parts[-1] and (len(parts[-1]) >= max_urls or size + row > max_bytes):
+    empty = len(_urlset([]).encode())
+    size = empty
+    for path in sorted(paths):
+        row = f"  <url><loc>{escape(base + path)}</loc></url>\n"
+        length = len(row) if row.isascii() else len(row.encode())
+        if parts[-1] and (len(parts[-1]) >= max_urls or size + length > max_bytes):
             parts.append([])
-            size = len(_urlset([]).encode())
-        parts[-1].append(loc)
-        size += row
+            size = empty
+        parts[-1].append(row)
+        size += length
     if len(parts) == 1:
         return [("sitemap.xml", _urlset(parts[0]))]
     files = [(f"sitemaps/{n}.xml", _urlset(part)) for n, part in enumerate(parts, start=1)]

@@ -10,10 +10,10 @@ published as the model's own frozen type (builder.catalogue.model), not copied i
 
 from __future__ import annotations
 
+import heapq
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from datetime import date
-from itertools import compress
 from typing import TypeVar
 
 from builder.arith.integers import to_decimal
@@ -282,10 +282,7 @@ K = TypeVar("K")
 
 def newest(count: int, dates: Sequence[date], keys: Iterable[K]) -> list[tuple[date, K]]:
     """The ``count`` greatest pairs (date, key) of ``dates`` and ``keys`` (each key distinct and comparable),
-    greatest first: heapq.nlargest's answer, found by the dates alone first (in C), since nlargest pushes
-    every pair when the dates rise through the sequence, as a record's do."""
-    pairs = zip(dates, keys, strict=True)
-    if len(dates) > count > 0:
-        cut = sorted(dates)[-count]
-        pairs = compress(pairs, map(cut.__le__, dates))  # type: ignore[assignment]
-    return sorted(pairs, reverse=True)[:count]
+    greatest first, as heapq.nlargest finds them; taken from the last, since the pairs mostly rise through
+    a record (its cycles in catalogue order), and nlargest does work for each pair greater than the least
+    it keeps."""
+    return heapq.nlargest(count, reversed(list(zip(dates, keys, strict=True))))

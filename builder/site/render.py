@@ -37,11 +37,13 @@ import contextlib
 import functools
 import gc
 import hashlib
+import operator
 import os
 import shutil
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, replace
 from importlib import resources
+from itertools import chain
 from pathlib import Path
 from typing import BinaryIO
 
@@ -298,8 +300,16 @@ def _search_export(views: SiteViews, writer: Writer, env: jinja2.Environment) ->
 def _search_inputs(views: SiteViews) -> object:
     """What the search index holds: each cycle's key and fingerprint (which fix its members, word and
     length) and its map's name, and the id and name of every map (maps without cycles are searchable)."""
-    cycles = [(c.map_id, c.id, c.fingerprint, views.maps[c.map_id].name) for c in views.cycles]
-    return [cycles, [(m.id, m.name, m.branches) for m in views.maps.values()]]
+    # As lines of text joined in C (see builder.site.pages.lengths.length_inputs); a map's name may hold
+    # any character, and is given with its map below.
+    cycles = views.cycles
+    keys = "\n".join(
+        chain.from_iterable(zip(map(_map_id, cycles), map(_id, cycles), map(_fingerprint, cycles), strict=True))
+    )
+    return [keys, [(m.id, m.name, m.branches) for m in views.maps.values()]]
+
+
+_map_id, _id, _fingerprint = (operator.attrgetter(name) for name in ("map_id", "id", "fingerprint"))
 
 
 @dataclass(frozen=True, slots=True)

@@ -6,6 +6,7 @@ import operator
 from collections.abc import Iterator
 from dataclasses import dataclass
 from functools import partial
+from itertools import chain
 
 from builder.site.pages.common import HOME_CRUMBS, Link, NavEntry, Page, PageKind, pagers
 from builder.site.pages.context import SiteContext
@@ -64,8 +65,11 @@ _fingerprint = operator.attrgetter("fingerprint")
 def length_inputs(site: SiteContext) -> object:
     """What the length pages show: each cycle's row (its fingerprint fixes the numbers), and the maps' names and order."""
     names = [(map_id, site.cat.maps[map_id].name) for map_id in site.map_order]
-    rows = list(zip(site.records, map(_fingerprint, site.records.values()), strict=True))
-    return names, rows, sorted(site.marked.items())
+    # Each cycle's map id, id and fingerprint as lines of text, joined in C: ids and fingerprints hold
+    # no line break (ids are [a-z0-9-]), and text is digested far faster than 50,000 tuples.
+    keys = "\n".join(chain.from_iterable(site.records))
+    prints = "\n".join(map(_fingerprint, site.records.values()))
+    return names, keys, prints, sorted(site.marked.items())
 
 
 KIND = PageKind(
