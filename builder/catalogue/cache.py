@@ -33,7 +33,7 @@ import math
 import sqlite3
 import time
 import zlib
-from collections.abc import Hashable, Mapping
+from collections.abc import Callable, Hashable, Mapping, Sequence
 from pathlib import Path
 from types import TracebackType
 from typing import Any
@@ -185,6 +185,29 @@ class VerifyCache:
             self._changed.add(rel)  # kept again with the stamp it has now
         self._seen[rel] = kept
         return kept[1]
+
+    def stamped(
+        self,
+        scope: bytes,
+        folder: str,
+        files: Sequence[tuple[str, Hashable]],
+        paths: Mapping[str, Path],
+        accept: Callable[[int, Hashable, Any], bool],
+    ) -> list[int]:
+        """The places in ``files`` (rel, stamp), files of ``folder`` of ``scope``, of those whose outcome is kept with
+        that stamp (not None) and ``accept(place, key, outcome)``: as :meth:`key_of` then :meth:`file` for each
+        file, in one call.  Each outcome accepted is seen by this run (kept)."""
+        if self._db is None:
+            return []
+        self._enter(scope, folder, paths)
+        kept_now, seen = self._kept.get, self._seen
+        out = []
+        for place, (rel, stamp) in enumerate(files):
+            kept = kept_now(rel)
+            if kept is not None and stamp is not None and kept[2] == stamp and accept(place, kept[0], kept[1]):
+                seen[rel] = kept
+                out.append(place)
+        return out
 
     def key_of(self, scope: bytes, rel: str, stamp: Hashable, paths: Mapping[str, Path]) -> Hashable | None:
         """The key the file ``rel`` of ``scope`` was kept under, if it was kept with ``stamp`` (not None):

@@ -13,7 +13,6 @@ from __future__ import annotations
 
 import multiprocessing
 from collections.abc import Callable, Collection, Iterator, Mapping, Sequence
-from dataclasses import replace
 from pathlib import Path
 from typing import Any, Protocol
 
@@ -77,7 +76,7 @@ def _check_share(share: list[int]) -> tuple[bytes, bytes]:
     done, written = [], []
     for i in share:
         key, outcome = check_one(i)
-        done.append((i, key, replace(outcome, written=())))
+        done.append((i, key, outcome._replace(written=())))
         written.append((i, outcome.written))
     rels = {files[i].path: files[i].rel for i in share}
     return dumps(done, rels), dumps(written, rels)

@@ -13,10 +13,11 @@ from __future__ import annotations
 
 import hashlib
 from collections.abc import Callable, Collection, Iterator, Mapping
-from dataclasses import dataclass, replace
 from functools import partial
+from itertools import groupby
 from pathlib import Path
 from types import MappingProxyType
+from typing import NamedTuple
 
 from builder.arith.dynamics import AffineMap
 from builder.arith.integers import show
@@ -63,12 +64,12 @@ Value = MapEntry | tuple[Cycle, int, int, KeyPath] | None
 Check = Callable[[RawFile, Collection[str] | None, list[Problem]], Value]
 
 
-@dataclass(frozen=True, slots=True)
-class Checked:
+class Checked(NamedTuple):
     """Everything checking one map or cycle file gave, kept whole so that a cache can give it back.
 
     ``asked`` lists the reference keys the checks looked up in references.yaml, with the answers;
     a kept outcome holds again only where every answer is the same (None: none could be looked up).
+    A named tuple, which the cache makes again in C: it gives back one per file of the catalogue.
     """
 
     problems: tuple[Problem, ...]
@@ -247,6 +248,30 @@ class _Verification:
         kept = self.cache.key_of(self.scope, file.rel, stamp, self.paths)
         return (kept[0], context) if isinstance(kept, tuple) and isinstance(kept[0], bytes) else None
 
+    def unread_hits(
+        self, folder: str, files: list[tuple[str, Stamp | None, str]]
+    ) -> dict[int, tuple[tuple[bytes, str], Checked]]:
+        """For the files (path, stamp, context) of ``folder``, by their place in the list: the key and outcome
+        the cache keeps for each whose stamp and context are those kept with it and whose outcome still
+        holds with the references, unread: :meth:`kept` for a whole folder at once."""
+        hits: dict[int, tuple[tuple[bytes, str], Checked]] = {}
+
+        def accept(place: int, key: object, outcome: object) -> bool:
+            if (
+                isinstance(key, tuple)
+                and len(key) == 2
+                and isinstance(key[0], bytes)
+                and key[1] == files[place][2]
+                and isinstance(outcome, Checked)
+                and outcome.holds_with(self.known)
+            ):
+                hits[place] = (key, outcome)
+                return True
+            return False
+
+        self.cache.stamped(self.scope, folder, [(rel, stamp) for rel, stamp, _ in files], self.paths, accept)
+        return hits
+
     def kept_under(self, file: RawFile, key: tuple[bytes, str] | None, stamp: Stamp | None = None) -> Checked | None:
         """The outcome the cache keeps for the file under ``key``, if it still holds with the references."""
         if key is None:
@@ -319,12 +344,20 @@ class _Verification:
         stamps = [source.stamp(file.rel) if persistent else None for file in files]
         # The entries as written of the files the cache keeps, kept apart by folder: read when asked for.
         asides: dict[str, tuple[bytes, ...]] = {}
-        for i, file in enumerate(files):
-            if file.problems is not None:  # parsed already (a raw catalogue loaded whole)
-                outcomes[i] = self.check(file, self.check_cycle)
-            elif persistent:
-                outcomes[i], keys[i] = self.kept(file, states[i], stamps[i])
-                asides[_folder_of(file)] = self.cache.aside()
+        # A folder's files come one after another: each folder's outcomes are looked up together.
+        for folder, numbers in groupby(range(len(files)), key=lambda i: _folder_of(files[i])):
+            at = list(numbers)
+            hits = self.unread_hits(folder, [(files[i].rel, stamps[i], states[i]) for i in at]) if persistent else {}
+            for j, i in enumerate(at):
+                file = files[i]
+                if file.problems is not None:  # parsed already (a raw catalogue loaded whole)
+                    outcomes[i] = self.check(file, self.check_cycle)
+                elif j in hits:
+                    keys[i], outcomes[i] = hits[j]
+                elif persistent:
+                    outcomes[i], keys[i] = self.kept(file, states[i], stamps[i])
+            if persistent:
+                asides[folder] = self.cache.aside()
         todo = [i for i, outcome in enumerate(outcomes) if outcome is None]
         shares: dict[int, Share] = {}  # the outcomes checked by workers, whose entries as written they keep
         for i, key, done, by in self.check_many(files, states, todo):
@@ -342,7 +375,7 @@ class _Verification:
             share = shares.get(i)
             if persistent and i in checked and key is not None and self.keeps(outcome):
                 written = outcome.written if share is None else share.written_of(i)
-                kept = replace(outcome, written=())  # its entries as written are kept apart, read when asked for
+                kept = outcome._replace(written=())  # its entries as written are kept apart, read when asked for
                 self.cache.keep_file(self.scope, file.rel, key, kept, self.paths, aside=written, stamp=stamps[i])
             elif key is not None and _folder_of(file) in revisit:
                 # Kept, in a folder left before its other files were checked: seen by this run again.
