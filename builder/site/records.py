@@ -12,9 +12,9 @@ from __future__ import annotations
 
 import heapq
 from collections.abc import Iterable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from datetime import date
-from typing import TypeVar
+from typing import NamedTuple, TypeVar
 
 from builder.arith.integers import to_decimal
 from builder.arith.words import word_text
@@ -111,13 +111,13 @@ class HistoryRecord:
         return self.changed_commit[:12] if self.changed_commit else None
 
 
-@dataclass(frozen=True, slots=True)
-class CycleRecord:
+class CycleRecord(NamedTuple):
     """One verified cycle: its members and word read from the canonical member, its equation, provenance.
 
     The numbers a page shows once or twice (the least and greatest member, A, B, the target, the start)
     and the address are written out when asked for, not kept: a build holds 50,000 records, and every
-    worker process that reads them copies the memory they fill.
+    worker process that reads them copies the memory they fill.  A named tuple, made in C: a build
+    makes one per cycle.
     """
 
     map_id: str
@@ -131,7 +131,7 @@ class CycleRecord:
     shared_factor: str | None  # the factor its members share with the increment, for qx+d maps
     provenance: Provenance
     history: HistoryRecord | None
-    cycle: Cycle = field(repr=False, compare=False)  # the verified cycle it was made from
+    cycle: Cycle  # the verified cycle it was made from
 
     @property
     def members(self) -> tuple[str, ...]:
