@@ -218,9 +218,9 @@ class Report:
 
     ``written`` holds every entry of every file read, verified or not, by (kind, key), in the order
     the files were read; ``references_readable`` is False when references.yaml exists but is not a
-    mapping of keys (so its entries cannot be told apart).  ``digests`` gives the SHA-256 of the
-    bytes of each cycle file verified, by its path from the root (POSIX), where verification had it
-    (a catalogue read whole from memory has none).
+    mapping of keys (so its entries cannot be told apart).  ``digests`` gives for each folder of cycle
+    files (``cycles/<map id>``) a SHA-256 of its files' names and bytes, where verification read every
+    file of it (a catalogue read whole from memory has none).
     """
 
     catalogue: Catalogue

@@ -157,7 +157,7 @@ class _Verification:
         self._states: dict[str | None, str] = {}
         self.shares: list[Share] = []  # the entries as written of worker-checked cycle files, in bytes
         self.cycle_order: dict[str, int] = {}  # each cycle file's number among them, by its path
-        self.digests: dict[str, bytes] = {}  # the SHA-256 of each cycle file's bytes, by its path
+        self.digests: dict[str, bytes] = {}  # of each cycle folder's files (Report.digests), by the folder's path
 
     def parsed(self, file: RawFile) -> tuple[RawFile, bool]:
         """The record's or the references' file with its nodes, and whether the loader found fault with it.
@@ -370,8 +370,6 @@ class _Verification:
         for i, (file, outcome) in enumerate(zip(files, outcomes, strict=True)):
             assert outcome is not None, "every cycle file has an outcome"
             key = keys[i]
-            if key is not None:
-                self.digests[file.rel] = key[0]
             share = shares.get(i)
             if persistent and i in checked and key is not None and self.keeps(outcome):
                 written = outcome.written if share is None else share.written_of(i)
@@ -389,6 +387,7 @@ class _Verification:
                 assert not isinstance(outcome.value, MapEntry)
                 self.add_cycle(*outcome.value)
         self.shares += kept_apart
+        self.digests = _folder_digests(files, keys)
         for share in self.shares:
             share.forget()  # read again only if the entries as written are asked for
         self.cycle_order = {file.rel: i for i, file in enumerate(files)}
@@ -495,6 +494,22 @@ class _Verification:
         return Report(
             catalogue, tuple(sorted(self.problems)), len(files), written, self.references_readable, self.digests
         )
+
+
+def _folder_digests(files: list[RawFile], keys: list[tuple[bytes, str] | None]) -> dict[str, bytes]:
+    """The SHA-256 of each folder's cycle files, their names and the SHA-256 of their bytes in turn (each
+    name ends in .yaml, so the list reads one way), for the folders whose every file's bytes are known."""
+    digests: dict[str, bytes] = {}
+    for folder, numbers in groupby(range(len(files)), key=lambda i: _folder_of(files[i])):
+        h = hashlib.sha256()
+        for i in numbers:
+            key = keys[i]
+            if key is None:
+                break
+            h.update(files[i].rel.encode("utf-8", "surrogateescape") + b"\0" + key[0])
+        else:
+            digests[folder] = h.digest()
+    return digests
 
 
 def _folder_of(file: RawFile) -> str:

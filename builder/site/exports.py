@@ -10,11 +10,10 @@ from __future__ import annotations
 
 import csv
 import io
-import itertools
 import json
 import operator
 import uuid
-from collections.abc import Callable, Iterable, Iterator, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from typing import Any, Protocol
 from xml.sax.saxutils import escape, quoteattr
@@ -284,19 +283,17 @@ def _entry_id(*parts: str) -> str:
     return f"urn:uuid:{uuid.uuid5(_FEED_NAMESPACE, '/'.join(parts))}"
 
 
-_found_on = operator.attrgetter("provenance.found_on")
-
-
-def _ties(cycles: Sequence[CycleRecord]) -> Iterable[tuple[str, str, int]]:
-    """What orders the feed's cycles of one date: map and id (then their place, which makes each distinct)."""
-    return zip(map(operator.attrgetter("map_id"), cycles), map(operator.attrgetter("id"), cycles), itertools.count())
+# What orders the feed: the date, then the map and id of the cycle.
+_found_on, _map_id, _id = (operator.attrgetter(name) for name in ("provenance.found_on", "map_id", "id"))
 
 
 def atom_feed(views: SiteViews) -> str:
     """An Atom feed (RFC 4287) of the newest ``FEED_ENTRIES`` cycles by found_on, newest first; entry ids
     follow fingerprints."""
     cycles = views.cycles
-    entries = [cycles[i] for _, (_, _, i) in newest(FEED_ENTRIES, list(map(_found_on, cycles)), _ties(cycles))]
+    ties = zip(map(_map_id, reversed(cycles)), map(_id, reversed(cycles)), range(len(cycles) - 1, -1, -1), strict=True)
+    latest = newest(FEED_ENTRIES, zip(map(_found_on, reversed(cycles)), ties, strict=True))
+    entries = [cycles[i] for _, (_, _, i) in latest]
     record = views.record
     updated = f"{entries[0].provenance.found_on.isoformat()}T00:00:00Z" if entries else "1970-01-01T00:00:00Z"
     rights = f"Data licence {record.licence} ({record.licence_url}); {views.edition.label}"

@@ -11,7 +11,7 @@ published as the model's own frozen type (builder.catalogue.model), not copied i
 from __future__ import annotations
 
 import heapq
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable
 from dataclasses import dataclass
 from datetime import date
 from typing import NamedTuple, TypeVar
@@ -280,9 +280,9 @@ def _decimal_or_none(n: int | None) -> str | None:
 K = TypeVar("K")
 
 
-def newest(count: int, dates: Sequence[date], keys: Iterable[K]) -> list[tuple[date, K]]:
-    """The ``count`` greatest pairs (date, key) of ``dates`` and ``keys`` (each key distinct and comparable),
-    greatest first, as heapq.nlargest finds them; taken from the last, since the pairs mostly rise through
-    a record (its cycles in catalogue order), and nlargest does work for each pair greater than the least
-    it keeps."""
-    return heapq.nlargest(count, reversed(list(zip(dates, keys, strict=True))))
+def newest(count: int, last_first: Iterable[tuple[date, K]]) -> list[tuple[date, K]]:
+    """The ``count`` greatest pairs (date, key) (each key distinct and comparable), greatest first, as
+    heapq.nlargest finds them.  The pairs are given from the last of a record's cycles to the first:
+    they mostly rise through a record (its cycles in catalogue order), and nlargest does work for each
+    pair greater than the least it keeps."""
+    return heapq.nlargest(count, last_first)

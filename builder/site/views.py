@@ -70,7 +70,7 @@ def build_views(
     ``base_url`` (else the record's) makes permalinks, citations and the feed absolute.  A ``cache`` keeps
     the relations among the cycles between builds (builder.catalogue.relations.find_relations).  ``edition``,
     ``changelog`` and ``history`` come from git (builder.history); without them the site says the
-    record has no history.  ``digests`` (the report's: the SHA-256 of each cycle file) tell an incremental
+    record has no history.  ``digests`` (the report's: a SHA-256 of each folder of cycle files) tell an incremental
     build which maps' pages may have changed without reading them (SiteContext.map_sources).
     """
     record = catalogue.record

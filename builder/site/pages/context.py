@@ -160,7 +160,7 @@ class Sources:
     """Digests of what the verified catalogue was made from, for :meth:`SiteContext.map_sources`."""
 
     relations: bytes  # builder.catalogue.relations.relations_key of the catalogue
-    files: Mapping[str, bytes]  # the SHA-256 of each cycle file's bytes, by its path from the root
+    folders: Mapping[str, bytes]  # a digest of each folder of cycle files (builder.catalogue.model.Report.digests)
 
 
 #: Every field of a map's entry but its path, read as one tuple (in C).
@@ -221,27 +221,31 @@ class SiteContext:
 
     def map_sources(self, map_id: str, cycles: Sequence[Cycle]) -> object | None:
         """What the pages and data of ``cycles`` of the map are made from, besides :meth:`shared_sources`,
-        as digests of the files read: None when a cycle file's digest is not known.
+        as digests of the files read: None when the digest of a folder of their files is not known.
 
         Why that is all: a map's pages and data show its entry, its cycles and the history of their
         files, and of other entries only what the relations give (which cycles are related, and each
         linked cycle's map, name and least member) and the references cited.  A cycle as verified
-        follows from its file's path and bytes and its map's entry (and the references it may cite);
-        the entries, references and relations are the shared sources.  Equal sources give equal inputs
-        (builder.site.render: a task whose sources are those of the site it replaces keeps its files
-        without its inputs being read); a test makes incremental builds after edits of each kind and
-        compares them with clean builds."""
+        follows from its file's path and bytes and its map's entry (and the references it may cite):
+        the digest of the folder of its files fixes them all; the entries, references and relations are
+        the shared sources.  Equal sources give equal inputs (builder.site.render: a task whose sources
+        are those of the site it replaces keeps its files without its inputs being read); a test makes
+        incremental builds after edits of each kind and compares them with clean builds."""
         if self._sources is None:
             return None
-        files = self._sources.files
+        folders: dict[str, bytes | None] = {}
         rows = []
         for cycle in cycles:
             rel = self._relative(cycle.path)
-            digest = None if rel is None else files.get(rel)
-            if digest is None:
+            if rel is None:
                 return None
-            rows.append((cycle.id, rel, digest, self.records[map_id, cycle.id].history))
-        return (map_id, self.maps[map_id].history, rows)
+            folder = rel.rpartition("/")[0]
+            if folder not in folders:
+                folders[folder] = self._sources.folders.get(folder)
+                if folders[folder] is None:
+                    return None
+            rows.append((cycle.id, self.records[map_id, cycle.id].history))
+        return (map_id, self.maps[map_id].history, sorted(folders.items()), rows)
 
     def made_once(self, name: str, key: Hashable, make: Callable[[], T]) -> T:
         """``make()``, made once for the unit at hand (``key`` tells units apart): a unit reads some pieces

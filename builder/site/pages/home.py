@@ -59,7 +59,8 @@ def _citation(site: SiteContext) -> str:
 
 
 def home_pages(site: SiteContext) -> list[Page]:
-    latest = newest(RECENT, list(map(_found_on, site.records.values())), site.records)
+    records = site.records
+    latest = newest(RECENT, zip(map(_found_on, reversed(records.values())), reversed(records), strict=True))
     recent = [(key, site.records[key]) for _, key in latest]
     context = {
         "cite": _citation(site),
