@@ -12,12 +12,11 @@ compares catalogues without reading a file again.
 from __future__ import annotations
 
 import hashlib
-from collections.abc import Callable, Collection, Iterator, Mapping
+from collections.abc import Collection, Iterator, Mapping
 from functools import partial
 from itertools import groupby
 from pathlib import Path
 from types import MappingProxyType
-from typing import NamedTuple
 
 from builder.arith.dynamics import AffineMap
 from builder.arith.integers import show
@@ -39,6 +38,7 @@ from builder.catalogue.limits import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, L
 from builder.catalogue.maps import check_map
 from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Reference, Report
 from builder.catalogue.nodes import MappingNode
+from builder.catalogue.outcome import Asked, Check, Checked, Value
 from builder.catalogue.reader import label
 from builder.catalogue.record import RECORD_FILE, check_record
 from builder.catalogue.references import check_references
@@ -56,59 +56,6 @@ __all__ = [
     "verify_raw",
     "verify_source",
 ]
-
-#: What checking a map or cycle file gives: the verified map, or a cycle with the line, column and key path
-#: of its start (or word), or None.
-Value = MapEntry | tuple[Cycle, int, int, KeyPath] | None
-#: How a map or cycle file is checked, given the reference keys it may cite and where problems go.
-Check = Callable[[RawFile, Collection[str] | None, list[Problem]], Value]
-
-
-class Checked(NamedTuple):
-    """Everything checking one map or cycle file gave, kept whole so that a cache can give it back.
-
-    ``asked`` lists the reference keys the checks looked up in references.yaml, with the answers;
-    a kept outcome holds again only where every answer is the same (None: none could be looked up).
-    A named tuple, which the cache makes again in C: it gives back one per file of the catalogue.
-    """
-
-    problems: tuple[Problem, ...]
-    written: tuple[WrittenEntry, ...]
-    faulted: bool  # the loader found fault with the file: nothing from it reaches the model
-    value: Value
-    asked: tuple[tuple[str, bool], ...] | None
-
-    def holds_with(self, known: Collection[str] | None) -> bool:
-        """Whether the answers about reference keys are the same with ``known``."""
-        if self.asked is None or known is None:
-            return self.asked is None and known is None
-        return all((key in known) is found for key, found in self.asked)
-
-
-class _Asked(Collection[str]):
-    """The reference keys entries may cite, noting each key asked about and the answer."""
-
-    def __init__(self, known: Collection[str]) -> None:
-        self.known = known
-        self.answers: dict[str, bool] = {}
-        self.whole = False  # looked at as a whole (listed or counted): the outcome depends on every key
-
-    def __contains__(self, key: object) -> bool:
-        found = key in self.known
-        if isinstance(key, str):
-            self.answers[key] = found
-        else:
-            self.whole = True
-        return found
-
-    def __iter__(self) -> Iterator[str]:
-        self.whole = True
-        return iter(self.known)
-
-    def __len__(self) -> int:
-        self.whole = True
-        return len(self.known)
-
 
 _WHAT = {
     "record": "the record's description (a mapping of fields)",
@@ -288,7 +235,7 @@ class _Verification:
         problems = _loaded(file)
         key = f"{file.folder}/{file.id}" if file.kind == "cycle" else file.id
         written = written_entries(file.kind, key, file.rel, file.root, file.digest)
-        asked = _Asked(self.known) if self.known is not None else None
+        asked = Asked(self.known) if self.known is not None else None
         value = check(file, asked, problems)
         answers = None if asked is None or asked.whole else tuple(asked.answers.items())
         return Checked(tuple(problems), tuple(written), bool(file.problems), value, answers)
