@@ -24,6 +24,7 @@ from builder.catalogue.nodes import Node, parse_yaml, problem_at
 from builder.errors import CatalogueUnreadable, Problem
 
 __all__ = [
+    "CYCLES_FOLDER",
     "ID_PATTERN",
     "SETTLE_NS",
     "FolderSource",
@@ -85,6 +86,8 @@ class Source(Protocol):
 #: coarse clock could leave its stamp unchanged.
 Stamp = tuple[int, int, int, int, int]
 SETTLE_NS = 3_000_000_000
+#: The folder of the cycle files, from the root: each map's are in ``cycles/<map id>/``.
+CYCLES_FOLDER = "cycles"
 
 
 @dataclass(frozen=True, slots=True)
@@ -372,7 +375,7 @@ def scan_source(source: Source) -> RawCatalogue:
             raw.files.append(RawFile(root / f"{kind}.yaml", kind, kind, None, f"{kind}.yaml"))
     for map_id, path in _entry_files(raw, "maps", "map"):
         raw.files.append(RawFile(path, "map", map_id, None, f"maps/{map_id}.yaml"))
-    cycles = "cycles"
+    cycles = CYCLES_FOLDER
     found = source.kind(cycles)
     if found in (PathKind.LINK, PathKind.FILE, PathKind.OTHER):
         problems.append(_problem(root / "cycles", f"expected a folder, got {_A[found]}", "layout"))

@@ -17,6 +17,7 @@ from pathlib import Path
 from typing import TypeVar
 
 from builder.arith.integers import to_decimal
+from builder.catalogue.files import CYCLES_FOLDER
 from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Reference
 from builder.catalogue.relations import Relations, qx_plus_d
 from builder.history import Changelog, Edition, NoHistory, RepoHistory
@@ -227,25 +228,20 @@ class SiteContext:
         files, and of other entries only what the relations give (which cycles are related, and each
         linked cycle's map, name and least member) and the references cited.  A cycle as verified
         follows from its file's path and bytes and its map's entry (and the references it may cite):
-        the digest of the folder of its files fixes them all; the entries, references and relations are
+        the digest of the folder of its map's files fixes them all; the entries, references and relations are
         the shared sources.  Equal sources give equal inputs (builder.site.render: a task whose sources
         are those of the site it replaces keeps its files without its inputs being read); a test makes
         incremental builds after edits of each kind and compares them with clean builds."""
         if self._sources is None:
             return None
-        folders: dict[str, bytes | None] = {}
-        rows = []
-        for cycle in cycles:
-            rel = self._relative(cycle.path)
-            if rel is None:
-                return None
-            folder = rel.rpartition("/")[0]
-            if folder not in folders:
-                folders[folder] = self._sources.folders.get(folder)
-                if folders[folder] is None:
-                    return None
-            rows.append((cycle.id, self.records[map_id, cycle.id].history))
-        return (map_id, self.maps[map_id].history, sorted(folders.items()), rows)
+        # A cycle's file is in the folder of its map (builder.catalogue.cycles refuses any other): the
+        # cycles' paths are not read, which in a worker process would copy the memory of every one.
+        folder = f"{CYCLES_FOLDER}/{map_id}"
+        digest = self._sources.folders.get(folder)
+        if digest is None and cycles:
+            return None
+        rows = [(cycle.id, self.records[map_id, cycle.id].history) for cycle in cycles]
+        return (map_id, self.maps[map_id].history, digest, rows)
 
     def made_once(self, name: str, key: Hashable, make: Callable[[], T]) -> T:
         """``make()``, made once for the unit at hand (``key`` tells units apart): a unit reads some pieces
