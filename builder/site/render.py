@@ -381,6 +381,7 @@ def _share_tasks(
 ) -> list[Done]:
     inputs = _common_inputs(views)
     common = _Common(inputs, _digest(inputs, views.site.shared_sources()))
+    views.site.marked  # noqa: B018 (made once here, before the workers are forked: they share it)
     env = _environment()
     if previous is None:
         # Every template compiled once, here, before the workers are forked: they inherit the compiled code.

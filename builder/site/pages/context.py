@@ -285,11 +285,19 @@ class SiteContext:
     def marked(self) -> Mapping[tuple[str, str], tuple[str, ...]]:
         """The badges of every cycle that has any (few do), made once."""
         out: dict[tuple[str, str], tuple[str, ...]] = {}
+        # Thousands of cycles have the same badge: each text is made (and held) once.
+        shared: dict[int, tuple[str, ...]] = {}
         for key, factor in self.rel.shared_factor.items():
             if factor > 1:
-                out[key] = (f"members share the factor {to_decimal(factor)} with d",)
+                if factor not in shared:
+                    shared[factor] = (f"members share the factor {to_decimal(factor)} with d",)
+                out[key] = shared[factor]
+        scaled: dict[tuple[int, str], tuple[str, ...]] = {}
         for key, scaling in self.rel.scaled_from.items():  # a scaled copy says so instead
-            out[key] = (f"{to_decimal(scaling.factor)} × a cycle of {self.cat.maps[scaling.base[0]].name}",)
+            at = (scaling.factor, scaling.base[0])
+            if at not in scaled:
+                scaled[at] = (f"{to_decimal(scaling.factor)} × a cycle of {self.cat.maps[scaling.base[0]].name}",)
+            out[key] = scaled[at]
         return out
 
     def cycle_rows(self, keys: Iterable[tuple[str, str]], with_map: bool = False) -> list[CycleRow]:
