@@ -283,7 +283,7 @@ class SiteContext:
 
     @functools.cached_property
     def marked(self) -> Mapping[tuple[str, str], tuple[str, ...]]:
-        """The badges of every cycle that has any (few do), made once."""
+        """The badges of every cycle that has any, made once for the site."""
         out: dict[tuple[str, str], tuple[str, ...]] = {}
         # Thousands of cycles have the same badge: each text is made (and held) once.
         shared: dict[int, tuple[str, ...]] = {}
