@@ -219,8 +219,8 @@ class Report:
     ``written`` holds every entry of every file read, verified or not, by (kind, key), in the order
     the files were read; ``references_readable`` is False when references.yaml exists but is not a
     mapping of keys (so its entries cannot be told apart).  ``digests`` gives for each folder of cycle
-    files (``cycles/<map id>``) a SHA-256 of its files' names and bytes, where verification read every
-    file of it (a catalogue read whole from memory has none).
+    files (``cycles/<map id>``) a SHA-256 of its files' names and bytes, where verification knew the bytes
+    of every file of it (a catalogue read whole from memory has none).
     """
 
     catalogue: Catalogue

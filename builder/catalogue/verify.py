@@ -17,6 +17,7 @@ from functools import partial
 from itertools import groupby
 from pathlib import Path
 from types import MappingProxyType
+from typing import TypeGuard
 
 from builder.arith.dynamics import AffineMap
 from builder.arith.integers import show
@@ -209,8 +210,7 @@ class _Verification:
                 and len(key) == 2
                 and isinstance(key[0], bytes)
                 and key[1] == files[place][2]
-                and isinstance(outcome, Checked)
-                and outcome.holds_with(self.known)
+                and self.holds(outcome)
             ):
                 hits[place] = (key, outcome)
                 return True
@@ -224,7 +224,11 @@ class _Verification:
         if key is None:
             return None
         kept = self.cache.file(self.scope, file.rel, key, self.paths, stamp)
-        return kept if isinstance(kept, Checked) and kept.holds_with(self.known) else None
+        return kept if self.holds(kept) else None
+
+    def holds(self, kept: object) -> TypeGuard[Checked]:
+        """Whether ``kept``, as the cache gave it, is an outcome that still holds with the references."""
+        return isinstance(kept, Checked) and kept.holds_with(self.known)
 
     def keeps(self, outcome: Checked) -> bool:
         """Whether an outcome may be kept: its answers about reference keys are known, or none could be asked."""

@@ -283,17 +283,15 @@ def _entry_id(*parts: str) -> str:
     return f"urn:uuid:{uuid.uuid5(_FEED_NAMESPACE, '/'.join(parts))}"
 
 
-# What orders the feed: the date, then the map and id of the cycle.
-_found_on, _map_id, _id = (operator.attrgetter(name) for name in ("provenance.found_on", "map_id", "id"))
+_found_on = operator.attrgetter("provenance.found_on")
 
 
 def atom_feed(views: SiteViews) -> str:
     """An Atom feed (RFC 4287) of the newest ``FEED_ENTRIES`` cycles by found_on, newest first; entry ids
     follow fingerprints."""
+    # Pairs (found_on, record): records are named tuples, ordered by map id then id (which tell them apart).
     cycles = views.cycles
-    ties = zip(map(_map_id, reversed(cycles)), map(_id, reversed(cycles)), range(len(cycles) - 1, -1, -1), strict=True)
-    latest = newest(FEED_ENTRIES, zip(map(_found_on, reversed(cycles)), ties, strict=True))
-    entries = [cycles[i] for _, (_, _, i) in latest]
+    entries = [c for _, c in newest(FEED_ENTRIES, zip(map(_found_on, reversed(cycles)), reversed(cycles), strict=True))]
     record = views.record
     updated = f"{entries[0].provenance.found_on.isoformat()}T00:00:00Z" if entries else "1970-01-01T00:00:00Z"
     rights = f"Data licence {record.licence} ({record.licence_url}); {views.edition.label}"

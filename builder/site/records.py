@@ -25,11 +25,11 @@ from builder.site.paths import cycle_url, map_url
 
 __all__ = [
     "AboutRecord",
-    "newest",
     "CoverageRecord",
     "CycleRecord",
     "HistoryRecord",
     "MapRecord",
+    "newest",
 ]
 
 

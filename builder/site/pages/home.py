@@ -61,7 +61,7 @@ def _citation(site: SiteContext) -> str:
 def home_pages(site: SiteContext) -> list[Page]:
     records = site.records
     latest = newest(RECENT, zip(map(_found_on, reversed(records.values())), reversed(records), strict=True))
-    recent = [(key, site.records[key]) for _, key in latest]
+    recent = [(key, records[key]) for _, key in latest]
     context = {
         "cite": _citation(site),
         "dataset_jsonld": jsonld_script(_dataset(site)),
