@@ -32,7 +32,7 @@ __all__ = [
     "SITEMAP_URLS",
     "atom_feed",
     "json_text",
-    "map_json",
+    "map_exports",
     "search_files",
     "sitemap_files",
     "MapPieces",
@@ -141,11 +141,6 @@ def _map(m: MapRecord) -> dict[str, Any]:
     }
 
 
-def map_json(m: MapRecord) -> str:
-    """data/maps/<id>.json: one map with its cycles in full and the record it belongs to."""
-    return json_text({**_map(m), "cycles": [_cycle(c) for c in m.cycles], "record": _about(m.about, whole=False)})
-
-
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 
 
@@ -188,15 +183,30 @@ class MapPieces:
 
 
 def map_pieces(m: MapRecord) -> MapPieces:
+    """The map's pieces of the whole-record exports."""
+    return map_exports(m)[1]
+
+
+def map_exports(m: MapRecord) -> tuple[str, MapPieces]:
+    """data/maps/<id>.json (one map with its cycles in full and the record it belongs to), and the map's
+    pieces of the whole-record exports, which hold the same text of each cycle: made together, each
+    cycle's JSON once."""
+    cycles = [_ENCODER.encode(_cycle(c)) for c in m.cycles]
     rows = io.StringIO()
     writer = csv.writer(rows, lineterminator="\n")
     for c in m.cycles:
         writer.writerow(_csv_row(c))
-    return MapPieces(
-        ",".join("\n" + _ENCODER.encode(_cycle(c)) for c in m.cycles).encode(),
+    fields = {**_map(m), "record": _about(m.about, whole=False)}
+    # The map's file as json_text writes it (keys sorted), with the cycles' texts made above in place.
+    items = {key: _ENCODER.encode(value) for key, value in fields.items()}
+    items["cycles"] = "[" + ",".join(cycles) + "]"
+    text = "{" + ",".join(f"{_ENCODER.encode(key)}:{items[key]}" for key in sorted(items)) + "}\n"
+    pieces = MapPieces(
+        "".join(f",\n{c}" for c in cycles)[1:].encode(),
         ("\n" + _ENCODER.encode(_map(m))).encode(),
         rows.getvalue().encode(),
     )
+    return text, pieces
 
 
 #: Where a map's pieces lie in the exports: byte offsets (end excluded) of its cycles' items and its own

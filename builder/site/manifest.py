@@ -29,6 +29,7 @@ from typing import Any
 from builder.processes import Background, WorkerStopped
 from builder.site.exports import MapPieces, Spans
 from builder.site.pages.common import PageInfo
+from builder.site.spool import Spooled
 
 __all__ = [
     "CATALOGUE_JSON",
@@ -84,8 +85,8 @@ class Done:
     pages: list[PageInfo]
     files: list[str]
     reused: bool = False  # taken from the previous site, not made again
-    record: Record | None = None  # the whole-record exports' layout, from the task that wrote them
     sources: str | None = None  # the digest of what its inputs are made from (None: not known)
+    spooled: Spooled | None = None  # where a map's task with its data file set the map's export pieces aside
 
 
 @dataclass(frozen=True, slots=True)

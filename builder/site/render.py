@@ -34,7 +34,6 @@ SHA-256 is the manifest's) and makes the others.
 from __future__ import annotations
 
 import contextlib
-import functools
 import gc
 import hashlib
 import operator
@@ -42,13 +41,11 @@ import os
 import shutil
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, replace
-from importlib import resources
 from itertools import chain
 from pathlib import Path
 from typing import BinaryIO
 
 import jinja2
-from markupsafe import Markup
 
 from builder import __version__
 from builder.processes import WorkerStopped, default_jobs, return_free_memory, share_work
@@ -56,7 +53,7 @@ from builder.site.digest import stable_digest
 from builder.site.exports import (
     MapPieces,
     atom_feed,
-    map_json,
+    map_exports,
     search_files,
     sitemap_files,
     write_record_exports,
@@ -76,43 +73,17 @@ from builder.site.manifest import (
     remove_files,
 )
 from builder.site.metadata import citation_cff, robots_txt
-from builder.site.pages import NAV, Unit, index_pages
+from builder.site.pages import Unit, index_pages
 from builder.site.pages.common import Page, PageInfo
+from builder.site.spool import Spooled, remove_spools, spool, unspool
+from builder.site.templating import page_environment, template_dir
 from builder.site.views import SiteViews
 
-__all__ = ["MANIFEST", "MARKER", "Writer", "default_jobs", "render_site", "template_dir"]
+__all__ = ["MANIFEST", "MARKER", "Writer", "default_jobs", "render_site"]
 
 #: Written at the top of every built site, so a later build knows the folder is its own to replace.
 MARKER = ".periplus-site"
 _SEARCH = "export:search"  # the task that writes the search index
-_RECORD = "export:record"  # the task that writes the whole-record exports, in a clean build
-
-
-def template_dir() -> Path:
-    """The folder holding the templates and static assets (the top-level templates/ folder)."""
-    return Path(str(resources.files("builder.templates")))
-
-
-def _environment() -> jinja2.Environment:
-    env = jinja2.Environment(
-        loader=jinja2.FileSystemLoader(template_dir()),
-        autoescape=True,
-        undefined=jinja2.StrictUndefined,
-        trim_blocks=True,
-        lstrip_blocks=True,
-        keep_trailing_newline=True,
-        auto_reload=False,
-    )
-    env.globals.update(nav=NAV, version=__version__)
-    nav = env.get_template("_nav.html")
-
-    @functools.lru_cache(maxsize=256)
-    def site_nav(root: str, section: str) -> Markup:
-        # The same for every page at one depth in one section: rendered once, not on each of 50,000 pages.
-        return Markup(nav.render(root=root, section=section))
-
-    env.globals["site_nav"] = site_nav
-    return env
 
 
 # Every file is made new (O_EXCL): never written through a link to a file of the site being replaced.
@@ -132,7 +103,7 @@ class Writer:
         self.fd = open_folder(self.out) if folder is None else folder
         self._folders: set[str] = set()
         self.files: list[str] = []  # every file written, in order
-        self.record: Record | None = None  # set by the task that writes the whole-record exports
+        self.spooled: Spooled | None = None  # where the task that writes a map's data file set its pieces aside
 
     def close(self) -> None:
         if self._own and self.fd >= 0:
@@ -249,25 +220,26 @@ def _tasks(views: SiteViews) -> list[_Task]:
         origin = unit.sources
         sources = None if origin is None else (lambda v, origin=origin: origin(v.site))
         tasks.append(_Task(unit.name, unit.cost, _unit_pages(unit), inputs, unit.map_id, unit.data, sources))
-    size = len(views.cycles)
-    # Costs as a share of a cycle's page per cycle (measured at 50,000 cycles; a rough guess does).
-    tasks.append(_Task(_RECORD, 1 + size // 18, _record_export))
-    tasks.append(_Task(_SEARCH, 1 + size // 17, _search_export, _search_inputs))
+    # Cost as a share of a cycle's page per cycle (measured at 50,000 cycles; a rough guess does).
+    tasks.append(_Task(_SEARCH, 1 + len(views.cycles) // 17, _search_export, _search_inputs))
     return tasks
 
 
 def _unit_pages(unit: Unit) -> Callable[[SiteViews, Writer, jinja2.Environment], list[PageInfo]]:
     def run(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
         pages = _render(views, writer, env, unit.make(views.site))
-        if unit.map_id is not None and unit.data:  # the map's data file, from the unit's inputs
-            writer.text(f"data/maps/{unit.map_id}.json", map_json(views.maps[unit.map_id]))
+        if unit.map_id is not None and unit.data:  # the map's data file and export pieces, from the unit's inputs
+            text, pieces = map_exports(views.maps[unit.map_id])
+            writer.text(f"data/maps/{unit.map_id}.json", text)
+            writer.spooled = spool(writer.fd, pieces)
         return pages
 
     return run
 
 
 def _write_record(views: SiteViews, writer: Writer, kept: Callable[[str], MapPieces | None]) -> Record:
-    """data/catalogue.json and data/cycles.csv, with the pieces ``kept`` gives; their layout."""
+    """data/catalogue.json and data/cycles.csv, with the pieces ``kept`` gives (the others made here);
+    their layout."""
     with open(writer.path(CATALOGUE_JSON), "wb") as catalogue, open(writer.path(CYCLES_CSV), "wb") as table:
         sinks = _Hashed(catalogue), _Hashed(table)
         spans = write_record_exports(views, *sinks, kept)
@@ -284,11 +256,6 @@ class _Hashed:
     def write(self, data: bytes) -> int:
         self.sha256.update(data)
         return self.fh.write(data)
-
-
-def _record_export(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
-    writer.record = _write_record(views, writer, lambda map_id: None)
-    return []
 
 
 def _search_export(views: SiteViews, writer: Writer, env: jinja2.Environment) -> list[PageInfo]:
@@ -353,11 +320,14 @@ def _perform(
         remove_files(at.fd, before.files)  # made again: the files it made before are not all made now
     writer = Writer(at.out, at.fd)
     pages = task.run(views, writer, env)
-    return Done(digest, pages, writer.files, record=writer.record, sources=sources)
+    return Done(digest, pages, writer.files, sources=sources, spooled=writer.spooled)
 
 
-def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, head: HeadStart | None) -> list[Done]:
-    """Run every task, in ``jobs`` processes (this one and forked workers); what each left, in task order."""
+def _run_tasks(
+    views: SiteViews, tasks: list[_Task], out: Path, jobs: int, head: HeadStart | None
+) -> tuple[list[Done], Record]:
+    """Run every task, in ``jobs`` processes (this one and forked workers), then write the whole-record
+    exports; what each task left, in task order, and the exports' layout."""
     fd = open_folder(out)
     try:
         previous = head.previous if head is not None else None
@@ -366,12 +336,14 @@ def _run_tasks(views: SiteViews, tasks: list[_Task], out: Path, jobs: int, head:
             # The files of the tasks this build does not have (a map removed) are not part of it.
             names = {task.name for task in tasks}
             remove_files(fd, (f for name in linked - names for f in previous.tasks[name].files))
-        done = _share_tasks(views, tasks, _Folders(out.resolve(), fd), jobs, previous, linked)
+        at = _Folders(out.resolve(), fd)
+        done = _share_tasks(views, tasks, at, jobs, previous, linked)
+        layout = _record_exports(views, tasks, done, at, previous)
         if previous is not None:
             # Folders that held only files taken from the previous site and made no more.
             names = {task.name for task, d in zip(tasks, done, strict=True) if d.reused}
             remove_empty_folders(fd, (f for name in linked - names for f in previous.tasks[name].files))
-        return done
+        return done, layout
     finally:
         os.close(fd)
 
@@ -382,7 +354,7 @@ def _share_tasks(
     inputs = _common_inputs(views)
     common = _Common(inputs, _digest(inputs, views.site.shared_sources()))
     views.site.marked  # noqa: B018 (made once here, before the workers are forked: they share it)
-    env = _environment()
+    env = page_environment()
     if previous is None:
         # Every template compiled once, here, before the workers are forked: they inherit the compiled code.
         # A build that takes most pages from the site it replaces compiles only those it uses, as it uses them.
@@ -396,13 +368,7 @@ def _share_tasks(
     # runs of neighbours, so that each process reads (and a worker copies) its own part of the record;
     # what reads every record (the site-wide pages, the exports) is done by this process, which owns it.
     maps = [i for i, task in enumerate(tasks) if not task.reads_all]
-    # An incremental build writes the whole-record exports last, from the pieces of the maps whose pages
-    # it took from the previous site, as that site's exports hold them, and the others made afresh.
-    record = next(i for i, task in enumerate(tasks) if task.name == _RECORD)
-    pieced = previous is not None and previous.record is not None
-    whole = [
-        i for i, task in enumerate(tasks) if task.reads_all and task.name != _SEARCH and not (pieced and i == record)
-    ]
+    whole = [i for i, task in enumerate(tasks) if task.reads_all and task.name != _SEARCH]
     # The search index needs the most memory while it is made (40 MB at 50,000 cycles): made once the
     # workers are gone, not on top of their copies.
     last = [i for i, task in enumerate(tasks) if task.name == _SEARCH]
@@ -411,15 +377,29 @@ def _share_tasks(
         done = share_work(maps, jobs, run, cost=lambda i: tasks[i].cost, home=whole, last=last)
     except WorkerStopped as stopped:
         raise SystemExit(f"a page-writing process stopped: {stopped}") from None
-    if pieced:
-        assert previous is not None
-        kept = previous.pieces()
-        # The map's task with its data file reads what its pieces are made from.
-        reused = {tasks[i].map_id for i in maps if done[i].reused and tasks[i].data}
-        writer = Writer(at.out, at.fd)
-        layout = _write_record(views, writer, lambda map_id: kept(map_id) if map_id in reused else None)
-        done[record] = Done(None, [], writer.files, record=layout)
     return [done[i] for i in range(len(tasks))]
+
+
+def _record_exports(
+    views: SiteViews, tasks: list[_Task], done: list[Done], at: _Folders, previous: Previous | None
+) -> Record:
+    """Write the whole-record exports once every task is done, from each map's pieces: as the task that
+    wrote its data file set them aside (builder.site.spool), or, where that task was kept from the
+    previous site, as that site's exports hold them."""
+    spooled = {task.map_id: d.spooled for task, d in zip(tasks, done, strict=True) if d.spooled is not None}
+    # The map's task with its data file reads what its pieces are made from.
+    reused = {task.map_id for task, d in zip(tasks, done, strict=True) if d.reused and task.data}
+    kept = previous.pieces() if previous is not None and previous.record is not None and reused else None
+
+    def pieces(map_id: str) -> MapPieces | None:
+        if map_id in spooled:
+            return unspool(at.fd, spooled[map_id])
+        return kept(map_id) if kept is not None and map_id in reused else None
+
+    try:
+        return _write_record(views, Writer(at.out, at.fd), pieces)
+    finally:
+        remove_spools(at.fd, spooled.values())
 
 
 def render_site(views: SiteViews, out: Path, jobs: int = 1, head: HeadStart | None = None) -> list[str]:
@@ -439,15 +419,17 @@ def render_site(views: SiteViews, out: Path, jobs: int = 1, head: HeadStart | No
 
 def _write_site(views: SiteViews, out: Path, jobs: int, head: HeadStart | None) -> list[str]:
     tasks = _tasks(views)
-    done = _run_tasks(views, tasks, out, jobs, head)
+    done, layout = _run_tasks(views, tasks, out, jobs, head)
     with Writer(out) as writer:
-        return _write_rest(views, out, writer, tasks, done)
+        return _write_rest(views, out, writer, tasks, done, layout)
 
 
-def _write_rest(views: SiteViews, out: Path, writer: Writer, tasks: list[_Task], done: list[Done]) -> list[str]:
+def _write_rest(
+    views: SiteViews, out: Path, writer: Writer, tasks: list[_Task], done: list[Done], layout: Record
+) -> list[str]:
     """The pages and files made from every other: the indexes, the site map, the feed, the assets, the manifest."""
     written = [info for d in done for info in d.pages]
-    written += _render(views, writer, _environment(), index_pages(views.site, written))
+    written += _render(views, writer, page_environment(), index_pages(views.site, written))
     pages = [info.path for info in written]
     for path, text in sitemap_files([info.path for info in written if info.listed], views.base_url):
         writer.text(path, text)
@@ -463,7 +445,6 @@ def _write_rest(views: SiteViews, out: Path, writer: Writer, tasks: list[_Task],
         if asset.is_file() and not asset.name.startswith("."):
             (out / "static").mkdir(exist_ok=True)
             shutil.copyfile(asset, out / "static" / asset.name)
-    layout = next(d.record for d in done if d.record is not None)
     writer.text(MANIFEST, manifest_text([t.name for t in tasks], done, layout))
     writer.text(MARKER, f"This folder was written by periplus {__version__}; periplus build replaces it whole.\n")
     return pages
