@@ -14,8 +14,11 @@ a claim cannot make verification follow orbits further than its command allows.
 from __future__ import annotations
 
 import hashlib
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import replace
+from functools import partial
+from pathlib import Path
+from typing import Any, Protocol
 
 from builder.arith.dynamics import AffineMap, default_max_bits
 from builder.arith.integers import show
@@ -27,9 +30,17 @@ from builder.errors import KeyPath, Position, Problem, Severity
 from builder.search.definition import HuntResult
 from builder.search.engine import hunt_range
 
-__all__ = ["recheck_coverage"]
+__all__ = ["SearchMemo", "recheck_coverage", "search_coverage", "searched", "searches_ahead"]
 
 Finding = tuple[str, str, Severity]  # message, code, severity
+
+
+class SearchMemo(Protocol):
+    """Where searches are kept by key (builder.catalogue.cache.VerifyCache is one)."""
+
+    def search(self, key: bytes) -> Any | None: ...
+
+    def keep_search(self, key: bytes, value: Any) -> None: ...
 
 
 def recheck_coverage(
@@ -38,7 +49,7 @@ def recheck_coverage(
     limits: Limits,
     problems: list[Problem],
     where: Callable[[KeyPath], Position],
-    cache: VerifyCache | None = None,
+    cache: SearchMemo | None = None,
 ) -> MapEntry:
     """Search each coverage claim again as far as the limits allow; report what the catalogue or the claim lacks.
 
@@ -46,7 +57,7 @@ def recheck_coverage(
     a key path in the map's file.  The claims of one map share ``limits.map_work``.  A search the
     ``cache`` keeps (the same definition, range, limits and budget) is taken from it, not run again.
     """
-    memo = cache if cache is not None else VerifyCache.memory()
+    memo: SearchMemo = cache if cache is not None else VerifyCache.memory()
     checked = []
     searches: dict[tuple[int, int, int], HuntResult] = {}  # claims of one map often search the same starts
     budget = limits.map_work
@@ -86,7 +97,7 @@ def _recheck(
     claim: Coverage,
     cycles: Mapping[int, Cycle],
     limits: Limits,
-    budget: tuple[int, dict[tuple[int, int, int], HuntResult], VerifyCache],
+    budget: tuple[int, dict[tuple[int, int, int], HuntResult], SearchMemo],
     label: str,
 ) -> tuple[list[Finding], tuple[Recheck, int]]:
     """Search the claim again (or reuse an equal search of the same map); return the findings, and what
@@ -160,3 +171,71 @@ def _findings(
             "coverage-resolved-start", Severity.WARNING,
         ))  # fmt: skip
     return findings
+
+
+class _Missing(Exception):
+    """A search that the memo a probe asks does not keep."""
+
+
+class _Probe:
+    """A memo that answers from another, and raises _Missing for a search that one does not keep."""
+
+    def __init__(self, memo: SearchMemo) -> None:
+        self.memo = memo
+
+    def search(self, key: bytes) -> Any | None:
+        kept = self.memo.search(key)
+        if not isinstance(kept, HuntResult):  # none, or not one this program keeps: searched again
+            raise _Missing
+        return kept
+
+    def keep_search(self, key: bytes, value: Any) -> None:
+        raise AssertionError("a probe never searches")
+
+
+class _Kept(dict[bytes, Any]):
+    """A memo of the searches run in one recheck, and nothing else."""
+
+    def search(self, key: bytes) -> Any | None:
+        return self.get(key)
+
+    def keep_search(self, key: bytes, value: Any) -> None:
+        self[key] = value
+
+
+def _nowhere(path: Any) -> Position:
+    return Position(Path(), 0, 0, path)
+
+
+def searched(entry: MapEntry, limits: Limits, memo: SearchMemo) -> bool:
+    """Whether ``memo`` keeps every search that rechecking the map's claims (recheck_coverage) runs."""
+    try:
+        recheck_coverage(entry, {}, limits, [], _nowhere, _Probe(memo))
+    except _Missing:
+        return False
+    return True
+
+
+def search_coverage(entry: MapEntry, limits: Limits) -> dict[bytes, Any]:
+    """Every search that rechecking the map's claims runs, by its key, all run here: work another process
+    can do ahead of the recheck, which finds them kept once they are given to its memo.
+
+    The searches do not depend on the cycles listed (only the findings do), so none are given here."""
+    kept = _Kept()
+    recheck_coverage(entry, {}, limits, [], _nowhere, kept)
+    return dict(kept)
+
+
+def searches_ahead(
+    entries: Iterable[MapEntry], limits: Limits, memo: SearchMemo
+) -> tuple[list[Callable[[], dict[bytes, Any]]], Callable[[dict[bytes, Any]], None]]:
+    """The searches of the maps whose claims need one that ``memo`` does not keep, as work to do ahead
+    (the longest first: the most starts to search), and what gives their results to ``memo``."""
+    wanted = [e for e in entries if e.coverage and not searched(e, limits, memo)]
+    wanted.sort(key=lambda e: -sum(min(c.bound, limits.recheck_up_to) for c in e.coverage))
+
+    def take(found: dict[bytes, Any]) -> None:
+        for key, value in found.items():
+            memo.keep_search(key, value)
+
+    return [partial(search_coverage, e, limits) for e in wanted], take

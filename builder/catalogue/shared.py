@@ -34,18 +34,29 @@ class _File(Protocol):
 #: Checks the file numbered i: its cache key (None if unreadable) and its outcome.
 CheckOne = Callable[[int], tuple[Any, Any]]
 
-# What a worker checks files with: set just before the workers are forked, so that they inherit it.
-_FORKED: tuple[CheckOne, Sequence[_File]] | None = None
+# What a worker checks files with, and the work it may do ahead: set just before the workers are
+# forked, so that they inherit it.
+_FORKED: tuple[CheckOne, Sequence[_File], Sequence[Callable[[], Any]]] | None = None
 
 
 def check_shared(
-    check_one: CheckOne, files: Sequence[_File], todo: list[int], jobs: int, paths: Mapping[str, Path]
+    check_one: CheckOne,
+    files: Sequence[_File],
+    todo: list[int],
+    jobs: int,
+    paths: Mapping[str, Path],
+    ahead: Sequence[Callable[[], Any]] = (),
+    take: Callable[[Any], None] = lambda result: None,
 ) -> Iterator[tuple[int, Any, Any, Share | None]]:
     """Check the files numbered ``todo``: (number, key, outcome, share) for each, in no set order.
 
     With ``jobs`` above 1 and at least SHARE_FROM files, forked workers check them and the outcomes
     come without their entries as written, which ``share`` holds; otherwise this process checks
     them and ``share`` is None.  ``paths`` gives each file's path by its path from the root.
+
+    ``ahead`` is work the caller would do later (the coverage searches, which take seconds each and
+    no file): with workers, they do it first, beside the files, and each result is given to ``take``
+    here as it comes; without workers, none of it is done.
     """
     jobs = min(jobs, -(-len(todo) // SHARE_FROM))
     if jobs <= 1 or not can_fork():
@@ -55,11 +66,14 @@ def check_shared(
         return
     global _FORKED
     size = max(1, -(-len(todo) // (jobs * 8)))
-    shares = [todo[at : at + size] for at in range(0, len(todo), size)]
-    _FORKED = (check_one, files)
+    shares: list[int | list[int]] = [*range(len(ahead)), *(todo[at : at + size] for at in range(0, len(todo), size))]
+    _FORKED = (check_one, files, ahead)
     try:
         with multiprocessing.get_context("fork").Pool(jobs, initializer=ignore_interrupts) as pool:
             for data, written in pool.imap_unordered(_check_share, shares):
+                if written is None:  # the result of work done ahead
+                    take(data)
+                    continue
                 done = loads(data, paths)
                 assert done is not None, "a worker's outcomes load"
                 share = Share(written, paths)
@@ -69,10 +83,13 @@ def check_shared(
         _FORKED = None
 
 
-def _check_share(share: list[int]) -> tuple[bytes, bytes]:
-    """In a worker: check the files numbered ``share``; their outcomes and their entries as written, as bytes."""
+def _check_share(share: int | list[int]) -> tuple[Any, bytes | None]:
+    """In a worker: check the files numbered ``share``; their outcomes and their entries as written, as
+    bytes.  Given a number alone, do that piece of the work ahead: its result, and None."""
     assert _FORKED is not None, "a worker runs only in a process forked by check_shared"
-    check_one, files = _FORKED
+    check_one, files, ahead = _FORKED
+    if isinstance(share, int):
+        return ahead[share](), None
     done, written = [], []
     for i in share:
         key, outcome = check_one(i)

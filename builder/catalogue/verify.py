@@ -22,7 +22,7 @@ from typing import TypeGuard
 from builder.arith.dynamics import AffineMap
 from builder.arith.integers import show
 from builder.catalogue.cache import VerifyCache, definition_digest
-from builder.catalogue.coverage import recheck_coverage
+from builder.catalogue.coverage import recheck_coverage, searches_ahead
 from builder.catalogue.cycles import check_cycle
 from builder.catalogue.files import (
     RawCatalogue,
@@ -388,8 +388,11 @@ class _Verification:
     def check_many(
         self, files: list[RawFile], states: list[str], todo: list[int]
     ) -> Iterator[tuple[int, tuple[bytes, str] | None, Checked, Share | None]]:
-        """Check the files numbered ``todo``; in forked workers when there are enough of them (shared.py)."""
-        yield from check_shared(lambda i: self.check_one(files[i], states[i]), files, todo, self.jobs, self.paths)
+        """Check the files numbered ``todo``; in forked workers when there are enough of them (shared.py), which
+        also run the coverage searches that the cache does not keep, first, for report() to find kept."""
+        ahead = searches_ahead(self.maps.values(), self.limits, self.cache)
+        check = self.check_one
+        yield from check_shared(lambda i: check(files[i], states[i]), files, todo, self.jobs, self.paths, *ahead)
 
     def add_cycle(self, cycle: Cycle, line: int, column: int, key: KeyPath) -> None:
         """List a derived cycle unless it is listed already, under this map or a map of the same definition."""

@@ -14,11 +14,14 @@ from __future__ import annotations
 import os
 from collections.abc import Callable
 from pathlib import Path
+from typing import Any
 
 import pytest
 from conftest import BROKEN_CASES, REPO
 from test_cache import NO_RECHECK, detail
+from test_coverage import with_claim
 
+from builder.catalogue import coverage as coverage_module
 from builder.catalogue import shared as shared_module
 from builder.catalogue import verify as verify_module
 from builder.catalogue.cache import VerifyCache
@@ -88,3 +91,51 @@ def test_a_cache_filled_by_workers_reads_each_workers_entries_once(tmp_path, mon
         report = verify_catalogue(REPO / "catalogue", NO_RECHECK, cache, jobs=2)
     assert report.ok
     assert decoded and len(decoded) == len(set(decoded))
+
+
+@pytest.fixture
+def searchers(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> Callable[[], list[int]]:
+    """The ids of the processes that ran a coverage search, one per search."""
+    log = tmp_path / "searchers"
+    log.touch()
+    real = coverage_module.hunt_range
+
+    def counting(*args: Any, **kwargs: Any) -> Any:
+        with open(log, "a") as fh:  # appended to by every process that searches
+            fh.write(f"{os.getpid()}\n")
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(coverage_module, "hunt_range", counting)
+    return lambda: [int(line) for line in log.read_text().split()]
+
+
+def test_coverage_searches_run_ahead_by_workers_give_the_one_process_report(catalogue, shared, searchers):
+    # A true claim, and a claim that the catalogue lacks a cycle for: the workers search both while
+    # they check the files, and the recheck finds their searches kept (it searches nothing itself).
+    root = catalogue()
+    with_claim(root, "3x-plus-1", 1000)
+    # 3x+1 on Z has a cycle through -17 (Lagarias 1985 via literature.md, status memory): a claim to 1000
+    # without its file is false.
+    (root / "cycles" / "3x-plus-1" / "through-minus-17.yaml").unlink()
+    one = detail(verify_catalogue(root, Limits(), jobs=1))
+    assert searchers() and set(searchers()) == {os.getpid()}  # one process: it searched itself
+    before = len(searchers())
+    three = detail(verify_catalogue(root, Limits(), jobs=3))
+    assert one == three
+    assert "coverage-missing-cycle" in {problem[5] for problem in three[2]}
+    ahead = searchers()[before:]
+    assert len(ahead) == before and os.getpid() not in ahead  # every search, all by workers
+    assert set(shared()) - {os.getpid()}
+
+
+def test_searches_the_cache_keeps_are_not_run_ahead(catalogue, tmp_path, shared, searchers):
+    root = catalogue()
+    with_claim(root, "3x-plus-1", 1000)
+    with VerifyCache.open(tmp_path / "cache") as cache:
+        first = detail(verify_catalogue(root, Limits(), cache, jobs=3))
+    ran = len(searchers())
+    assert ran
+    with VerifyCache.open(tmp_path / "cache") as cache:
+        again = detail(verify_catalogue(root, Limits(), cache, jobs=3))
+    assert first == again
+    assert len(searchers()) == ran  # all kept: nothing searched, ahead or not
