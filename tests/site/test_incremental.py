@@ -251,6 +251,32 @@ def test_the_whole_record_exports_are_pieced_from_the_previous_site(tmp_path: Pa
     assert b"(edited) " in (site / "data/catalogue.json").read_bytes()
 
 
+@pytest.mark.parametrize("jobs", [1, 2])
+def test_a_clean_builds_whole_record_exports_are_those_made_from_the_records(tmp_path: Path, jobs: int) -> None:
+    # Each map's pieces are made with its data file by the process that writes it, set aside in a spool and
+    # copied into the exports: the same bytes as making every piece from the records at once, here, and
+    # the spools are gone from the site.
+    import io
+
+    from builder.site.build import _verified
+    from builder.site.exports import write_record_exports
+
+    site = tmp_path / "site"
+    assert build_site(VALID, site, jobs=jobs, reuse=False).report.ok
+    views = _verified(VALID, None, None, 1, None).views  # what the build made its pages from
+    assert views is not None
+    catalogue, table = io.BytesIO(), io.BytesIO()
+    spans = write_record_exports(views, catalogue, table, lambda map_id: None)
+    assert (site / "data/catalogue.json").read_bytes() == catalogue.getvalue()
+    assert (site / "data/cycles.csv").read_bytes() == table.getvalue()
+    layout = json.loads((site / MANIFEST).read_text(encoding="utf-8"))["record"]["spans"]
+    assert layout == {map_id: list(at) for map_id, at in spans.items()}
+    assert not [p for p in site.rglob(".pieces-*")]
+    for map_id, (start, end, *_) in spans.items():  # a map's cycles, as its own data file has them
+        mine = json.loads((site / f"data/maps/{map_id}.json").read_bytes())["cycles"]
+        assert json.loads(b"[" + catalogue.getvalue()[start:end] + b"]") == mine
+
+
 def test_the_digest_reads_plain_data_of_any_size() -> None:
     from datetime import date
 
