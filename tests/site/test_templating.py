@@ -35,7 +35,9 @@ def test_markup_is_written_as_it_is_without_a_copy(text: str) -> None:
 
 def test_the_characters_html_gives_a_meaning_are_escaped() -> None:
     # HTML 5, "Escaping a string" (common practice, no source for the quote forms): the five characters.
-    assert escape_output("<a href=\"x\" title='y'>&</a>") == "&lt;a href=&#34;x&#34; title=&#39;y&#39;&gt;&amp;&lt;/a&gt;"
+    assert (
+        escape_output("<a href=\"x\" title='y'>&</a>") == "&lt;a href=&#34;x&#34; title=&#39;y&#39;&gt;&amp;&lt;/a&gt;"
+    )
 
 
 def test_a_template_writes_values_through_it_and_markup_unchanged() -> None:
