@@ -9,6 +9,7 @@ through nh3).
 
 from __future__ import annotations
 
+import functools
 import re
 
 import markdown
@@ -52,11 +53,18 @@ def _outline(html: str) -> str:
     return _HEADING_TAG.sub(renumber, html)
 
 
+@functools.lru_cache(maxsize=1)
+def _converter() -> markdown.Markdown:
+    """One Markdown converter for every note of a process, reset before each (making one with its
+    extensions takes longer than converting a note)."""
+    return markdown.Markdown(extensions=["tables"], output_format="html")
+
+
 def render_notes(text: str | None) -> Markup:
     """Markdown to sanitised HTML ('' for no text). Headings start at h3 so page outlines stay in order."""
     if not text:
         return Markup("")
-    html = markdown.markdown(text, extensions=["tables"], output_format="html")
+    html = _converter().reset().convert(text)
     clean = nh3.clean(
         html,
         tags=_TAGS,

@@ -24,12 +24,17 @@ FULL_DIGITS = 2000
 
 def number(n: int) -> Markup:
     """A signed integer as MathML (a minus sign operator before the digits)."""
+    return Markup(_number(n))
+
+
+def _number(n: int) -> str:
+    # The text of number(n), for the formulas made here (a Markup for each number would cost more than it).
     text = to_decimal(abs(n))
     if len(text) > FULL_DIGITS:
         body = f"<mtext>{text[:24]}…{text[-12:]} ({len(text):,} digits)</mtext>"
     else:
         body = f"<mn>{text}</mn>"
-    return Markup(f"<mrow><mo>−</mo>{body}</mrow>" if n < 0 else body)
+    return f"<mrow><mo>−</mo>{body}</mrow>" if n < 0 else body
 
 
 def _affine(a: int, b: int) -> str:
@@ -39,11 +44,11 @@ def _affine(a: int, b: int) -> str:
     elif a == -1:
         head = "<mo>−</mo><mi>n</mi>"
     else:
-        head = f"{number(a)}<mo>&#x2062;</mo><mi>n</mi>"  # invisible times
+        head = f"{_number(a)}<mo>&#x2062;</mo><mi>n</mi>"  # invisible times
     if b == 0:
         return f"<mrow>{head}</mrow>"
     sign = "+" if b > 0 else "−"
-    return f"<mrow>{head}<mo>{sign}</mo>{number(abs(b))}</mrow>"
+    return f"<mrow>{head}<mo>{sign}</mo>{_number(abs(b))}</mrow>"
 
 
 def map_definition_mathml(modulus: int, branches: Sequence[tuple[int, int]], name: str) -> Markup:
@@ -52,9 +57,9 @@ def map_definition_mathml(modulus: int, branches: Sequence[tuple[int, int]], nam
     for i, (a, b) in enumerate(branches):
         rows.append(
             "<mtr>"
-            f"<mtd><mfrac>{_affine(a, b)}{number(modulus)}</mfrac></mtd>"
+            f"<mtd><mfrac>{_affine(a, b)}{_number(modulus)}</mfrac></mtd>"
             "<mtd><mtext>if&#xa0;</mtext><mi>n</mi><mo>≡</mo>"
-            f'{number(i)}<mspace width="0.4em"/><mo>(</mo><mi>mod</mi><mspace width="0.2em"/>{number(modulus)}<mo>)</mo>'
+            f'{_number(i)}<mspace width="0.4em"/><mo>(</mo><mi>mod</mi><mspace width="0.2em"/>{_number(modulus)}<mo>)</mo>'
             "</mtd></mtr>"
         )
     label = escape(f"Definition of {name}", quote=True)
@@ -65,7 +70,7 @@ def map_definition_mathml(modulus: int, branches: Sequence[tuple[int, int]], nam
 
 
 def _power(base: int, exponent: int) -> str:
-    body: str = number(base)
+    body = _number(base)
     if base < 0:
         body = f"<mrow><mo>(</mo>{body}<mo>)</mo></mrow>"
     return body if exponent == 1 else f"<msup>{body}<mn>{exponent}</mn></msup>"
@@ -85,7 +90,7 @@ def cycle_equation_mathml(
     """
     product = "<mo>&#x2062;</mo>".join(_power(a, c) for a, c in factors if a != 1 and c) or "<mn>1</mn>"
     general = "<mfrac><mi>B</mi><mrow><msup><mi>m</mi><mi>k</mi></msup><mo>−</mo><mi>A</mi></mrow></mfrac>"
-    specific = f"<mfrac>{number(offset)}<mrow>{_power(modulus, length)}<mo>−</mo>{product}</mrow></mfrac>"
+    specific = f"<mfrac>{_number(offset)}<mrow>{_power(modulus, length)}<mo>−</mo>{product}</mrow></mfrac>"
     if target == 0:
         tail = "<mtext>&#xa0;(m^k = A: the equation is satisfied by every start following the word, as B = 0)</mtext>"
         return Markup(
@@ -93,6 +98,6 @@ def cycle_equation_mathml(
         )
     return Markup(
         '<math display="block"><mrow><mi>n</mi><mo>=</mo>'
-        f"{general}<mo>=</mo>{specific}<mo>=</mo><mfrac>{number(offset)}{number(target)}</mfrac>"
-        f"<mo>=</mo>{number(start)}</mrow></math>"
+        f"{general}<mo>=</mo>{specific}<mo>=</mo><mfrac>{_number(offset)}{_number(target)}</mfrac>"
+        f"<mo>=</mo>{_number(start)}</mrow></math>"
     )

@@ -25,42 +25,27 @@ STRIP_CELLS = 256
 PALETTE = ("#4a5d7e", "#c0692b", "#2e7d5b", "#8e3b72", "#7a6a1f", "#356f8a", "#a23b3b", "#5b5196", "#60753a", "#8a5a2e")
 
 
-def _log_size(n: int) -> float:
-    """log2 |n| (0 for n = 0 or +-1): the height of a member in the plot."""
-    return math.log2(abs(n)) if n not in (0, 1, -1) else 0.0
-
-
 def _fmt(v: float) -> str:
     return f"{v:.1f}"
 
 
-def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> Markup:
-    """The size of each member, step by step, back to the start: a polyline on a log2 scale."""
-    values = [_log_size(n) for n in members] + [_log_size(members[0])]
-    steps = len(values) - 1
-    if len(values) > MAX_POINTS:
-        # Keep each bucket's extremes, so spikes survive the reduction.
-        size = math.ceil(len(values) / (MAX_POINTS // 2))
-        points = []
-        for lo in range(0, len(values), size):
-            chunk = values[lo : lo + size]
-            points.append((lo, min(chunk)))
-            points.append((lo + len(chunk) - 1, max(chunk)))
-    else:
-        points = list(enumerate(values))
-    top = max(values)
-    # Gridlines at whole powers of two, at most five of them.
-    tick = max(1, math.ceil(top / 4))
-    span = float(tick * max(1, math.ceil(top / tick)))
-    plot_w = WIDTH - LEFT - RIGHT
-    plot_h = HEIGHT - TOP - BOTTOM
+_PLOT_W = WIDTH - LEFT - RIGHT
+_PLOT_H = HEIGHT - TOP - BOTTOM
+
+
+@functools.lru_cache(maxsize=64)
+def _x_positions(steps: int) -> tuple[str, ...]:
+    """The x coordinate of each step 0..steps of an orbit drawn point by point (many cycles share a length)."""
+    return tuple(f"{LEFT + _PLOT_W * (i / steps if steps else 0.5):.1f}" for i in range(steps + 1))
+
+
+@functools.lru_cache(maxsize=64)
+def _grid(tick: int, span: float) -> str:
+    """The gridlines at whole powers of two, every ``tick`` up to ``span``, with their labels."""
 
     def y(v: float) -> float:
-        return TOP + plot_h * (1 - v / span)
+        return TOP + _PLOT_H * (1 - v / span)
 
-    # x = LEFT + plot_w * (i / steps), y as above: written out, as the plot's points are many.
-    at = [f"{LEFT + plot_w * (i / steps if steps else 0.5):.1f},{TOP + plot_h * (1 - v / span):.1f}" for i, v in points]
-    path = " ".join(at)
     ticks = []
     for j in range(int(span) // tick + 1):
         v = float(j * tick)
@@ -70,24 +55,55 @@ def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> Markup:
             f'<text x="{LEFT - 6}" y="{_fmt(y(v) + 4)}" text-anchor="end" font-size="11" fill="currentColor">'
             f"2^{v:.0f}</text>"
         )
+    return "".join(ticks)
+
+
+def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> Markup:
+    """The size of each member, step by step, back to the start: a polyline on a log2 scale."""
+    log2 = math.log2
+    # The height of each member: log2 |n| (0 for n = 0 or +-1).
+    values = [log2(n if n > 0 else -n) if not -1 <= n <= 1 else 0.0 for n in members]
+    values.append(values[0])
+    steps = len(values) - 1
+    if len(values) > MAX_POINTS:
+        # Keep each bucket's extremes, so spikes survive the reduction.
+        size = math.ceil(len(values) / (MAX_POINTS // 2))
+        points = []
+        for lo in range(0, len(values), size):
+            chunk = values[lo : lo + size]
+            points.append((lo, min(chunk)))
+            points.append((lo + len(chunk) - 1, max(chunk)))
+        xs = [f"{LEFT + _PLOT_W * (i / steps):.1f}" for i, _ in points]
+        heights = [v for _, v in points]
+    else:
+        xs, heights = list(_x_positions(steps)), values
+    top = max(values)
+    # Gridlines at whole powers of two, at most five of them.
+    tick = max(1, math.ceil(top / 4))
+    span = float(tick * max(1, math.ceil(top / tick)))
+    # y = TOP + plot height * (1 - v / span), written out, as the plot's points are many.
+    ys = [f"{TOP + _PLOT_H * (1 - v / span):.1f}" for v in heights]
+    path = " ".join([f"{x},{y}" for x, y in zip(xs, ys, strict=True)])
     sign = "negative " if members[0] < 0 else ""
     desc = f"Size of the {sign}members on a log2 scale over the {steps} steps of the cycle, from 2^0 to 2^{top:.1f}."
     marker = ""
-    if len(points) <= 200:
-        marker = "".join(
-            f'<circle cx="{cx}" cy="{cy}" r="2.2" fill="#c0692b"/>' for cx, _, cy in (p.partition(",") for p in at)
-        )
+    if len(xs) <= 200:
+        marker = "".join([f'<circle cx="{x}" cy="{y}" r="2.2" fill="#c0692b"/>' for x, y in zip(xs, ys, strict=True)])
     return Markup(
         f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {WIDTH} {HEIGHT}" width="{WIDTH}" height="{HEIGHT}" '
         f'role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
         f'<title id="{svg_id}-t">{escape(title)}</title><desc id="{svg_id}-d">{escape(desc)}</desc>'
-        f"{''.join(ticks)}"
-        f'<line x1="{LEFT}" x2="{WIDTH - RIGHT}" y1="{HEIGHT - BOTTOM}" y2="{HEIGHT - BOTTOM}" stroke="currentColor"/>'
-        f'<text x="{LEFT}" y="{HEIGHT - 8}" font-size="11" fill="currentColor">step 0</text>'
-        f'<text x="{WIDTH - RIGHT}" y="{HEIGHT - 8}" font-size="11" text-anchor="end" fill="currentColor">'
+        f"{_grid(tick, span)}{_AXIS}"
         f"step {steps}</text>"
         f'<polyline points="{path}" fill="none" stroke="#4a5d7e" stroke-width="1.6"/>{marker}</svg>'
     )
+
+
+_AXIS = (
+    f'<line x1="{LEFT}" x2="{WIDTH - RIGHT}" y1="{HEIGHT - BOTTOM}" y2="{HEIGHT - BOTTOM}" stroke="currentColor"/>'
+    f'<text x="{LEFT}" y="{HEIGHT - 8}" font-size="11" fill="currentColor">step 0</text>'
+    f'<text x="{WIDTH - RIGHT}" y="{HEIGHT - 8}" font-size="11" text-anchor="end" fill="currentColor">'
+)
 
 
 def word_strip(word: Sequence[int], modulus: int, title: str, svg_id: str) -> Markup:
@@ -96,7 +112,8 @@ def word_strip(word: Sequence[int], modulus: int, title: str, svg_id: str) -> Ma
     cell = max(2.0, min(24.0, 640 / max(len(shown), 1)))
     width = cell * len(shown)
     height = 28
-    rects = _strip_cells(shown, cell, height)
+    cells = _cells(len(shown), modulus)
+    rects = "".join([cells[i][r] for i, r in enumerate(shown)])
     more = f" (the first {len(shown)} of {len(word)} steps)" if len(word) > len(shown) else ""
     desc = f"One cell per step, coloured by the residue mod {modulus} of the member{more}."
     return Markup(
@@ -106,13 +123,17 @@ def word_strip(word: Sequence[int], modulus: int, title: str, svg_id: str) -> Ma
     )
 
 
-@functools.lru_cache(maxsize=256)  # a strip's cells take up to ~35 KB: a bounded few in each process
-def _strip_cells(shown: tuple[int, ...], cell: float, height: int) -> str:
-    """The cells of a word strip (many cycles share a word: the same word in other maps)."""
-    return "".join(
-        f'<rect x="{_fmt(i * cell)}" y="0" width="{_fmt(cell)}" height="{height}" '
-        f'fill="{PALETTE[r % len(PALETTE)]}"><title>step {i}: residue {r}</title></rect>'
-        for i, r in enumerate(shown)
+@functools.lru_cache(maxsize=32)  # up to 256 cells of a few residues each, ~110 bytes a cell: a few MB at most
+def _cells(count: int, modulus: int) -> tuple[tuple[str, ...], ...]:
+    """For each of ``count`` cells of a word strip, its rectangle for each residue (many cycles share a length)."""
+    cell = max(2.0, min(24.0, 640 / max(count, 1)))
+    return tuple(
+        tuple(
+            f'<rect x="{_fmt(i * cell)}" y="0" width="{_fmt(cell)}" height="28" '
+            f'fill="{PALETTE[r % len(PALETTE)]}"><title>step {i}: residue {r}</title></rect>'
+            for r in range(modulus)
+        )
+        for i in range(count)
     )
 
 

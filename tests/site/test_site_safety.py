@@ -639,3 +639,12 @@ def test_the_site_does_not_depend_on_how_many_processes_wrote_it(tmp_path: Path)
     assert build_site(REPO / "catalogue", two, jobs=2).pages > 700
     assert build_site(REPO / "catalogue", three, jobs=3).pages > 700
     assert tree_hashes(one) == tree_hashes(two) == tree_hashes(three)
+
+
+def test_one_note_leaves_nothing_behind_for_the_next() -> None:
+    # One converter serves every note (reset between them): a link defined by reference in one note
+    # (Markdown's reference-style links: common practice, no source) means nothing in the next.
+    first = render_notes("See [the table][t].\n\n[t]: https://example.org/table")
+    assert 'href="https://example.org/table"' in first
+    second = render_notes("See [the table][t].")
+    assert "href" not in second and "[the table][t]" in second

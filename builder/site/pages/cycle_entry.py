@@ -6,6 +6,7 @@ file has every one); the equation is shown in MathML and in plain text.
 
 from __future__ import annotations
 
+import functools
 import operator
 import posixpath
 import re
@@ -73,6 +74,7 @@ _BIBTEX = str.maketrans(
 )
 
 
+@functools.lru_cache(maxsize=4096)  # the record's title, its maintainers, finders...: the same on many pages
 def _bibtex(text: str) -> str:
     """Escape the characters BibTeX and LaTeX treat specially."""
     return text.translate(_BIBTEX)
