@@ -272,6 +272,11 @@ def _remove(folder: Path, later: bool) -> None:
         try:
             os.setsid()
             if os.fork() == 0:
+                # Nor does it hold the command's output open: whoever reads it (a pipe, a script) is done
+                # when the build is, not when the old site is gone.
+                quiet = os.open(os.devnull, os.O_RDWR)
+                for fd in (0, 1, 2):
+                    os.dup2(quiet, fd)
                 shutil.rmtree(folder, ignore_errors=True)
         finally:
             os._exit(0)
