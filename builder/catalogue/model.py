@@ -11,6 +11,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
+from typing import ClassVar
 
 from builder.arith.dynamics import AffineMap, Equation
 from builder.arith.words import rotate
@@ -151,8 +152,12 @@ class MapEntry:
         return self.dynamics.branches
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, weakref_slot=True)
 class Provenance:
+    # Equal provenances load from the cache or the verification's workers as one object
+    # (builder.catalogue.serial): the cycles of one search share theirs.
+    __shared_when_equal__: ClassVar[bool] = True
+
     found_by: str
     found_on: date
     method: str

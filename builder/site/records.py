@@ -11,6 +11,7 @@ published as the model's own frozen type (builder.catalogue.model), not copied i
 from __future__ import annotations
 
 import heapq
+import sys
 from collections.abc import Iterable
 from dataclasses import dataclass
 from datetime import date
@@ -180,7 +181,7 @@ class CycleRecord(NamedTuple):
             cycle.fingerprint,
             to_decimal(cycle.canonical),
             cycle.length,
-            word_text(cycle.canonical_word, entry.modulus),
+            sys.intern(word_text(cycle.canonical_word, entry.modulus)),  # one text for a word many maps share
             tuple(cycle.residue_counts),
             cycle.standard_length,
             _decimal_or_none(rel.shared_factor.get((entry.id, cycle.id))),

@@ -592,3 +592,20 @@ def test_the_readme_names_the_cache_folder_and_its_options() -> None:
     readme = (REPO / "README.md").read_text(encoding="utf-8")
     assert FOLDER_NAME in readme
     assert "--no-cache" in readme and "--cache DIR" in readme
+
+
+def test_equal_provenances_load_as_one_object_and_compare_as_before(tmp_path: Path) -> None:
+    # The cycles one search found share a provenance (common practice, no source): loaded from separate
+    # bytes (two folders of the cache, two workers' shares), equal provenances are one object; another
+    # provenance stays its own, and a loaded one equals the one written.
+    import dataclasses
+    from datetime import date
+
+    from builder.catalogue.model import Provenance
+
+    one = Provenance("a finder", date(2026, 1, 1), "a search up to 10^6", ("ref",), None)
+    other = Provenance("a finder", date(2026, 1, 1), "a search up to 10^6", ("ref",), "a note")
+    first = serial.loads(serial.dumps([one, other], {}), {})
+    second = serial.loads(serial.dumps(dataclasses.replace(one), {}), {})  # an equal object, not the same
+    assert first[0] == one and first[1] == other and second == one
+    assert second is first[0] and first[1] is not first[0]
