@@ -26,9 +26,10 @@ the catalogue is verified (builder.site.manifest.HeadStart); a task with the sam
 them instead of writing them again, any other removes them first, so the result is the clean
 build's, byte for byte (tests/site/test_incremental.py).  Every file is made new, never written
 through a link to the site being replaced.  The whole-record exports (data/catalogue.json,
-data/cycles.csv) are made of one piece per map; the manifest says where each lies, and an
-incremental build takes the unchanged maps' pieces from the previous site's files (once their
-SHA-256 is the manifest's) and makes the others.
+data/cycles.csv) are made of one piece per map, made with the map's data file by the task that
+writes it and set aside (builder.site.spool), then copied in once every task is done; the manifest
+says where each lies, and an incremental build takes the unchanged maps' pieces from the previous
+site's files (once their SHA-256 is the manifest's).
 """
 
 from __future__ import annotations
