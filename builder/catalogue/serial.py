@@ -4,9 +4,10 @@ A warm cache reads one outcome per file of the catalogue, so loading dominates i
 (the model objects, problems, entries as written) are pickled field by field and restored by a
 function made once per class that sets each field in turn, instead of the generic ``__setstate__``
 of ``dataclasses``, which looks the fields up again for every object; named tuples are restored by
-``tuple.__new__``; equal instances of a class marked ``__shared_when_equal__`` load as one object.  A file's own path, which its problems and model objects all name, is written as
-a reference to the file (its path from the catalogue root) and restored as the path it is read at,
-which the cache key makes equal to it.
+``tuple.__new__``; equal instances of a class marked ``__shared_when_equal__`` load as one object.  A
+file's own path, which its problems and model objects all name, is written as a reference to the file
+(its path from the catalogue root) and restored as the path it is read at, which the cache key makes
+equal to it.
 """
 
 from __future__ import annotations

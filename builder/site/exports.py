@@ -184,29 +184,34 @@ class MapPieces:
 
 def map_pieces(m: MapRecord) -> MapPieces:
     """The map's pieces of the whole-record exports."""
-    return map_exports(m)[1]
+    return _pieces(m, _map(m), [_ENCODER.encode(_cycle(c)) for c in m.cycles])
+
+
+def _pieces(m: MapRecord, fields: dict[str, Any], cycles: list[str]) -> MapPieces:
+    """The map's pieces, from its own fields (``_map``) and each cycle's JSON."""
+    rows = io.StringIO()
+    writer = csv.writer(rows, lineterminator="\n")
+    for c in m.cycles:
+        writer.writerow(_csv_row(c))
+    return MapPieces(
+        "".join(f",\n{c}" for c in cycles)[1:].encode(),
+        ("\n" + _ENCODER.encode(fields)).encode(),
+        rows.getvalue().encode(),
+    )
 
 
 def map_exports(m: MapRecord) -> tuple[str, MapPieces]:
     """data/maps/<id>.json (one map with its cycles in full and the record it belongs to), and the map's
     pieces of the whole-record exports, which hold the same text of each cycle: made together, each
     cycle's JSON once."""
+    fields = _map(m)
     cycles = [_ENCODER.encode(_cycle(c)) for c in m.cycles]
-    rows = io.StringIO()
-    writer = csv.writer(rows, lineterminator="\n")
-    for c in m.cycles:
-        writer.writerow(_csv_row(c))
-    fields = {**_map(m), "record": _about(m.about, whole=False)}
     # The map's file as json_text writes it (keys sorted), with the cycles' texts made above in place.
     items = {key: _ENCODER.encode(value) for key, value in fields.items()}
+    items["record"] = _ENCODER.encode(_about(m.about, whole=False))
     items["cycles"] = "[" + ",".join(cycles) + "]"
     text = "{" + ",".join(f"{_ENCODER.encode(key)}:{items[key]}" for key in sorted(items)) + "}\n"
-    pieces = MapPieces(
-        "".join(f",\n{c}" for c in cycles)[1:].encode(),
-        ("\n" + _ENCODER.encode(_map(m))).encode(),
-        rows.getvalue().encode(),
-    )
-    return text, pieces
+    return text, _pieces(m, fields, cycles)
 
 
 #: Where a map's pieces lie in the exports: byte offsets (end excluded) of its cycles' items and its own

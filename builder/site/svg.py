@@ -21,6 +21,7 @@ WIDTH, HEIGHT = 640, 240
 LEFT, RIGHT, TOP, BOTTOM = 56, 12, 12, 32
 MAX_POINTS = 1500  # longer orbits are drawn as the range of each run of steps
 STRIP_CELLS = 256
+STRIP_HEIGHT = 28
 # Residue colours: distinct in hue and lightness, each dark enough for 3:1 against white.
 PALETTE = ("#4a5d7e", "#c0692b", "#2e7d5b", "#8e3b72", "#7a6a1f", "#356f8a", "#a23b3b", "#5b5196", "#60753a", "#8a5a2e")
 
@@ -33,10 +34,15 @@ _PLOT_W = WIDTH - LEFT - RIGHT
 _PLOT_H = HEIGHT - TOP - BOTTOM
 
 
+def _x(step: int, steps: int) -> str:
+    """The x coordinate of a step of an orbit of ``steps`` steps (a fixed point's one step in the middle)."""
+    return f"{LEFT + _PLOT_W * (step / steps if steps else 0.5):.1f}"
+
+
 @functools.lru_cache(maxsize=64)
 def _x_positions(steps: int) -> tuple[str, ...]:
     """The x coordinate of each step 0..steps of an orbit drawn point by point (many cycles share a length)."""
-    return tuple(f"{LEFT + _PLOT_W * (i / steps if steps else 0.5):.1f}" for i in range(steps + 1))
+    return tuple(_x(i, steps) for i in range(steps + 1))
 
 
 @functools.lru_cache(maxsize=64)
@@ -73,7 +79,7 @@ def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> Markup:
             chunk = values[lo : lo + size]
             points.append((lo, min(chunk)))
             points.append((lo + len(chunk) - 1, max(chunk)))
-        xs = [f"{LEFT + _PLOT_W * (i / steps):.1f}" for i, _ in points]
+        xs = [_x(i, steps) for i, _ in points]
         heights = [v for _, v in points]
     else:
         xs, heights = list(_x_positions(steps)), values
@@ -109,27 +115,30 @@ _AXIS = (
 def word_strip(word: Sequence[int], modulus: int, title: str, svg_id: str) -> Markup:
     """The word as a row of coloured cells, one per step (the first STRIP_CELLS steps)."""
     shown = tuple(word[:STRIP_CELLS])
-    cell = max(2.0, min(24.0, 640 / max(len(shown), 1)))
-    width = cell * len(shown)
-    height = 28
+    width = _cell_width(len(shown)) * len(shown)
     cells = _cells(len(shown), modulus)
     rects = "".join([cells[i][r] for i, r in enumerate(shown)])
     more = f" (the first {len(shown)} of {len(word)} steps)" if len(word) > len(shown) else ""
     desc = f"One cell per step, coloured by the residue mod {modulus} of the member{more}."
     return Markup(
-        f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {_fmt(width)} {height}" width="{_fmt(width)}" '
-        f'height="{height}" role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
+        f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {_fmt(width)} {STRIP_HEIGHT}" width="{_fmt(width)}" '
+        f'height="{STRIP_HEIGHT}" role="img" aria-labelledby="{svg_id}-t {svg_id}-d">'
         f'<title id="{svg_id}-t">{escape(title)}</title><desc id="{svg_id}-d">{escape(desc)}</desc>{rects}</svg>'
     )
+
+
+def _cell_width(count: int) -> float:
+    """The width of each of ``count`` cells of a word strip."""
+    return max(2.0, min(24.0, 640 / max(count, 1)))
 
 
 @functools.lru_cache(maxsize=32)  # up to 256 cells of a few residues each, ~110 bytes a cell: a few MB at most
 def _cells(count: int, modulus: int) -> tuple[tuple[str, ...], ...]:
     """For each of ``count`` cells of a word strip, its rectangle for each residue (many cycles share a length)."""
-    cell = max(2.0, min(24.0, 640 / max(count, 1)))
+    cell = _cell_width(count)
     return tuple(
         tuple(
-            f'<rect x="{_fmt(i * cell)}" y="0" width="{_fmt(cell)}" height="28" '
+            f'<rect x="{_fmt(i * cell)}" y="0" width="{_fmt(cell)}" height="{STRIP_HEIGHT}" '
             f'fill="{PALETTE[r % len(PALETTE)]}"><title>step {i}: residue {r}</title></rect>'
             for r in range(modulus)
         )
