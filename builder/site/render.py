@@ -297,6 +297,14 @@ class _Common:
     sources: str
 
 
+@dataclass(frozen=True, slots=True)
+class _Kept:
+    """A task whose files are kept from the previous site (its digest and pages are that site's): all a worker
+    sends back for it, since the build process read the previous site's manifest already."""
+
+    sources: str | None
+
+
 def _perform(
     task: _Task,
     views: SiteViews,
@@ -305,7 +313,7 @@ def _perform(
     common: _Common,
     previous: Previous | None,
     linked: frozenset[str],
-) -> Done:
+) -> Done | _Kept:
     """Run one task, or keep its files taken from the previous site when its inputs are the same.
 
     Its inputs are not even read when what they are made from, its sources, are the previous site's."""
@@ -313,11 +321,11 @@ def _perform(
     sources = None if known is None else _digest(common.sources, known)
     before = previous.tasks[task.name] if previous is not None and task.name in linked else None
     if before is not None and sources is not None and before.sources == sources and before.digest is not None:
-        return Done(before.digest, before.pages, before.files, reused=True, sources=sources)
+        return _Kept(sources)
     digest = None if task.inputs is None else _digest(common.inputs, task.inputs(views))
     if before is not None:
         if digest is not None and before.digest == digest:
-            return Done(digest, before.pages, before.files, reused=True, sources=sources)
+            return _Kept(sources)
         remove_files(at.fd, before.files)  # made again: the files it made before are not all made now
     writer = Writer(at.out, at.fd)
     pages = task.run(views, writer, env)
@@ -362,7 +370,7 @@ def _share_tasks(
         for name in env.list_templates(filter_func=lambda name: name.endswith(".html")):
             env.get_template(name)
 
-    def run(i: int) -> Done:
+    def run(i: int) -> Done | _Kept:
         return _perform(tasks[i], views, at, env, common, previous, linked)
 
     # A map's pages read its own records, made together in catalogue order: the maps are shared out in
@@ -378,7 +386,15 @@ def _share_tasks(
         done = share_work(maps, jobs, run, cost=lambda i: tasks[i].cost, home=whole, last=last)
     except WorkerStopped as stopped:
         raise SystemExit(f"a page-writing process stopped: {stopped}") from None
-    return [done[i] for i in range(len(tasks))]
+    return [_done(tasks[i], done[i], previous) for i in range(len(tasks))]
+
+
+def _done(task: _Task, result: Done | _Kept, previous: Previous | None) -> Done:
+    if isinstance(result, Done):
+        return result
+    assert previous is not None, "only a task of the previous site is kept"
+    before = previous.tasks[task.name]
+    return Done(before.digest, before.pages, before.files, reused=True, sources=result.sources)
 
 
 def _record_exports(
