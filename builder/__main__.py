@@ -1,11 +1,9 @@
 """``python -m builder`` runs the periplus command line."""
 
-import sys
-
-from builder.commands import main
+from builder.commands import program
 
 __all__ = []
 
 # Guarded so that worker processes started by ``spawn`` (periplus hunt) do not run the command again.
 if __name__ == "__main__":
-    sys.exit(main())
+    program()

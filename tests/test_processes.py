@@ -106,3 +106,44 @@ def test_an_interrupted_worker_interrupts_the_caller() -> None:
 
     with pytest.raises(KeyboardInterrupt):
         share_work(list(range(400)), 2, interrupted)
+
+
+# --- keep_to_the_end, and the program that ends with its command --------------------------------------
+
+_PROGRAM = """
+import sys, weakref
+import builder.commands.main
+from builder.processes import keep_to_the_end
+
+class Big:
+    pass
+
+def command():
+    big = Big()
+    weakref.finalize(big, print, "freed", flush=True)
+    if sys.argv[1] == "keep":
+        keep_to_the_end(big)
+    print("done", end="")  # buffered: flushed before the process ends either way
+    return 3
+line = sys.modules["builder.commands.main"]
+line.main = command  # the program's command line, whatever it runs
+line.program()
+"""
+
+
+@pytest.mark.parametrize(("keep", "out"), [("keep", "done"), ("free", "donefreed\n")])
+def test_a_program_ends_with_its_command_s_status_and_output_and_what_it_kept_is_not_freed(keep: str, out: str):
+    # Kept to the end, the object is dropped with the process (its finalizer never runs); else the
+    # program exits as Python does, freeing it (the finalizer runs).  The status and output are the same.
+    import subprocess
+    import sys
+
+    ran = subprocess.run([sys.executable, "-c", _PROGRAM, keep], capture_output=True, text=True, timeout=60)
+    assert (ran.returncode, ran.stdout, ran.stderr) == (3, out, "")
+
+
+def test_nothing_is_kept_outside_a_program() -> None:
+    from builder import processes
+
+    processes.keep_to_the_end(object())
+    assert processes._KEPT is None

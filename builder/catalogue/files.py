@@ -14,7 +14,7 @@ import os
 import re
 import stat
 import time
-from collections.abc import Iterable, Iterator, Mapping
+from collections.abc import Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from enum import StrEnum
 from pathlib import Path
@@ -77,6 +77,10 @@ class Source(Protocol):
         None when there is no such thing, or the file changed too lately for it to be trusted."""
         ...
 
+    def stamps(self, rels: Sequence[str]) -> list[Stamp | None]:
+        """The stamp of each file of ``rels``, in order, as :meth:`stamp` gives it."""
+        ...
+
 
 #: A regular file's size, modification and change times (ns), inode and device.  Every write to a file
 #: sets its change time to the clock's time, which no program but the system can set; so a file whose
@@ -127,6 +131,26 @@ class FolderSource:
         if not stat.S_ISREG(st.st_mode) or max(st.st_mtime_ns, st.st_ctime_ns) > time.time_ns() - SETTLE_NS:
             return None
         return (st.st_size, st.st_mtime_ns, st.st_ctime_ns, st.st_ino, st.st_dev)
+
+    def stamps(self, rels: Sequence[str]) -> list[Stamp | None]:
+        # As stamp does for each, with what it looks up once looked up once for all (a build stamps 50,000
+        # files).  The clock is read first: a file changed while the others are looked at is newer than
+        # it, so it gets no stamp, as with a clock read for each file.
+        settled = time.time_ns() - SETTLE_NS
+        top = os.path.join(self.root, "")
+        lstat, regular = os.lstat, stat.S_ISREG
+        out: list[Stamp | None] = []
+        add = out.append
+        for rel in rels:
+            try:
+                st = lstat(top + rel)
+            except OSError:
+                add(None)
+                continue
+            changed, made = st.st_mtime_ns, st.st_ctime_ns
+            settled_file = regular(st.st_mode) and changed <= settled and made <= settled
+            add((st.st_size, changed, made, st.st_ino, st.st_dev) if settled_file else None)
+        return out
 
 
 def _kind_on_disk(path: Path) -> PathKind:
@@ -195,6 +219,9 @@ class TreeSource:
 
     def stamp(self, rel: str) -> Stamp | None:
         return None  # a tree in memory is read, not looked at
+
+    def stamps(self, rels: Sequence[str]) -> list[Stamp | None]:
+        return [None] * len(rels)
 
 
 @dataclass(slots=True)

@@ -292,7 +292,7 @@ class _Verification:
         keys: list[tuple[bytes, str] | None] = [None] * len(files)
         persistent = self.cache.persistent
         source = self.raw.source
-        stamps = [source.stamp(file.rel) if persistent else None for file in files]
+        stamps = source.stamps([file.rel for file in files]) if persistent else [None] * len(files)
         # The entries as written of the files the cache keeps, kept apart by folder: read when asked for.
         asides: dict[str, tuple[bytes, ...]] = {}
         # A folder's files come one after another: each folder's outcomes are looked up together.

@@ -6,14 +6,15 @@ import argparse
 import os
 import sys
 from collections.abc import Sequence
-from typing import Protocol
+from typing import NoReturn, Protocol
 
 from builder import __version__
 from builder.commands import build, draft, hunt, odds, preview, review, verify
 from builder.commands.options import Subcommands
 from builder.errors import PeriplusError, printable
+from builder.processes import kept_to_the_end
 
-__all__ = ["COMMANDS", "Command", "execute", "main", "parser"]
+__all__ = ["COMMANDS", "Command", "execute", "main", "parser", "program"]
 
 
 class Command(Protocol):
@@ -67,3 +68,21 @@ def execute(args: argparse.Namespace) -> int:
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit status."""
     return execute(parser().parse_args(argv))
+
+
+def program() -> NoReturn:
+    """Run the command line as the program (``periplus``, ``python -m builder``) and exit with its status.
+
+    When the command kept objects to the end (builder.processes.keep_to_the_end: a build's model), the
+    process ends at once, its output flushed, instead of freeing them one by one.  The commands that keep
+    objects have closed their files and reaped their workers by then, and leave nothing to an exit handler."""
+    with kept_to_the_end() as kept:
+        status = main()
+        if kept:
+            try:
+                sys.stdout.flush()
+                sys.stderr.flush()
+            except OSError:  # a reader gone: the status the interpreter's own exit would give
+                status = status or 120
+            os._exit(status)
+    sys.exit(status)

@@ -18,6 +18,7 @@ from builder.commands.options import (
     open_cache,
 )
 from builder.commands.summary import show_report
+from builder.processes import keep_to_the_end
 
 __all__ = ["register", "run"]
 
@@ -43,4 +44,5 @@ def run(args: argparse.Namespace) -> int:
     with open_cache(args, default_cache_folder(args.catalogue)) as cache:
         report = verify_catalogue(args.catalogue, limits_of(args), cache, jobs_of(args))
     show_report(report)
+    keep_to_the_end(report)  # the model: dropped with the process, not freed object by object
     return 0 if report.ok else 1

@@ -29,7 +29,7 @@ from builder.catalogue.verify import Limits, verify_catalogue
 from builder.errors import UsageError
 from builder.history.changelog import Changelog, Edition, read_changelog
 from builder.history.repo import NoHistory, RepoHistory, read_history
-from builder.processes import no_cycle_collection
+from builder.processes import keep_to_the_end, no_cycle_collection
 from builder.site.manifest import HeadStart
 from builder.site.render import MARKER, default_jobs, render_site
 from builder.site.views import SiteViews, build_views
@@ -202,6 +202,7 @@ def build_site(
             _check_target(out)  # another build may have written it while this one waited
             with _staged(out, reuse, 1) as staged:
                 pages = _write(result.views, out, staged, jobs, remove_later)
+    keep_to_the_end(result)  # the model and the views: dropped with the process, when it ends with the build
     return replace(result, pages=len(pages), views=None)
 
 

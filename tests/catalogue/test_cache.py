@@ -224,6 +224,26 @@ def test_a_file_whose_stamp_is_kept_is_not_read_again(catalogue, tmp_path, reads
     assert detail(warm) == detail(cold)
 
 
+def test_the_stamps_of_many_files_are_each_file_s_stamp(tmp_path, monkeypatch):
+    # FolderSource.stamps looks up once what stamp looks up for each file: the same answers, in order,
+    # for a settled file, a file changed within SETTLE_NS, a missing one, a link and a folder.
+    from builder.catalogue.files import FolderSource
+
+    (tmp_path / "old.yaml").write_text("a: 1\n", encoding="utf-8")
+    os.utime(tmp_path / "old.yaml", ns=(10**18, 10**18))  # its change time is now: settled only with no wait
+    (tmp_path / "folder").mkdir()
+    (tmp_path / "link.yaml").symlink_to(tmp_path / "old.yaml")
+    rels = ["old.yaml", "missing.yaml", "link.yaml", "folder", "old.yaml"]
+    source = FolderSource(tmp_path)
+    fresh = source.stamps(rels)
+    assert fresh == [source.stamp(rel) for rel in rels] == [None] * 5
+    monkeypatch.setattr("builder.catalogue.files.SETTLE_NS", 0)
+    settled = source.stamps(rels)
+    assert settled == [source.stamp(rel) for rel in rels]
+    st = (tmp_path / "old.yaml").lstat()
+    assert settled == [(st.st_size, 10**18, st.st_ctime_ns, st.st_ino, st.st_dev), None, None, None, settled[0]]
+
+
 def test_a_file_rewritten_with_its_size_and_times_put_back_is_read_again(catalogue, tmp_path, reads, monkeypatch):
     # The cycle through -5 of 3x+1 is -5, -7, -10 (the fixture's source): -8 is not its second member.  The
     # edit keeps the size, and the modification time is put back; the change time, which only the system
