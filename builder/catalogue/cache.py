@@ -126,6 +126,8 @@ class VerifyCache:
         # What the folder's files keep aside: as kept (bytes by part, read only when needed) and as this run has it.
         self._kept_aside: dict[int, bytes] = {}
         self._seen_aside: dict[str, Any] = {}
+        # The rows of each scope's folders not yet at hand, read together (see _rows_of).
+        self._ahead: dict[bytes, dict[str, list[tuple[Any, ...]]]] = {}
 
     @classmethod
     def memory(cls) -> VerifyCache:
@@ -288,6 +290,7 @@ class VerifyCache:
         finally:
             self._db.close()
             self._db = None
+            self._ahead = {}
 
     # -- inside
 
@@ -319,9 +322,7 @@ class VerifyCache:
         self._use_scope(scope)
         self._folder, self._paths, self._seen, self._changed = (scope, folder), paths, {}, set()
         self._kept, self._parts, self._kept_parts, self._kept_aside, self._seen_aside = {}, 0, {}, {}, {}
-        rows = self._select(
-            "SELECT part, parts, value, aside, mac FROM files WHERE scope = ? AND folder = ?", (scope, folder)
-        )
+        rows = self._rows_of(scope, folder)
         self._had_rows = bool(rows)
         if len({parts for _, parts, _, _, _ in rows}) != 1:
             return  # none, or rows of two ways of cutting: none is used, and the folder is written anew
@@ -336,6 +337,24 @@ class VerifyCache:
             self._kept_parts[part] = set(kept)
             if aside is not None:
                 self._kept_aside[part] = aside
+
+    def _rows_of(self, scope: bytes, folder: str) -> list[tuple[Any, ...]]:
+        """The rows (part, parts, value, aside, mac) of ``folder`` of ``scope``: on the first ask, read with those
+        of every folder of the scope (one query for all takes half the time of one per folder, and a run
+        asks for every folder), then given once per folder; asked again, read again (this run may have
+        written them since)."""
+        ahead = self._ahead.get(scope)
+        if ahead is None:
+            ahead = self._ahead[scope] = {}
+            query = "SELECT folder, part, parts, value, aside, mac FROM files WHERE scope = ?"
+            for row in self._select(query, (scope,)):
+                ahead.setdefault(row[0], []).append(row[1:])
+        rows = ahead.pop(folder, None)
+        if rows is not None:
+            return rows
+        return self._select(
+            "SELECT part, parts, value, aside, mac FROM files WHERE scope = ? AND folder = ?", (scope, folder)
+        )
 
     def _leave(self) -> None:
         """Done with the folder at hand: keep anew each part of its outcomes in which a file changed, came or went."""

@@ -482,6 +482,31 @@ def test_a_read_only_cache_is_read_and_not_written(catalogue, tmp_path, parses, 
     assert (folder / DATABASE).read_bytes() == before
 
 
+def test_a_folder_s_rows_are_read_with_the_others_once_and_read_again_when_asked_again(tmp_path, monkeypatch):
+    # The first folder asked for reads every folder's rows of the scope in one query; a folder asked for
+    # again (as a run that left it and comes back does) is read again, with what this run wrote meanwhile.
+    monkeypatch.setattr(cache_module, "_BATCH_BYTES", 0)  # every folder left is written at once
+    folder, scope = tmp_path / "cache", b"s" * 32
+    paths = {rel: tmp_path / rel for rel in ("a/1.yaml", "b/1.yaml", "c/1.yaml")}
+    with VerifyCache.open(folder) as cache:
+        for rel in paths:
+            cache.keep_file(scope, rel, ("key", 1), ("outcome", rel), paths)
+    queries: list[str] = []
+    with VerifyCache.open(folder) as cache:
+        real = cache._select
+        monkeypatch.setattr(
+            cache, "_select", lambda sql, args: (" FROM files " in sql and queries.append(sql)) or real(sql, args)
+        )
+        assert cache.file(scope, "a/1.yaml", ("key", 1), paths) == ("outcome", "a/1.yaml")
+        cache.keep_file(scope, "a/1.yaml", ("key", 2), ("outcome 2", "a/1.yaml"), paths)
+        assert cache.file(scope, "b/1.yaml", ("key", 1), paths) == ("outcome", "b/1.yaml")
+        assert queries == ["SELECT folder, part, parts, value, aside, mac FROM files WHERE scope = ?"]
+        assert cache.file(scope, "a/1.yaml", ("key", 2), paths) == ("outcome 2", "a/1.yaml")
+        assert cache.file(scope, "c/1.yaml", ("key", 1), paths) == ("outcome", "c/1.yaml")
+        # a, asked for again, was read again, alone; c, not asked for before, was read with the others.
+        assert queries[1:] == ["SELECT part, parts, value, aside, mac FROM files WHERE scope = ? AND folder = ?"]
+
+
 def test_a_cache_folder_that_is_a_file_is_not_used(catalogue, tmp_path, cli):
     root = catalogue()
     blocker = tmp_path / "not-a-folder"
