@@ -11,10 +11,11 @@ is left untouched.
 from __future__ import annotations
 
 import re
+from collections.abc import Sequence
 
 import gmpy2
 
-__all__ = ["DECIMAL_INTEGER", "MPZ_BITS", "parse_decimal", "show", "to_decimal"]
+__all__ = ["DECIMAL_INTEGER", "MPZ_BITS", "decimals", "parse_decimal", "show", "to_decimal"]
 
 #: A decimal integer as the catalogue accepts it: optional sign, no leading
 #: zeros (YAML 1.1 reads ``017`` as octal), no underscores.
@@ -52,6 +53,15 @@ def to_decimal(n: int) -> str:
     if n.bit_length() < _SMALL_BITS:
         return str(int(n))
     return str(gmpy2.mpz(n))
+
+
+def decimals(ns: Sequence[int]) -> tuple[str, ...]:
+    """The decimal text of each of ``ns``, in order, as :func:`to_decimal` gives it.  When every number has
+    fewer than _SMALL_BITS bits (as a cycle's members do), ``str`` writes them all in one pass in C: a
+    cycle's members are written for its page and the exports, a million numbers at 50,000 cycles."""
+    if ns and max(ns).bit_length() < _SMALL_BITS and min(ns).bit_length() < _SMALL_BITS:
+        return tuple(map(str, ns))
+    return tuple(map(to_decimal, ns))
 
 
 def show(n: int) -> str:

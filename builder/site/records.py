@@ -17,7 +17,7 @@ from dataclasses import dataclass
 from datetime import date
 from typing import NamedTuple, TypeVar
 
-from builder.arith.integers import to_decimal
+from builder.arith.integers import decimals, to_decimal
 from builder.arith.words import word_text
 from builder.catalogue.model import Coverage, Cycle, MapEntry, Provenance, Record
 from builder.catalogue.relations import Relations
@@ -138,7 +138,7 @@ class CycleRecord(NamedTuple):
     def members(self) -> tuple[str, ...]:
         """The members from the canonical member, in the order the map visits them: written out when
         asked for (they are most of a record's size, and a build needs them for one page and one file)."""
-        return tuple(to_decimal(n) for n in self.cycle.canonical_members)
+        return decimals(self.cycle.canonical_members)
 
     @property
     def url(self) -> str:
@@ -220,7 +220,7 @@ class CoverageRecord:
             claim.method,
             claim.max_steps,
             claim.max_bits,
-            tuple(to_decimal(n) for n in claim.unresolved),
+            decimals(claim.unresolved),
             claim.rechecked,
             to_decimal(recheck.up_to) if searched and recheck is not None else None,
             recheck.max_steps if recheck is not None else None,

@@ -38,13 +38,13 @@ import zlib
 from array import array
 from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
-from itertools import islice, repeat
+from itertools import repeat
 from typing import Any, Protocol
 
 import numpy as np
 
 from builder.arith.dynamics import AffineMap, shortcut_form
-from builder.arith.integers import parse_decimal, to_decimal
+from builder.arith.integers import decimals, parse_decimal
 from builder.site.paths import cycle_url
 from builder.site.records import CycleRecord, MapRecord
 
@@ -132,7 +132,7 @@ class ListedCycle:
 
     @classmethod
     def of(cls, record: CycleRecord, listed: int) -> ListedCycle:
-        members = tuple(to_decimal(n) for n in islice(record.cycle.canonical_members, listed))
+        members = decimals(record.cycle.canonical_members[:listed])
         return cls(record.id, record.canonical, record.length, record.word, members)
 
 

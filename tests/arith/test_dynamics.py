@@ -12,6 +12,8 @@ import sys
 
 import gmpy2
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
 from builder.arith.dynamics import (
     AffineMap,
@@ -22,7 +24,7 @@ from builder.arith.dynamics import (
     cycle_equation,
     trace,
 )
-from builder.arith.integers import parse_decimal, to_decimal
+from builder.arith.integers import decimals, parse_decimal, to_decimal
 from builder.arith.words import aperiodic_necklace_count, is_rotation, least_rotation_index, rotate
 from builder.search.definition import hunt
 
@@ -274,6 +276,23 @@ def test_decimal_round_trip_agrees_with_gmpy2(digits: int) -> None:
         if n > 0:
             assert parse_decimal("+" + text) == n
     assert sys.get_int_max_str_digits() == limit
+
+
+@given(
+    st.lists(
+        st.one_of(
+            st.integers(-(2**70), 2**70),
+            # Either side of the one-pass limit (13,000 bits), and beyond what str writes (4,300 digits).
+            st.sampled_from([12_999, 13_000, 15_000]).map(lambda bits: 2**bits - 1),
+            st.sampled_from([12_999, 13_000, 15_000]).map(lambda bits: -(2**bits) + 3),
+        ),
+        max_size=8,
+    )
+)
+def test_the_decimals_of_many_numbers_are_each_number_s(ns: list[int]) -> None:
+    # decimals writes a sequence in one pass when every number is short enough for str; else one by one:
+    # either way, gmpy2's decimal text of each (gmpy2, a reference library; sign and digits as Python's str).
+    assert decimals(tuple(ns)) == tuple(str(gmpy2.mpz(n)) for n in ns) == tuple(map(to_decimal, ns))
 
 
 def test_decimal_parsing_refuses_non_canonical_text() -> None:
