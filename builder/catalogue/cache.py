@@ -29,10 +29,8 @@ from __future__ import annotations
 
 import contextlib
 import hashlib
-import math
 import sqlite3
 import time
-import zlib
 from collections.abc import Callable, Hashable, Mapping, Sequence
 from pathlib import Path
 from types import TracebackType
@@ -41,7 +39,19 @@ from typing import Any
 from builder.arith.dynamics import AffineMap
 from builder.catalogue.serial import dumps, loads
 from builder.catalogue.signing import key_file, signing_key
-from builder.catalogue.store import CACHE_FORMAT, connect, engine_version, mark_folder, remove_database
+from builder.catalogue.store import (
+    CACHE_FORMAT,
+    connect,
+    engine_version,
+    mark_folder,
+    number,
+    part_of,
+    parts_for,
+    remove_database,
+    scope_of,
+    sign,
+    signed_rows,
+)
 
 __all__ = [
     "CACHE_FORMAT",
@@ -52,17 +62,18 @@ __all__ = [
     "definition_digest",
     "engine_version",
     "key_file",
+    "scope_of",
 ]
 
 #: The default cache folder's name, beside the catalogue folder.
 FOLDER_NAME = ".periplus-cache"
 DATABASE = "verify.sqlite3"
+#: Every row of the files of a scope (add "AND folder = ?" for one folder's).
+_SCOPE_ROWS = "SELECT folder, part, parts, value, aside, mac FROM files WHERE scope = ?"
 #: Rows not used for this many days are removed.
 _KEEP_DAYS = 30
 #: Outcomes are written in batches of about this many bytes (memory stays bounded on a cold run).
 _BATCH_BYTES = 8 << 20
-#: A folder of more files than this keeps its outcomes in parts of about this many.
-FILES_PER_PART = 256
 
 
 def definition_digest(mapping: AffineMap) -> str:
@@ -126,8 +137,8 @@ class VerifyCache:
         # What the folder's files keep aside: as kept (bytes by part, read only when needed) and as this run has it.
         self._kept_aside: dict[int, bytes] = {}
         self._seen_aside: dict[str, Any] = {}
-        # The rows of each scope's folders not yet at hand, read together (see _rows_of).
-        self._ahead: dict[bytes, dict[str, list[tuple[Any, ...]]]] = {}
+        # The rows of each scope's folders not yet at hand, read together (see prefetch).
+        self._ahead: dict[bytes, dict[str, list[tuple[int, int, bytes, bytes | None, bool]]]] = {}
 
     @classmethod
     def memory(cls) -> VerifyCache:
@@ -295,11 +306,7 @@ class VerifyCache:
     # -- inside
 
     def _mac(self, *parts: bytes) -> bytes:
-        h = hashlib.blake2b(key=self._key, digest_size=32)
-        for part in parts:
-            h.update(len(part).to_bytes(8, "little"))
-            h.update(part)
-        return h.digest()
+        return sign(self._key, *parts)
 
     def _query(self, sql: str, args: tuple[Any, ...]) -> tuple[Any, ...] | None:
         rows = self._select(sql, args)
@@ -326,8 +333,8 @@ class VerifyCache:
         self._had_rows = bool(rows)
         if len({parts for _, parts, _, _, _ in rows}) != 1:
             return  # none, or rows of two ways of cutting: none is used, and the folder is written anew
-        for part, parts, value, aside, mac in rows:
-            if mac != self._mac(b"f", scope, folder.encode(), _number(part), _number(parts), value, aside or b""):
+        for part, parts, value, aside, signed in rows:
+            if not signed:
                 continue  # not this user's: the part's files are checked again
             kept = loads(value, paths)
             if not isinstance(kept, dict):
@@ -338,22 +345,23 @@ class VerifyCache:
             if aside is not None:
                 self._kept_aside[part] = aside
 
-    def _rows_of(self, scope: bytes, folder: str) -> list[tuple[Any, ...]]:
-        """The rows (part, parts, value, aside, mac) of ``folder`` of ``scope``: on the first ask, read with those
-        of every folder of the scope (one query for all takes half the time of one per folder, and a run
-        asks for every folder), then given once per folder; asked again, read again (this run may have
+    def prefetch(self, scope: bytes) -> None:
+        """Read what is kept of every folder of ``scope`` now, and check its signatures, to be given out folder
+        by folder: a run asks for every folder, and one query for all takes half the time of one per folder
+        (a build has it done while a helper process lists the catalogue's files)."""
+        if self._db is not None and scope not in self._ahead:
+            self._ahead[scope] = signed_rows(self._key, scope, self._select(_SCOPE_ROWS, (scope,)))
+
+    def _rows_of(self, scope: bytes, folder: str) -> list[tuple[int, int, bytes, bytes | None, bool]]:
+        """The rows of ``folder`` of ``scope`` (part, parts, value, aside, whether signed with this user's key):
+        on the first ask, prefetched with every other folder's; asked again, read again (this run may have
         written them since)."""
-        ahead = self._ahead.get(scope)
-        if ahead is None:
-            ahead = self._ahead[scope] = {}
-            query = "SELECT folder, part, parts, value, aside, mac FROM files WHERE scope = ?"
-            for row in self._select(query, (scope,)):
-                ahead.setdefault(row[0], []).append(row[1:])
-        rows = ahead.pop(folder, None)
+        self.prefetch(scope)
+        rows = self._ahead[scope].pop(folder, None)
         if rows is not None:
             return rows
-        return self._select(
-            "SELECT part, parts, value, aside, mac FROM files WHERE scope = ? AND folder = ?", (scope, folder)
+        return signed_rows(self._key, scope, self._select(_SCOPE_ROWS + " AND folder = ?", (scope, folder))).get(
+            folder, []
         )
 
     def _leave(self) -> None:
@@ -362,16 +370,16 @@ class VerifyCache:
             return
         scope, folder = self._folder
         if self._writable:
-            parts = _parts_for(len(self._seen))
+            parts = parts_for(len(self._seen))
             now: dict[int, dict[str, tuple[Hashable, Any, Hashable]]] = {}
             for rel, seen in self._seen.items():
-                now.setdefault(_part_of(rel, parts), {})[rel] = seen
+                now.setdefault(part_of(rel, parts), {})[rel] = seen
             if parts != self._parts:  # cut another way (or none used): every part is written anew
                 if self._had_rows:  # and no row of another cut (or unsigned) is left behind
                     self._pending_files.append((scope, folder))
                 changed = set(now)
             else:
-                changed = {_part_of(rel, parts) for rel in self._changed}
+                changed = {part_of(rel, parts) for rel in self._changed}
                 changed |= {
                     n
                     for n in now.keys() | self._kept_parts.keys()
@@ -399,7 +407,7 @@ class VerifyCache:
         data = dumps(seen, rels)
         aside = self._asides(part, seen, recut)
         kept_aside = dumps(aside, rels) if aside else None
-        mac = self._mac(b"f", scope, folder.encode(), _number(part), _number(parts), data, kept_aside or b"")
+        mac = self._mac(b"f", scope, folder.encode(), number(part), number(parts), data, kept_aside or b"")
         self._pending_files.append((scope, folder, part, parts, data, kept_aside, mac))
         self._grew(len(data) + len(kept_aside or b""))
 
@@ -481,16 +489,3 @@ class VerifyCache:
         self._db = None
         if self._writable and self._path is not None and not isinstance(exc, sqlite3.OperationalError):
             remove_database(self._path)  # the next run makes it anew
-
-
-def _parts_for(files: int) -> int:
-    """How many parts the outcomes of a folder of ``files`` files are kept in: a power of two."""
-    return 1 if files <= FILES_PER_PART else 1 << math.ceil(math.log2(files / FILES_PER_PART))
-
-
-def _part_of(rel: str, parts: int) -> int:
-    return zlib.crc32(rel.encode()) % parts
-
-
-def _number(n: int) -> bytes:
-    return n.to_bytes(8, "little")

@@ -10,6 +10,7 @@ Nothing here interprets a value: files become positioned YAML nodes (:mod:`build
 from __future__ import annotations
 
 import hashlib
+import marshal
 import os
 import re
 import stat
@@ -33,13 +34,16 @@ __all__ = [
     "RawFile",
     "Source",
     "Stamp",
+    "Survey",
     "TreeSource",
     "load_catalogue",
     "parse_bytes",
     "read_bytes",
     "read_file",
+    "read_survey",
     "scan_catalogue",
     "scan_source",
+    "take_survey",
 ]
 
 #: Entry ids are file stems: lowercase letters, digits and hyphens.
@@ -95,10 +99,51 @@ CYCLES_FOLDER = "cycles"
 
 
 @dataclass(frozen=True, slots=True)
+class Survey:
+    """A catalogue folder's listings of maps/, cycles/ and each cycles/<folder>/, as FolderSource.listing
+    gives them, and the stamps of the files they list, taken in one pass (:func:`take_survey`)."""
+
+    listings: dict[str, list[tuple[str, PathKind]]]
+    stamps: dict[str, Stamp | None]
+
+
+def take_survey(root: Path) -> bytes:
+    """A :class:`Survey` of the catalogue folder at ``root``, as bytes (:func:`read_survey` reads them back):
+    taken by a process of its own while a build goes on (builder.site.build).  A folder that cannot be
+    listed is left out; the scan lists it again, and says what is wrong."""
+    source = FolderSource(root)
+    listings: dict[str, list[tuple[str, str]]] = {}
+
+    def take(folder: str) -> list[tuple[str, PathKind]]:
+        try:
+            entries = source.listing(folder)
+        except OSError:
+            return []
+        listings[folder] = [(name, kind.value) for name, kind in entries]
+        return entries
+
+    take("maps")
+    for name, kind in take(CYCLES_FOLDER):
+        if kind is PathKind.FOLDER:
+            take(f"{CYCLES_FOLDER}/{name}")
+    files = [f"{folder}/{name}" for folder, entries in listings.items() for name, kind in entries if kind == "file"]
+    return marshal.dumps((listings, dict(zip(files, source.stamps(files), strict=True))))
+
+
+def read_survey(data: bytes) -> Survey:
+    """The :class:`Survey` that :func:`take_survey` wrote as ``data`` (bytes of this program's own, from its helper)."""
+    listings, stamps = marshal.loads(data)
+    kinds = {kind.value: kind for kind in PathKind}
+    found = {folder: [(name, kinds[kind]) for name, kind in entries] for folder, entries in listings.items()}
+    return Survey(found, stamps)
+
+
+@dataclass(frozen=True, slots=True)
 class FolderSource:
-    """A catalogue folder on disk."""
+    """A catalogue folder on disk; with a ``survey``, the listings and stamps it holds are taken from it."""
 
     root: Path
+    survey: Survey | None = None
 
     def kind(self, rel: str) -> PathKind:
         if rel == ".":  # the root itself may be reached through a link
@@ -108,6 +153,9 @@ class FolderSource:
         return _kind_on_disk(self.root / rel)
 
     def listing(self, rel: str) -> list[tuple[str, PathKind]]:
+        listed = self.survey.listings.get(rel) if self.survey is not None else None
+        if listed is not None:
+            return list(listed)
         with os.scandir(self.root / rel) as entries:
             found = sorted(entries, key=lambda e: e.name)
         return [(e.name, _kind_of_entry(e)) for e in found]
@@ -124,6 +172,8 @@ class FolderSource:
         return chunks[0] if len(chunks) == 1 else b"".join(chunks)
 
     def stamp(self, rel: str) -> Stamp | None:
+        if self.survey is not None and rel in self.survey.stamps:
+            return self.survey.stamps[rel]
         try:
             st = os.lstat(os.path.join(self.root, rel))
         except OSError:
@@ -133,6 +183,9 @@ class FolderSource:
         return (st.st_size, st.st_mtime_ns, st.st_ctime_ns, st.st_ino, st.st_dev)
 
     def stamps(self, rels: Sequence[str]) -> list[Stamp | None]:
+        surveyed = self.survey.stamps if self.survey is not None else {}
+        if surveyed and all(rel in surveyed for rel in rels):
+            return [surveyed[rel] for rel in rels]
         # As stamp does for each, with what it looks up once looked up once for all (a build stamps 50,000
         # files).  The clock is read first: a file changed while the others are looked at is newer than
         # it, so it gets no stamp, as with a clock read for each file.

@@ -1,5 +1,5 @@
 """The cache's database file (builder.catalogue.cache): made, opened read-write or read-only, of which engine
-version, and marked as a cache.
+version, and marked as a cache; what its rows are kept under, how they are cut into parts, and signed.
 
 A database of another engine version (:func:`engine_version`: the package version, :data:`CACHE_FORMAT`
 and a digest of the verification code) has its tables made anew; a damaged one is removed and made
@@ -10,15 +10,34 @@ from __future__ import annotations
 
 import contextlib
 import hashlib
+import math
 import platform
 import sqlite3
+import zlib
 from collections.abc import Iterator
 from functools import cache
 from pathlib import Path
+from typing import Any
 
 import yaml
 
-__all__ = ["CACHE_FORMAT", "connect", "connect_read_only", "engine_version", "mark_folder", "remove_database"]
+from builder.catalogue.limits import Limits
+
+__all__ = [
+    "CACHE_FORMAT",
+    "FILES_PER_PART",
+    "connect",
+    "connect_read_only",
+    "engine_version",
+    "mark_folder",
+    "number",
+    "part_of",
+    "parts_for",
+    "remove_database",
+    "scope_of",
+    "sign",
+    "signed_rows",
+]
 
 #: Bump when what verification decides or keeps changes (a message, a check, a model object's fields).
 CACHE_FORMAT = 3
@@ -150,3 +169,48 @@ def _with_journals(path: Path) -> Iterator[Path]:
     yield path
     for suffix in ("-journal", "-wal", "-shm"):
         yield path.with_name(path.name + suffix)
+
+
+#: A folder of more files than this keeps its outcomes in parts of about this many.
+FILES_PER_PART = 256
+
+
+def parts_for(files: int) -> int:
+    """How many parts the outcomes of a folder of ``files`` files are kept in: a power of two."""
+    return 1 if files <= FILES_PER_PART else 1 << math.ceil(math.log2(files / FILES_PER_PART))
+
+
+def part_of(rel: str, parts: int) -> int:
+    return zlib.crc32(rel.encode()) % parts
+
+
+def number(n: int) -> bytes:
+    return n.to_bytes(8, "little")
+
+
+def sign(key: bytes, *parts: bytes) -> bytes:
+    """The signature of ``parts`` (each length-prefixed) with the user's ``key``: a keyed BLAKE2b."""
+    h = hashlib.blake2b(key=key, digest_size=32)
+    for part in parts:
+        h.update(len(part).to_bytes(8, "little"))
+        h.update(part)
+    return h.digest()
+
+
+def signed_rows(
+    key: bytes, scope: bytes, rows: list[tuple[Any, ...]]
+) -> dict[str, list[tuple[int, int, bytes, bytes | None, bool]]]:
+    """Rows (folder, part, parts, value, aside, mac) of the files of ``scope``, by folder, each as (part, parts,
+    value, aside, whether its signature is that of ``key``)."""
+    by_folder: dict[str, list[tuple[int, int, bytes, bytes | None, bool]]] = {}
+    for folder, part, parts, value, aside, mac in rows:
+        signed = mac == sign(key, b"f", scope, folder.encode(), number(part), number(parts), value, aside or b"")
+        by_folder.setdefault(folder, []).append((part, parts, value, aside, signed))
+    return by_folder
+
+
+def scope_of(root: Path, limits: Limits) -> bytes:
+    """What a catalogue's outcomes are kept under: its root as given (problems and paths name files through
+    it) and the orbit limits."""
+    where = f"{root}\0{limits.max_steps}\0{limits.max_bits}\0{limits.max_work}"
+    return hashlib.sha256(where.encode("utf-8", "surrogateescape")).digest()

@@ -21,18 +21,19 @@ from typing import TypeGuard
 
 from builder.arith.dynamics import AffineMap
 from builder.arith.integers import show
-from builder.catalogue.cache import VerifyCache, definition_digest
+from builder.catalogue.cache import VerifyCache, definition_digest, scope_of
 from builder.catalogue.coverage import recheck_coverage, searches_ahead
 from builder.catalogue.cycles import check_cycle
 from builder.catalogue.files import (
+    FolderSource,
     RawCatalogue,
     RawFile,
     Source,
     Stamp,
+    Survey,
     parse_bytes,
     read_bytes,
     read_file,
-    scan_catalogue,
     scan_source,
 )
 from builder.catalogue.limits import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, Limits
@@ -82,9 +83,7 @@ class _Verification:
         self.raw = raw
         self.limits = limits
         self.cache = cache
-        # Outcomes are kept per root as given (problems and paths name files through it) and per orbit limits.
-        where = f"{raw.root}\0{limits.max_steps}\0{limits.max_bits}\0{limits.max_work}"
-        self.scope = hashlib.sha256(where.encode("utf-8", "surrogateescape")).digest()
+        self.scope = scope_of(raw.root, limits)
         self.paths = {file.rel: file.path for file in raw.files}
         self.problems = list(raw.layout_problems)
         self.written: dict[tuple[str, str], WrittenEntry] = {}
@@ -493,6 +492,9 @@ def verify_source(source: Source, limits: Limits = Limits(), cache: VerifyCache 
     return verify_raw(scan_source(source), limits, cache, jobs)
 
 
-def verify_catalogue(root: Path, limits: Limits = Limits(), cache: VerifyCache | None = None, jobs: int = 1) -> Report:
-    """Load and verify the catalogue at root (raises CatalogueUnreadable if it is not one), in ``jobs`` processes."""
-    return verify_raw(scan_catalogue(root), limits, cache, jobs)
+def verify_catalogue(
+    root: Path, limits: Limits = Limits(), cache: VerifyCache | None = None, jobs: int = 1, survey: Survey | None = None
+) -> Report:
+    """Load and verify the catalogue at root (raises CatalogueUnreadable if it is not one), in ``jobs`` processes;
+    ``survey``: its listings and stamps, taken ahead (builder.catalogue.files.take_survey)."""
+    return verify_raw(scan_source(FolderSource(root, survey)), limits, cache, jobs)

@@ -21,15 +21,17 @@ import tempfile
 from collections.abc import Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass, field, replace
+from functools import partial
 from pathlib import Path
 
-from builder.catalogue.cache import VerifyCache
+from builder.catalogue.cache import VerifyCache, scope_of
+from builder.catalogue.files import Survey, read_survey, take_survey
 from builder.catalogue.model import Report
 from builder.catalogue.verify import Limits, verify_catalogue
 from builder.errors import UsageError
 from builder.history.changelog import Changelog, Edition, read_changelog
 from builder.history.repo import NoHistory, RepoHistory, read_history
-from builder.processes import keep_to_the_end, no_cycle_collection
+from builder.processes import Background, WorkerStopped, keep_to_the_end, no_cycle_collection
 from builder.site.manifest import HeadStart
 from builder.site.render import MARKER, default_jobs, render_site
 from builder.site.views import SiteViews, build_views
@@ -184,35 +186,73 @@ def build_site(
     _check_place(out)
     jobs = jobs if jobs is not None else default_jobs()
     out = out.absolute()
+    # The catalogue's files listed and stamped by a helper process while this one takes the lock and reads
+    # the site it replaces and what the cache keeps.
+    survey = Background(partial(take_survey, catalogue)) if jobs > 1 else None
+    try:
+        result, pages = _build(catalogue, out, limits, base_url, wait, jobs, reuse, remove_later, cache, survey)
+    finally:
+        if survey is not None:
+            survey.stop()
+    if result.views is None:
+        return result
+    keep_to_the_end(result)  # the model and the views: dropped with the process, when it ends with the build
+    return replace(result, pages=len(pages), views=None)
+
+
+def _build(
+    catalogue: Path,
+    out: Path,
+    limits: Limits | None,
+    base_url: str | None,
+    wait: bool,
+    jobs: int,
+    reuse: bool,
+    remove_later: bool,
+    cache: VerifyCache | None,
+    survey: Background[bytes] | None,
+) -> tuple[BuildResult, list[str]]:
+    """The result of build_site (views still held, None if it did not verify), and the pages written."""
     if reuse and (out / MARKER).is_file():
         # A site to replace: its files are linked into the staging folder while the catalogue is verified,
         # which the lock covers too (no other build may replace the site meanwhile).
         with _lock(out, wait):
             _check_target(out)
             with _staged(out, reuse, jobs) as staged:
-                result = _verified(catalogue, limits, base_url, jobs, cache)
+                result = _verified(catalogue, limits, base_url, jobs, cache, survey, staged.head)
                 if result.views is None:
-                    return result
-                pages = _write(result.views, out, staged, jobs, remove_later)
-    else:  # nothing to take from: nothing is made (not even the lock beside the folder) unless it verifies
-        result = _verified(catalogue, limits, base_url, jobs, cache)
-        if result.views is None:
-            return result
-        with _lock(out, wait):
-            _check_target(out)  # another build may have written it while this one waited
-            with _staged(out, reuse, 1) as staged:
-                pages = _write(result.views, out, staged, jobs, remove_later)
-    keep_to_the_end(result)  # the model and the views: dropped with the process, when it ends with the build
-    return replace(result, pages=len(pages), views=None)
+                    return result, []
+                return result, _write(result.views, out, staged, jobs, remove_later)
+    # Nothing to take from: nothing is made (not even the lock beside the folder) unless it verifies.
+    result = _verified(catalogue, limits, base_url, jobs, cache, survey, None)
+    if result.views is None:
+        return result, []
+    with _lock(out, wait):
+        _check_target(out)  # another build may have written it while this one waited
+        with _staged(out, reuse, 1) as staged:
+            return result, _write(result.views, out, staged, jobs, remove_later)
 
 
 def _verified(
-    catalogue: Path, limits: Limits | None, base_url: str | None, jobs: int, cache: VerifyCache | None
+    catalogue: Path,
+    limits: Limits | None,
+    base_url: str | None,
+    jobs: int,
+    cache: VerifyCache | None,
+    survey: Background[bytes] | None,
+    head: HeadStart | None,
 ) -> BuildResult:
     """The result of the build so far: the report, and with it the site's views of the verified catalogue
-    (pages 0, ``views`` None when it does not verify)."""
+    (pages 0, ``views`` None when it does not verify).  The previous site's files (``head``) are linked by a
+    helper process once the one that lists the catalogue is done: the two do not share a core."""
+    limits = limits or Limits()
+    if cache is not None:
+        cache.prefetch(scope_of(catalogue, limits))  # while the helper lists the files
+    surveyed = _surveyed(survey)
+    if head is not None:
+        head.start()
     with no_cycle_collection():  # the model and the site's records: millions of objects, and no cycles
-        report = verify_catalogue(catalogue, limits or Limits(), cache, jobs)
+        report = verify_catalogue(catalogue, limits, cache, jobs, surveyed)
         if not report.ok:
             return BuildResult(report, 0)
         record = report.catalogue.record
@@ -231,6 +271,16 @@ def _verified(
             digests=report.digests,
         )
     return BuildResult(report, 0, edition, changelog, history, views)
+
+
+def _surveyed(helper: Background[bytes] | None) -> Survey | None:
+    """The survey the helper took; None if it took none (it stopped, or failed: the files are listed here)."""
+    if helper is None:
+        return None
+    try:
+        return read_survey(helper.result())
+    except (WorkerStopped, OSError, ValueError, EOFError):
+        return None
 
 
 @dataclass(slots=True)

@@ -246,20 +246,26 @@ class HeadStart:
     """The site a build replaces and its files, linked into the staging folder ahead of the tasks.
 
     Made once the build holds the site's lock and has its staging folder: with ``jobs`` above 1 the
-    files are linked by a forked process while the build goes on; else when :meth:`linked` asks."""
+    files are linked by a forked process from :meth:`start` on, while the build goes on; else when
+    :meth:`linked` asks."""
 
     def __init__(self, staging: Path, site: Path | None, jobs: int) -> None:
         self.staging = staging
         self.previous = read_previous(site)
+        self._jobs = jobs
         self._linked: frozenset[str] | None = None
         self._helper: Background[frozenset[str]] | None = None
-        if self.previous is not None and jobs > 1:
-            previous = self.previous
+
+    def start(self) -> None:
+        """Start linking in a process of its own (with ``jobs`` above 1, if there is a previous site)."""
+        if self.previous is not None and self._jobs > 1 and self._helper is None and self._linked is None:
+            previous, staging = self.previous, self.staging
             self._helper = Background(lambda: _link_previous(previous, staging))
 
     def linked(self) -> frozenset[str]:
         """The tasks of the previous site whose files are all in the staging folder (waiting for them)."""
         if self._linked is None:
+            self.start()
             if self.previous is None:
                 self._linked = frozenset()
             elif self._helper is None:

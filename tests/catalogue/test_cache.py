@@ -165,7 +165,7 @@ def test_a_big_folder_is_kept_in_parts_and_a_changed_file_writes_its_part_again(
     # With parts of one file, the five cycle files of 3x+1 are kept in eight parts (a power of two, by a
     # hash of the path).  One edited file is checked again and its part alone written again; files
     # removed cut the folder into fewer parts; every report is the cold run's, entries as written included.
-    monkeypatch.setattr(cache_module, "FILES_PER_PART", 1)
+    monkeypatch.setattr(store_module, "FILES_PER_PART", 1)
     root = catalogue()
     folder = tmp_path / "cache"
     cycles = "cycles/3x-plus-1"
@@ -281,7 +281,7 @@ def test_unsigned_parts_of_another_cut_are_not_left_behind(catalogue, tmp_path, 
     # The folder's parts signed by someone else, and the folder then cut into fewer parts: the run after
     # checks its files again and keeps them anew, and leaves no row of the old cut, so the next run
     # checks nothing (rows of two cuts would be ignored at every run).
-    monkeypatch.setattr(cache_module, "FILES_PER_PART", 1)
+    monkeypatch.setattr(store_module, "FILES_PER_PART", 1)
     root = catalogue()
     folder = tmp_path / "cache"
     cycles = "cycles/3x-plus-1"
@@ -482,9 +482,17 @@ def test_a_read_only_cache_is_read_and_not_written(catalogue, tmp_path, parses, 
     assert (folder / DATABASE).read_bytes() == before
 
 
-def test_a_folder_s_rows_are_read_with_the_others_once_and_read_again_when_asked_again(tmp_path, monkeypatch):
-    # The first folder asked for reads every folder's rows of the scope in one query; a folder asked for
-    # again (as a run that left it and comes back does) is read again, with what this run wrote meanwhile.
+_ALL_ROWS = "SELECT folder, part, parts, value, aside, mac FROM files WHERE scope = ?"
+_ONE_FOLDER = _ALL_ROWS + " AND folder = ?"
+
+
+@pytest.mark.parametrize("prefetched", [False, True])
+def test_a_folder_s_rows_are_read_with_the_others_once_and_read_again_when_asked_again(
+    tmp_path, monkeypatch, prefetched
+):
+    # The first folder asked for reads every folder's rows of the scope in one query (or a prefetch did, before);
+    # a folder asked for again (as a run that left it and comes back does) is read again, with what this run
+    # wrote meanwhile.
     monkeypatch.setattr(cache_module, "_BATCH_BYTES", 0)  # every folder left is written at once
     folder, scope = tmp_path / "cache", b"s" * 32
     paths = {rel: tmp_path / rel for rel in ("a/1.yaml", "b/1.yaml", "c/1.yaml")}
@@ -497,14 +505,35 @@ def test_a_folder_s_rows_are_read_with_the_others_once_and_read_again_when_asked
         monkeypatch.setattr(
             cache, "_select", lambda sql, args: (" FROM files " in sql and queries.append(sql)) or real(sql, args)
         )
+        if prefetched:
+            cache.prefetch(scope)
+            assert queries == [_ALL_ROWS]
         assert cache.file(scope, "a/1.yaml", ("key", 1), paths) == ("outcome", "a/1.yaml")
         cache.keep_file(scope, "a/1.yaml", ("key", 2), ("outcome 2", "a/1.yaml"), paths)
         assert cache.file(scope, "b/1.yaml", ("key", 1), paths) == ("outcome", "b/1.yaml")
-        assert queries == ["SELECT folder, part, parts, value, aside, mac FROM files WHERE scope = ?"]
+        assert queries == [_ALL_ROWS]
         assert cache.file(scope, "a/1.yaml", ("key", 2), paths) == ("outcome 2", "a/1.yaml")
         assert cache.file(scope, "c/1.yaml", ("key", 1), paths) == ("outcome", "c/1.yaml")
         # a, asked for again, was read again, alone; c, not asked for before, was read with the others.
-        assert queries[1:] == ["SELECT part, parts, value, aside, mac FROM files WHERE scope = ? AND folder = ?"]
+        assert queries == [_ALL_ROWS, _ONE_FOLDER]
+
+
+@pytest.mark.parametrize("prefetched", [False, True])
+def test_rows_not_signed_by_this_user_are_not_used_whether_prefetched_or_not(tmp_path, prefetched):
+    # A row whose signature is not this user's is not used: its files are checked again.
+    scope, paths = b"s" * 32, {"a/1.yaml": tmp_path / "a/1.yaml"}
+    for tampered in (False, True):
+        folder = tmp_path / f"cache-{tampered}"
+        with VerifyCache.open(folder) as cache:
+            cache.keep_file(scope, "a/1.yaml", ("key", 1), ("outcome", 1), paths)
+        if tampered:
+            with sqlite3.connect(folder / DATABASE) as db:
+                db.execute("UPDATE files SET mac = ?", (b"\0" * 32,))
+            db.close()
+        with VerifyCache.open(folder) as cache:
+            if prefetched:
+                cache.prefetch(scope)
+            assert cache.file(scope, "a/1.yaml", ("key", 1), paths) == (None if tampered else ("outcome", 1))
 
 
 def test_a_cache_folder_that_is_a_file_is_not_used(catalogue, tmp_path, cli):

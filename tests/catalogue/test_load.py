@@ -8,7 +8,7 @@ import pytest
 import yaml
 from conftest import VALID, write_files
 
-from builder.catalogue.files import load_catalogue
+from builder.catalogue.files import FolderSource, load_catalogue, read_survey, scan_catalogue, scan_source, take_survey
 from builder.catalogue.nodes import MAX_DEPTH, MappingNode, Scalar, SequenceNode, parse_yaml
 from builder.errors import CatalogueUnreadable
 
@@ -312,6 +312,43 @@ def test_symbolic_links_are_refused(tmp_path):
         "references.yaml",
     ]
     assert sorted(str(f.path.relative_to(root)) for f in raw.files) == ["cycles/real/c.yaml", "maps/real.yaml"]
+
+
+def test_a_survey_taken_ahead_lists_and_stamps_as_the_folder_does(tmp_path, monkeypatch):
+    # A build's helper lists and stamps the files ahead (builder.catalogue.files.take_survey); the scan that
+    # reads its survey finds the same files and the same layout problems, and the same stamps, as one that
+    # looks at the folder itself (common practice, no source: a cache must not change what is found).
+    monkeypatch.setattr("builder.catalogue.files.SETTLE_NS", 0)
+    root = tmp_path / "cat"
+    write_files(
+        root,
+        {
+            "maps/m.yaml": "x: 1\n",
+            "maps/x.yml": "x: 1\n",
+            "maps/sub/x.yaml": "x: 1\n",
+            "cycles/m/a.yaml": "x: 1\n",
+            "cycles/m/B.yaml": "x: 1\n",
+            "cycles/m/deeper/x.yaml": "x: 1\n",
+            "cycles/Big/x.yaml": "x: 1\n",
+            "cycles/x.yaml": "x: 1\n",
+            "cycles/n/.gitkeep": "",
+            "record.yaml": "x: 1\n",
+        },
+    )
+    (root / "maps" / "link.yaml").symlink_to("m.yaml")
+    (root / "cycles" / "alias").symlink_to("m", target_is_directory=True)
+    surveyed = scan_source(FolderSource(root, read_survey(take_survey(root))))
+    plain = scan_catalogue(root)
+
+    def files(raw):
+        return [(f.rel, f.kind, f.id, f.folder, f.path) for f in raw.files]
+
+    assert files(surveyed) == files(plain) and len(plain.files) == 3
+    assert surveyed.layout_problems == plain.layout_problems and len(plain.layout_problems) == 8
+    rels = [f.rel for f in plain.files if f.kind != "record"]  # those the survey stamped
+    assert surveyed.source.stamps(rels) == plain.source.stamps(rels) == [plain.source.stamp(r) for r in rels]
+    assert [surveyed.source.stamp(r) for r in rels] == plain.source.stamps(rels)
+    assert len(rels) == 2 and all(stamp is not None for stamp in plain.source.stamps(rels))
 
 
 def test_a_symbolic_link_as_maps_folder_makes_the_catalogue_unreadable(tmp_path):

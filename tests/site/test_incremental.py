@@ -263,7 +263,7 @@ def test_a_clean_builds_whole_record_exports_are_those_made_from_the_records(tmp
 
     site = tmp_path / "site"
     assert build_site(VALID, site, jobs=jobs, reuse=False).report.ok
-    views = _verified(VALID, None, None, 1, None).views  # what the build made its pages from
+    views = _verified(VALID, None, None, 1, None, None, None).views  # what the build made its pages from
     assert views is not None
     catalogue, table = io.BytesIO(), io.BytesIO()
     spans = write_record_exports(views, catalogue, table, lambda map_id: None)
@@ -390,3 +390,27 @@ def test_a_linking_process_that_dies_leaves_a_full_build(tmp_path: Path, monkeyp
     assert tree(site) == tree(clean)
     after = inodes(site)
     assert not [p for p in after if before.get(p) == after[p]], "no file was taken from the old site"
+
+
+def test_a_build_sharing_its_work_lists_the_catalogue_ahead_and_builds_the_same_site(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # With two processes, a helper lists and stamps the catalogue's files while the build reads the site it
+    # replaces and the cache (builder.site.build); the site is the one a single process builds.
+    from builder.catalogue.cache import VerifyCache
+    from builder.catalogue.files import Survey
+    from builder.site import build as build_module
+
+    taken: list[object] = []
+    real = build_module._surveyed
+    monkeypatch.setattr(build_module, "_surveyed", lambda helper: taken.append(real(helper)) or taken[-1])
+    cat = tmp_path / "catalogue"
+    shutil.copytree(VALID, cat)
+    site, clean = tmp_path / "site", tmp_path / "clean"
+    for _ in range(2):  # a clean build, then one that takes the first's pages, both with the cache
+        with VerifyCache.open(tmp_path / "cache") as cache:
+            assert build_site(cat, site, jobs=2, cache=cache).report.ok
+    assert build_site(cat, clean, jobs=1, reuse=False).report.ok
+    assert tree(site) == tree(clean)
+    assert [type(t) for t in taken] == [Survey, Survey, type(None)]
+    assert sum(len(names) for names in taken[0].listings.values()) > 10  # type: ignore[union-attr]
