@@ -186,14 +186,7 @@ def build_site(
     _check_place(out)
     jobs = jobs if jobs is not None else default_jobs()
     out = out.absolute()
-    # The catalogue's files listed and stamped by a helper process while this one takes the lock and reads
-    # the site it replaces and what the cache keeps.
-    survey = Background(partial(take_survey, catalogue)) if jobs > 1 else None
-    try:
-        result, pages = _build(catalogue, out, limits, base_url, wait, jobs, reuse, remove_later, cache, survey)
-    finally:
-        if survey is not None:
-            survey.stop()
+    result, pages = _build(catalogue, out, limits, base_url, wait, jobs, reuse, remove_later, cache)
     if result.views is None:
         return result
     keep_to_the_end(result)  # the model and the views: dropped with the process, when it ends with the build
@@ -210,7 +203,6 @@ def _build(
     reuse: bool,
     remove_later: bool,
     cache: VerifyCache | None,
-    survey: Background[bytes] | None,
 ) -> tuple[BuildResult, list[str]]:
     """The result of build_site (views still held, None if it did not verify), and the pages written."""
     if reuse and (out / MARKER).is_file():
@@ -218,13 +210,14 @@ def _build(
         # which the lock covers too (no other build may replace the site meanwhile).
         with _lock(out, wait):
             _check_target(out)
-            with _staged(out, reuse, jobs) as staged:
+            with _surveying(catalogue, jobs) as survey, _staged(out, reuse, jobs) as staged:
                 result = _verified(catalogue, limits, base_url, jobs, cache, survey, staged.head)
                 if result.views is None:
                     return result, []
                 return result, _write(result.views, out, staged, jobs, remove_later)
     # Nothing to take from: nothing is made (not even the lock beside the folder) unless it verifies.
-    result = _verified(catalogue, limits, base_url, jobs, cache, survey, None)
+    with _surveying(catalogue, jobs) as survey:
+        result = _verified(catalogue, limits, base_url, jobs, cache, survey, None)
     if result.views is None:
         return result, []
     with _lock(out, wait):
@@ -271,6 +264,19 @@ def _verified(
             digests=report.digests,
         )
     return BuildResult(report, 0, edition, changelog, history, views)
+
+
+@contextmanager
+def _surveying(catalogue: Path, jobs: int) -> Iterator[Background[bytes] | None]:
+    """A helper process (with ``jobs`` above 1) that lists and stamps the catalogue's files while this one reads
+    the site it replaces and what the cache keeps; started once the build may go on (it holds the lock, or
+    needs none yet), so that what it finds is the catalogue as verified."""
+    survey = Background(partial(take_survey, catalogue)) if jobs > 1 else None
+    try:
+        yield survey
+    finally:
+        if survey is not None:
+            survey.stop()
 
 
 def _surveyed(helper: Background[bytes] | None) -> Survey | None:
