@@ -152,6 +152,10 @@ class Background(Generic[R]):
         finally:
             self.stop()
 
+    def ready(self) -> bool:
+        """Whether :meth:`result` would not wait for the process (it is done, or gone); True without one."""
+        return self._pid is None or self._receive.poll()
+
     def stop(self) -> None:
         """End the process if it is still running (its work is not needed), and reap it."""
         self._run = None

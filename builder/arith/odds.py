@@ -20,8 +20,10 @@ from dataclasses import dataclass
 from fractions import Fraction
 from functools import lru_cache
 from math import gcd
+from typing import TYPE_CHECKING
 
-import numpy as np
+if TYPE_CHECKING:
+    import numpy as np
 
 from builder.arith.dynamics import AffineMap, shortcut_form
 from builder.arith.words import necklace_row
@@ -99,6 +101,8 @@ _WORD_D = 2**31
 def _triangle(a0: int, a1: int, top: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, tuple[int, ...]]:
     """Every (k, x) with 1 <= k <= top and 0 <= x <= k, shared by the maps with multipliers a0, a1:
     k, x, L(k, x) and |target| as floats, and the targets exactly (maps of one family share them)."""
+    import numpy as np  # when first needed: a build that draws no chart does without it
+
     ks, xs, counts, targets = [], [], [], []
     for k in range(1, top + 1):
         row = necklace_row(k)
@@ -121,6 +125,8 @@ def _magnitude(target: int) -> float:
 
 def _common_factors(a0: int, a1: int, top: int, d: int, targets: tuple[int, ...]) -> np.ndarray:
     """gcd(target, d) for every (k, x) of the triangle, d > 0."""
+    import numpy as np  # when first needed: a build that draws no chart does without it
+
     if d == 1:
         return np.ones(len(targets))
     if d >= _WORD_D:
@@ -146,6 +152,8 @@ def length_chances(mapping: AffineMap, top: int) -> list[float]:
     logarithms instead of a product, so it agrees with ``length_odds`` to rounding (the tests check
     1e-9), which is far below what a chart draws.
     """
+    import numpy as np  # when first needed: a build that draws no chart does without it
+
     if not modelled(mapping):
         raise ValueError(f"expected a map with 2 branches and multipliers of at most {MODEL_MULTIPLIER_BITS} bits")
     if top < 1:

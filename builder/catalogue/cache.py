@@ -37,12 +37,14 @@ from types import TracebackType
 from typing import Any
 
 from builder.arith.dynamics import AffineMap
-from builder.catalogue.serial import dumps, loads
+from builder.catalogue.serial import PathsUnder, dumps, loads
 from builder.catalogue.signing import key_file, signing_key
 from builder.catalogue.store import (
     CACHE_FORMAT,
+    KeptFolder,
     connect,
     engine_version,
+    kept_folder,
     mark_folder,
     number,
     part_of,
@@ -57,6 +59,7 @@ __all__ = [
     "CACHE_FORMAT",
     "DATABASE",
     "FOLDER_NAME",
+    "PathsUnder",
     "VerifyCache",
     "default_cache_folder",
     "definition_digest",
@@ -137,8 +140,9 @@ class VerifyCache:
         # What the folder's files keep aside: as kept (bytes by part, read only when needed) and as this run has it.
         self._kept_aside: dict[int, bytes] = {}
         self._seen_aside: dict[str, Any] = {}
-        # The rows of each scope's folders not yet at hand, read together (see prefetch).
+        # The rows of each scope's folders not yet at hand, read together, and those loaded ahead (see prefetch).
         self._ahead: dict[bytes, dict[str, list[tuple[int, int, bytes, bytes | None, bool]]]] = {}
+        self._loaded: dict[bytes, tuple[PathsUnder, dict[str, KeptFolder]]] = {}
 
     @classmethod
     def memory(cls) -> VerifyCache:
@@ -301,7 +305,7 @@ class VerifyCache:
         finally:
             self._db.close()
             self._db = None
-            self._ahead = {}
+            self._ahead, self._loaded = {}, {}
 
     # -- inside
 
@@ -328,41 +332,43 @@ class VerifyCache:
         self._leave()
         self._use_scope(scope)
         self._folder, self._paths, self._seen, self._changed = (scope, folder), paths, {}, set()
-        self._kept, self._parts, self._kept_parts, self._kept_aside, self._seen_aside = {}, 0, {}, {}, {}
-        rows = self._rows_of(scope, folder)
-        self._had_rows = bool(rows)
-        if len({parts for _, parts, _, _, _ in rows}) != 1:
-            return  # none, or rows of two ways of cutting: none is used, and the folder is written anew
-        for part, parts, value, aside, signed in rows:
-            if not signed:
-                continue  # not this user's: the part's files are checked again
-            kept = loads(value, paths)
-            if not isinstance(kept, dict):
-                continue
-            self._kept.update(kept)
-            self._parts = parts
-            self._kept_parts[part] = set(kept)
-            if aside is not None:
-                self._kept_aside[part] = aside
+        self._seen_aside = {}
+        kept = self._kept_of(scope, folder, paths)
+        self._kept, self._parts, self._kept_parts, self._kept_aside, self._had_rows = kept
 
-    def prefetch(self, scope: bytes) -> None:
+    def prefetch(self, scope: bytes, paths: PathsUnder | None = None, until: Callable[[], bool] | None = None) -> None:
         """Read what is kept of every folder of ``scope`` now, and check its signatures, to be given out folder
         by folder: a run asks for every folder, and one query for all takes half the time of one per folder
-        (a build has it done while a helper process lists the catalogue's files)."""
-        if self._db is not None and scope not in self._ahead:
+        (a build has it done while a helper process lists the catalogue's files).  With ``paths`` (those the
+        run will give, of the same root), also load each folder's outcomes in turn until ``until()`` says
+        to stop (the helper is done)."""
+        if self._db is None:
+            return
+        if scope not in self._ahead:
             self._ahead[scope] = signed_rows(self._key, scope, self._select(_SCOPE_ROWS, (scope,)))
+        if paths is None:
+            return
+        loaded = self._loaded.setdefault(scope, (paths, {}))[1]
+        for folder, rows in self._ahead[scope].items():
+            if until is not None and until():
+                return
+            if folder not in loaded:
+                loaded[folder] = kept_folder(rows, paths)
 
-    def _rows_of(self, scope: bytes, folder: str) -> list[tuple[int, int, bytes, bytes | None, bool]]:
-        """The rows of ``folder`` of ``scope`` (part, parts, value, aside, whether signed with this user's key):
-        on the first ask, prefetched with every other folder's; asked again, read again (this run may have
-        written them since)."""
+    def _kept_of(self, scope: bytes, folder: str, paths: Mapping[str, Path]) -> KeptFolder:
+        """What is kept of ``folder`` of ``scope``: on the first ask, prefetched with every other folder's (and
+        loaded ahead, if it was, with paths of the same root as ``paths``); asked again, read again (this run
+        may have written it since)."""
         self.prefetch(scope)
         rows = self._ahead[scope].pop(folder, None)
-        if rows is not None:
-            return rows
-        return signed_rows(self._key, scope, self._select(_SCOPE_ROWS + " AND folder = ?", (scope, folder))).get(
-            folder, []
-        )
+        ahead, loaded = self._loaded.get(scope, (None, {}))
+        done = loaded.pop(folder, None)
+        if rows is None:
+            again = signed_rows(self._key, scope, self._select(_SCOPE_ROWS + " AND folder = ?", (scope, folder)))
+            return kept_folder(again.get(folder, []), paths)
+        if done is not None and ahead is not None and isinstance(paths, PathsUnder) and paths.root == ahead.root:
+            return done
+        return kept_folder(rows, paths)
 
     def _leave(self) -> None:
         """Done with the folder at hand: keep anew each part of its outcomes in which a file changed, came or went."""

@@ -28,7 +28,6 @@ from builder.catalogue.model import Coverage, Cycle, MapEntry, Recheck
 from builder.catalogue.reader import label
 from builder.errors import KeyPath, Position, Problem, Severity
 from builder.search.definition import HuntResult
-from builder.search.engine import hunt_range
 
 __all__ = ["SearchMemo", "recheck_coverage", "search_coverage", "searched", "searches_ahead"]
 
@@ -117,6 +116,9 @@ def _recheck(
         if isinstance(kept, HuntResult):
             result = kept
         else:
+            # Imported when a search is run (with numpy): a build whose searches are all kept does without.
+            from builder.search.engine import hunt_range
+
             result = hunt_range(entry.dynamics, 0, top, max_steps, max_bits, limits.max_work, budget=max(left, 0))
             memo.keep_search(key, result)
         searches[top, max_steps, max_bits] = result

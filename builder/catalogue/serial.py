@@ -23,7 +23,7 @@ from operator import attrgetter
 from pathlib import Path
 from typing import Any
 
-__all__ = ["dumps", "loads"]
+__all__ = ["PathsUnder", "dumps", "loads"]
 
 
 class _Pickler(pickle.Pickler):
@@ -75,7 +75,28 @@ _here_now = threading.local()
 def _here(rel: str) -> Path | None:
     """The path the file ``rel`` is read at (None for a file no longer there, whose outcome is not used)."""
     paths: Mapping[str, Path] = _here_now.paths
-    return paths.get(rel)
+    try:
+        return paths[rel]  # made now by a PathsUnder
+    except KeyError:
+        return None
+
+
+class PathsUnder(dict[str, Path]):
+    """The path of each file of the catalogue at ``root`` by its path from the root (``rel``, POSIX): those
+    given, and ``root / rel`` for any other, made when first asked for (``paths[rel]``).
+
+    Every path given must be ``root / rel``, as the catalogue's listing makes them: then two of these with
+    one root give equal paths for every file, and what was loaded with one holds for the other (the cache
+    loads what it keeps before the files are listed, builder.catalogue.cache).
+    """
+
+    def __init__(self, root: Path, known: Mapping[str, Path] | None = None) -> None:
+        super().__init__(known or {})
+        self.root = root
+
+    def __missing__(self, rel: str) -> Path:
+        path = self[rel] = self.root / rel
+        return path
 
 
 def _fields(cls: type) -> tuple[str, ...]:

@@ -14,21 +14,24 @@ import math
 import platform
 import sqlite3
 import zlib
-from collections.abc import Iterator
+from collections.abc import Iterator, Mapping
 from functools import cache
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple
 
 import yaml
 
 from builder.catalogue.limits import Limits
+from builder.catalogue.serial import loads
 
 __all__ = [
     "CACHE_FORMAT",
     "FILES_PER_PART",
+    "KeptFolder",
     "connect",
     "connect_read_only",
     "engine_version",
+    "kept_folder",
     "mark_folder",
     "number",
     "part_of",
@@ -207,6 +210,38 @@ def signed_rows(
         signed = mac == sign(key, b"f", scope, folder.encode(), number(part), number(parts), value, aside or b"")
         by_folder.setdefault(folder, []).append((part, parts, value, aside, signed))
     return by_folder
+
+
+class KeptFolder(NamedTuple):
+    """What is kept of one folder, loaded from its rows: (key, outcome, stamp) by file, how many parts its
+    outcomes are cut into (0: no row used), the files of each part, what each part keeps aside (as bytes,
+    loaded when asked for) and whether it had rows at all."""
+
+    kept: dict[str, tuple[Any, Any, Any]]
+    parts: int
+    files_of: dict[int, set[str]]
+    aside: dict[int, bytes]
+    had_rows: bool
+
+
+def kept_folder(rows: list[tuple[int, int, bytes, bytes | None, bool]], paths: Mapping[str, Path]) -> KeptFolder:
+    """The folder's rows as :func:`signed_rows` gives them, loaded (serial.loads, with ``paths``): rows of two
+    ways of cutting are not used (the folder is written anew), nor rows not signed with this user's key."""
+    kept: dict[str, tuple[Any, Any, Any]] = {}
+    used, files_of, aside = 0, {}, {}
+    if len({parts for _, parts, _, _, _ in rows}) == 1:
+        for part, parts, value, kept_aside, signed in rows:
+            if not signed:
+                continue  # not this user's: the part's files are checked again
+            outcomes = loads(value, paths)
+            if not isinstance(outcomes, dict):
+                continue
+            kept.update(outcomes)
+            used = parts
+            files_of[part] = set(outcomes)
+            if kept_aside is not None:
+                aside[part] = kept_aside
+    return KeptFolder(kept, used, files_of, aside, bool(rows))
 
 
 def scope_of(root: Path, limits: Limits) -> bytes:

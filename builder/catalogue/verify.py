@@ -21,7 +21,7 @@ from typing import TypeGuard
 
 from builder.arith.dynamics import AffineMap
 from builder.arith.integers import show
-from builder.catalogue.cache import VerifyCache, definition_digest, scope_of
+from builder.catalogue.cache import PathsUnder, VerifyCache, definition_digest, scope_of
 from builder.catalogue.coverage import recheck_coverage, searches_ahead
 from builder.catalogue.cycles import check_cycle
 from builder.catalogue.files import (
@@ -84,7 +84,7 @@ class _Verification:
         self.limits = limits
         self.cache = cache
         self.scope = scope_of(raw.root, limits)
-        self.paths = {file.rel: file.path for file in raw.files}
+        self.paths = PathsUnder(raw.root, {file.rel: file.path for file in raw.files})
         self.problems = list(raw.layout_problems)
         self.written: dict[tuple[str, str], WrittenEntry] = {}
         self.by_path: dict[str, WrittenEntry] = {}  # maps and cycles by file

@@ -27,7 +27,6 @@ from builder import __version__
 from builder.arith.dynamics import AffineMap, CycleFound
 from builder.arith.integers import parse_decimal, show, to_decimal
 from builder.search.definition import HuntResult, canonical_member, cycle_at, merge_results, order_key
-from builder.search.engine import hunt_range
 
 __all__ = [
     "FORMAT",
@@ -148,6 +147,9 @@ def _ignore_sigint() -> None:
 
 
 def _work(task: _Task) -> HuntResult:
+    # Imported with numpy when a hunt runs: the program's other commands (a build) do without.
+    from builder.search.engine import hunt_range
+
     mapping, lo, hi, max_steps, max_bits, max_work = task
     return hunt_range(mapping, lo, hi, max_steps, max_bits, max_work)
 

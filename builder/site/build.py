@@ -24,7 +24,7 @@ from dataclasses import dataclass, field, replace
 from functools import partial
 from pathlib import Path
 
-from builder.catalogue.cache import VerifyCache, scope_of
+from builder.catalogue.cache import PathsUnder, VerifyCache, scope_of
 from builder.catalogue.files import Survey, read_survey, take_survey
 from builder.catalogue.model import Report
 from builder.catalogue.verify import Limits, verify_catalogue
@@ -214,7 +214,7 @@ def _build(
                 result = _verified(catalogue, limits, base_url, jobs, cache, survey, staged.head)
                 if result.views is None:
                     return result, []
-                return result, _write(result.views, out, staged, jobs, remove_later)
+                return result, _write(result.views, out, staged, jobs, remove_later, cache)
     # Nothing to take from: nothing is made (not even the lock beside the folder) unless it verifies.
     with _surveying(catalogue, jobs) as survey:
         result = _verified(catalogue, limits, base_url, jobs, cache, survey, None)
@@ -223,7 +223,7 @@ def _build(
     with _lock(out, wait):
         _check_target(out)  # another build may have written it while this one waited
         with _staged(out, reuse, 1) as staged:
-            return result, _write(result.views, out, staged, jobs, remove_later)
+            return result, _write(result.views, out, staged, jobs, remove_later, cache)
 
 
 def _verified(
@@ -239,12 +239,13 @@ def _verified(
     (pages 0, ``views`` None when it does not verify).  The previous site's files (``head``) are linked by a
     helper process once the one that lists the catalogue is done: the two do not share a core."""
     limits = limits or Limits()
-    if cache is not None:
-        cache.prefetch(scope_of(catalogue, limits))  # while the helper lists the files
-    surveyed = _surveyed(survey)
-    if head is not None:
-        head.start()
     with no_cycle_collection():  # the model and the site's records: millions of objects, and no cycles
+        if cache is not None:  # while the helper lists the files: what the cache keeps, loaded until it is done
+            ahead = PathsUnder(catalogue) if survey is not None else None
+            cache.prefetch(scope_of(catalogue, limits), ahead, survey.ready if survey is not None else None)
+        surveyed = _surveyed(survey)
+        if head is not None:
+            head.start()
         report = verify_catalogue(catalogue, limits, cache, jobs, surveyed)
         if not report.ok:
             return BuildResult(report, 0)
@@ -340,10 +341,12 @@ def _remove(folder: Path, later: bool) -> None:
     os.waitpid(child, 0)
 
 
-def _write(views: SiteViews, out: Path, staged: _Staged, jobs: int, remove_later: bool) -> list[str]:
+def _write(
+    views: SiteViews, out: Path, staged: _Staged, jobs: int, remove_later: bool, cache: VerifyCache | None
+) -> list[str]:
     """Write the site into the staging folder beside ``out`` and swap it in; return the pages written."""
     staging = staged.folder
-    pages = render_site(views, staging, jobs, staged.head)
+    pages = render_site(views, staging, jobs, staged.head, cache)
     os.chmod(staging, 0o755)  # mkdtemp makes it private; a site is for reading
     if not out.exists():
         staging.rename(out)

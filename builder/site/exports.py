@@ -16,7 +16,6 @@ import uuid
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from typing import Any, Protocol
-from xml.sax.saxutils import escape, quoteattr
 
 from builder.arith.fingerprint import FINGERPRINT_DIGITS, FINGERPRINT_HEADER
 from builder.catalogue.model import Reference
@@ -63,6 +62,19 @@ SITEMAP_BYTES = 52_428_800
 
 # Compact separators keep Python's C encoder (an indent turns it off) and the files small.
 _ENCODER = json.JSONEncoder(ensure_ascii=False, sort_keys=True, separators=(",", ":"))
+
+
+def _xml_text(text: str) -> str:
+    """``text`` as XML character data: &, < and > written as entities (XML 1.0, section 2.4)."""
+    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+
+
+def _xml_attribute(text: str) -> str:
+    """``text`` as a double-quoted XML attribute value: escaped as character data, with the quote and
+    the white space that attribute normalisation would change written as character references (XML 1.0,
+    sections 2.3 and 3.3.3).  Its own: the standard library's helper for this imports an HTTP client."""
+    value = _xml_text(text).replace('"', "&quot;").replace("\n", "&#10;").replace("\r", "&#13;").replace("\t", "&#9;")
+    return f'"{value}"'
 
 
 def json_text(data: Any) -> str:
@@ -312,14 +324,14 @@ def atom_feed(views: SiteViews) -> str:
     rights = f"Data licence {record.licence} ({record.licence_url}); {views.edition.label}"
     lines = [
         '<?xml version="1.0" encoding="utf-8"?>',
-        f'<feed xmlns="http://www.w3.org/2005/Atom" xml:base={quoteattr(views.base_url)}>',
-        f"  <title>{escape(record.title)}</title>",
+        f'<feed xmlns="http://www.w3.org/2005/Atom" xml:base={_xml_attribute(views.base_url)}>',
+        f"  <title>{_xml_text(record.title)}</title>",
         f"  <id>{_entry_id('feed')}</id>",
         f"  <updated>{updated}</updated>",
         '  <link rel="alternate" type="text/html" href="index.html"/>',
         '  <link rel="self" type="application/atom+xml" href="feed.xml"/>',
-        f"  <rights>{escape(rights)}</rights>",
-        f"  <author><name>{escape(record.maintainers)}</name></author>",
+        f"  <rights>{_xml_text(rights)}</rights>",
+        f"  <author><name>{_xml_text(record.maintainers)}</name></author>",
         '  <generator uri="https://pypi.org/project/periplus/">Periplus</generator>',
     ]
     for c in entries:
@@ -330,12 +342,12 @@ def atom_feed(views: SiteViews) -> str:
         )
         lines += [
             "  <entry>",
-            f"    <title>{escape(f'{name}: cycle through {c.canonical}')}</title>",
+            f"    <title>{_xml_text(f'{name}: cycle through {c.canonical}')}</title>",
             f"    <id>{_entry_id('cycle', c.fingerprint)}</id>",
             f"    <updated>{c.provenance.found_on.isoformat()}T00:00:00Z</updated>",
-            f'    <link rel="alternate" type="text/html" href={quoteattr(c.url)}/>',
-            f"    <author><name>{escape(found_by)}</name></author>",
-            f"    <summary>{escape(summary)}</summary>",
+            f'    <link rel="alternate" type="text/html" href={_xml_attribute(c.url)}/>',
+            f"    <author><name>{_xml_text(found_by)}</name></author>",
+            f"    <summary>{_xml_text(summary)}</summary>",
             "  </entry>",
         ]
     lines.append("</feed>")
@@ -360,7 +372,7 @@ def sitemap_files(
     empty = len(_urlset([]).encode())
     size = empty
     for path in sorted(paths):
-        row = f"  <url><loc>{escape(base + path)}</loc></url>\n"
+        row = f"  <url><loc>{_xml_text(base + path)}</loc></url>\n"
         length = len(row) if row.isascii() else len(row.encode())
         if parts[-1] and (len(parts[-1]) >= max_urls or size + length > max_bytes):
             parts.append([])
@@ -370,7 +382,7 @@ def sitemap_files(
     if len(parts) == 1:
         return [("sitemap.xml", _urlset(parts[0]))]
     files = [(f"sitemaps/{n}.xml", _urlset(part)) for n, part in enumerate(parts, start=1)]
-    rows = "".join(f"  <sitemap><loc>{escape(base + path)}</loc></sitemap>\n" for path, _ in files)
+    rows = "".join(f"  <sitemap><loc>{_xml_text(base + path)}</loc></sitemap>\n" for path, _ in files)
     index = (
         '<?xml version="1.0" encoding="utf-8"?>\n'
         f'<sitemapindex xmlns="http://www.sitemaps.org/schemas/sitemap/0.9">\n{rows}</sitemapindex>\n'

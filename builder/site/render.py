@@ -35,6 +35,7 @@ site's files (once their SHA-256 is the manifest's).
 from __future__ import annotations
 
 import contextlib
+import functools
 import gc
 import hashlib
 import operator
@@ -77,7 +78,7 @@ from builder.site.metadata import citation_cff, robots_txt
 from builder.site.pages import Unit, index_pages
 from builder.site.pages.common import Page, PageInfo
 from builder.site.spool import Spooled, remove_spools, spool, unspool
-from builder.site.templating import page_environment, template_dir
+from builder.site.templating import TemplateStore, page_environment, template_dir
 from builder.site.views import SiteViews
 
 __all__ = ["MANIFEST", "MARKER", "Writer", "default_jobs", "render_site"]
@@ -173,8 +174,10 @@ class _Task:
         return self.map_id is None
 
 
+@functools.cache
 def _source_digest() -> str:
-    """A digest of the code and templates that write pages: a build by other code makes every page again."""
+    """A digest of the code and templates that write pages: a build by other code makes every page again
+    (read once by a process: an installed program's code does not change while it runs)."""
     h = hashlib.sha256(__version__.encode())
     for folder in (Path(__file__).resolve().parent.parent, template_dir()):
         for path in sorted(folder.rglob("*")):
@@ -333,7 +336,7 @@ def _perform(
 
 
 def _run_tasks(
-    views: SiteViews, tasks: list[_Task], out: Path, jobs: int, head: HeadStart | None
+    views: SiteViews, tasks: list[_Task], out: Path, jobs: int, head: HeadStart | None, env: jinja2.Environment
 ) -> tuple[list[Done], Record]:
     """Run every task, in ``jobs`` processes (this one and forked workers), then write the whole-record
     exports; what each task left, in task order, and the exports' layout."""
@@ -346,7 +349,7 @@ def _run_tasks(
             names = {task.name for task in tasks}
             remove_files(fd, (f for name in linked - names for f in previous.tasks[name].files))
         at = _Folders(out.resolve(), fd)
-        done = _share_tasks(views, tasks, at, jobs, previous, linked)
+        done = _share_tasks(views, tasks, at, jobs, previous, linked, env)
         layout = _record_exports(views, tasks, done, at, previous)
         if previous is not None:
             # Folders that held only files taken from the previous site and made no more.
@@ -358,12 +361,17 @@ def _run_tasks(
 
 
 def _share_tasks(
-    views: SiteViews, tasks: list[_Task], at: _Folders, jobs: int, previous: Previous | None, linked: frozenset[str]
+    views: SiteViews,
+    tasks: list[_Task],
+    at: _Folders,
+    jobs: int,
+    previous: Previous | None,
+    linked: frozenset[str],
+    env: jinja2.Environment,
 ) -> list[Done]:
     inputs = _common_inputs(views)
     common = _Common(inputs, _digest(inputs, views.site.shared_sources()))
     views.site.marked  # noqa: B018 (made once here, before the workers are forked: they share it)
-    env = page_environment()
     if previous is None:
         # Every template compiled once, here, before the workers are forked: they inherit the compiled code.
         # A build that takes most pages from the site it replaces compiles only those it uses, as it uses them.
@@ -419,34 +427,46 @@ def _record_exports(
         remove_spools(at.fd, spooled.values())
 
 
-def render_site(views: SiteViews, out: Path, jobs: int = 1, head: HeadStart | None = None) -> list[str]:
+def render_site(
+    views: SiteViews, out: Path, jobs: int = 1, head: HeadStart | None = None, kept: TemplateStore | None = None
+) -> list[str]:
     """Write every page, export and asset into ``out`` (an empty folder, made if missing), in ``jobs`` processes;
     return the pages written.  ``head`` holds the site this one replaces, if any, and its files taken into
-    ``out``: the files of the tasks whose inputs did not change are kept from it."""
+    ``out``: the files of the tasks whose inputs did not change are kept from it.  ``kept`` (the verification
+    cache) keeps the compiled templates between builds."""
     out.mkdir(parents=True, exist_ok=True)
     # What exists now (the records) is left out of the collector's passes while the site is written:
     # it would otherwise traverse them again and again (rendering makes reference cycles, so it runs),
     # and in each worker touch, and so copy, every object the worker inherits.
     gc.freeze()
     try:
-        return _write_site(views, out, jobs, head)
+        return _write_site(views, out, jobs, head, kept)
     finally:
         gc.unfreeze()
 
 
-def _write_site(views: SiteViews, out: Path, jobs: int, head: HeadStart | None) -> list[str]:
+def _write_site(
+    views: SiteViews, out: Path, jobs: int, head: HeadStart | None, kept: TemplateStore | None
+) -> list[str]:
     tasks = _tasks(views)
-    done, layout = _run_tasks(views, tasks, out, jobs, head)
+    env = page_environment(kept, _source_digest())
+    done, layout = _run_tasks(views, tasks, out, jobs, head, env)
     with Writer(out) as writer:
-        return _write_rest(views, out, writer, tasks, done, layout)
+        return _write_rest(views, out, writer, tasks, done, layout, env)
 
 
 def _write_rest(
-    views: SiteViews, out: Path, writer: Writer, tasks: list[_Task], done: list[Done], layout: Record
+    views: SiteViews,
+    out: Path,
+    writer: Writer,
+    tasks: list[_Task],
+    done: list[Done],
+    layout: Record,
+    env: jinja2.Environment,
 ) -> list[str]:
     """The pages and files made from every other: the indexes, the site map, the feed, the assets, the manifest."""
     written = [info for d in done for info in d.pages]
-    written += _render(views, writer, page_environment(), index_pages(views.site, written))
+    written += _render(views, writer, env, index_pages(views.site, written))
     pages = [info.path for info in written]
     for path, text in sitemap_files([info.path for info in written if info.listed], views.base_url):
         writer.text(path, text)

@@ -39,9 +39,10 @@ from array import array
 from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 from itertools import repeat
-from typing import Any, Protocol
+from typing import TYPE_CHECKING, Any, Protocol
 
-import numpy as np
+if TYPE_CHECKING:
+    import numpy as np
 
 from builder.arith.dynamics import AffineMap, shortcut_form
 from builder.arith.integers import decimals, parse_decimal
@@ -313,6 +314,8 @@ def _bucket_count(hashes: np.ndarray[Any, Any], weights: np.ndarray[Any, Any], l
 
     Gives up at eight times the estimate: only entries that alone pass the limit keep it from fitting.
     """
+    import numpy as np  # when first needed: a build that keeps its index does without
+
     total = int(weights.sum())
     count = max(1, -(-total * 5 // (limit * 4)))
     ceiling = 8 * count
@@ -324,6 +327,8 @@ def _bucket_count(hashes: np.ndarray[Any, Any], weights: np.ndarray[Any, Any], l
 
 
 def _key_series(table: _Table, limit: int) -> tuple[int, list[tuple[str, str]]]:
+    import numpy as np  # when first needed: a build that keeps its index does without
+
     keys = sorted(table.keys)
     texts = [_js(key) + ":[" + ",".join(table.keys[key]) + "]" for key in keys]
     hashes = np.array([zlib.crc32(key.encode("utf-8")) for key in keys], dtype=np.int64)
@@ -349,6 +354,8 @@ class _Members:
 
     @classmethod
     def of(cls, table: _Table, spill_rows: int) -> _Members:
+        import numpy as np  # when first needed: a build that keeps its index does without
+
         listed = table.members
         sizes = np.frombuffer(listed.sizes, dtype=np.uint32)
         ends = np.cumsum(sizes, dtype=np.int64)
@@ -380,6 +387,8 @@ def _member_files(table: _Table, limits: SearchLimits) -> tuple[int, Iterator[tu
 
 
 def _member_shards(table: _Table, found: _Members, count: int, limits: SearchLimits) -> Iterator[tuple[str, str]]:
+    import numpy as np  # when first needed: a build that keeps its index does without
+
     buckets = found.hashes % np.uint32(count)
     order = np.argsort(buckets, kind="stable")  # ranks stay ascending within a bucket
     edges = np.searchsorted(buckets[order], np.arange(count + 1)).tolist()

@@ -14,11 +14,13 @@ compiled by Jinja as before.
 from __future__ import annotations
 
 import functools
+import hashlib
 from importlib import resources
 from pathlib import Path
-from typing import Any
+from typing import Any, Protocol
 
 import jinja2
+from jinja2.bccache import Bucket
 from jinja2.compiler import CodeGenerator, Frame
 from jinja2.nodes import Expr
 from markupsafe import Markup, escape
@@ -26,7 +28,7 @@ from markupsafe import Markup, escape
 from builder import __version__
 from builder.site.pages import NAV
 
-__all__ = ["escape_output", "page_environment", "template_dir"]
+__all__ = ["TemplateStore", "escape_output", "page_environment", "template_dir"]
 
 
 def escape_output(value: object) -> str:
@@ -70,9 +72,48 @@ def template_dir() -> Path:
     return Path(str(resources.files("builder.templates")))
 
 
-def page_environment() -> jinja2.Environment:
+class TemplateStore(Protocol):
+    """Where compiled templates are kept between builds: the verification cache
+    (builder.catalogue.cache.VerifyCache), whose rows are signed with the user's key, so that code kept by
+    anyone else is never run."""
+
+    @property
+    def persistent(self) -> bool: ...
+
+    def worked_out(self, key: bytes) -> Any | None: ...
+
+    def keep_worked_out(self, key: bytes, value: Any) -> None: ...
+
+
+class _Kept(jinja2.BytecodeCache):
+    """Jinja's compiled templates (its bytecode cache, as documented) kept in a TemplateStore, under the
+    template's name and source and ``code``: a digest of the code that compiles them (the generator above)."""
+
+    def __init__(self, store: TemplateStore, code: str) -> None:
+        self.store = store
+        self.code = code
+
+    def _key(self, bucket: Bucket) -> bytes:
+        what = f"compiled template\0{self.code}\0{jinja2.__version__}\0{bucket.key}\0{bucket.checksum}"
+        return hashlib.sha256(what.encode()).digest()
+
+    def load_bytecode(self, bucket: Bucket) -> None:
+        data = self.store.worked_out(self._key(bucket))
+        if isinstance(data, bytes):
+            bucket.bytecode_from_string(data)  # Jinja checks its own version and Python's, and the source
+
+    def dump_bytecode(self, bucket: Bucket) -> None:
+        self.store.keep_worked_out(self._key(bucket), bucket.bytecode_to_string())
+
+
+def page_environment(kept: TemplateStore | None = None, code: str = "") -> jinja2.Environment:
     """A new environment for the templates in :func:`template_dir`, with the navigation bar rendered
-    once for each depth and section (``site_nav``)."""
+    once for each depth and section (``site_nav``).
+
+    With ``kept`` (a store in use), every template is loaded now, as ``kept`` holds it compiled under
+    ``code`` (a digest of the code that compiles templates), or compiled and kept there; the environment
+    then no longer reads the store: processes forked from this one inherit the templates, not the store's
+    database connection.  Compiling the templates takes a build 0.16 s; loading them, 0.01 s."""
     env = _Environment(
         loader=jinja2.FileSystemLoader(template_dir()),
         autoescape=True,
@@ -83,6 +124,11 @@ def page_environment() -> jinja2.Environment:
         auto_reload=False,
     )
     env.globals.update(nav=NAV, version=__version__)
+    if kept is not None and kept.persistent:
+        env.bytecode_cache = _Kept(kept, code)
+        for name in env.list_templates(filter_func=lambda name: name.endswith(".html")):
+            env.get_template(name)
+        env.bytecode_cache = None
     nav = env.get_template("_nav.html")
 
     @functools.lru_cache(maxsize=256)

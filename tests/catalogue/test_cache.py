@@ -23,7 +23,6 @@ from conftest import BROKEN_CASES, FIXTURES, REPO, Run
 from test_coverage import with_claim
 
 from builder.catalogue import cache as cache_module
-from builder.catalogue import coverage as coverage_module
 from builder.catalogue import serial
 from builder.catalogue import signing as signing_module
 from builder.catalogue import store as store_module
@@ -31,6 +30,7 @@ from builder.catalogue import verify as verify_module
 from builder.catalogue.cache import DATABASE, FOLDER_NAME, VerifyCache, default_cache_folder
 from builder.catalogue.model import Report
 from builder.catalogue.verify import Limits, verify_catalogue
+from builder.search import engine as engine_module
 
 NO_RECHECK = Limits(recheck_up_to=-1)
 
@@ -63,13 +63,13 @@ def parses(monkeypatch: pytest.MonkeyPatch) -> list[str]:
 def searches(monkeypatch: pytest.MonkeyPatch) -> list[tuple[Any, ...]]:
     """The coverage searches verification runs (those it does not take from the cache)."""
     ran: list[tuple[Any, ...]] = []
-    real = coverage_module.hunt_range
+    real = engine_module.hunt_range
 
     def counting(*args: Any, **kwargs: Any) -> Any:
         ran.append(args)
         return real(*args, **kwargs)
 
-    monkeypatch.setattr(coverage_module, "hunt_range", counting)
+    monkeypatch.setattr(engine_module, "hunt_range", counting)  # imported from it when a search runs
     return ran
 
 

@@ -21,11 +21,11 @@ from conftest import BROKEN_CASES, REPO
 from test_cache import NO_RECHECK, detail
 from test_coverage import with_claim
 
-from builder.catalogue import coverage as coverage_module
 from builder.catalogue import shared as shared_module
 from builder.catalogue import verify as verify_module
 from builder.catalogue.cache import VerifyCache
 from builder.catalogue.verify import Limits, verify_catalogue
+from builder.search import engine as engine_module
 
 
 @pytest.fixture
@@ -98,14 +98,14 @@ def searchers(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> Callable[[], l
     """The ids of the processes that ran a coverage search, one per search."""
     log = tmp_path / "searchers"
     log.touch()
-    real = coverage_module.hunt_range
+    real = engine_module.hunt_range
 
     def counting(*args: Any, **kwargs: Any) -> Any:
         with open(log, "a") as fh:  # appended to by every process that searches
             fh.write(f"{os.getpid()}\n")
         return real(*args, **kwargs)
 
-    monkeypatch.setattr(coverage_module, "hunt_range", counting)
+    monkeypatch.setattr(engine_module, "hunt_range", counting)  # imported from it when a search runs
     return lambda: [int(line) for line in log.read_text().split()]
 
 

@@ -25,6 +25,8 @@ import pytest
 import yaml
 from bs4 import BeautifulSoup, Tag
 from conftest import FIXTURES, REPO, VALID, broken_copy, expected_output, write_files
+from hypothesis import given
+from hypothesis import strategies as st
 from test_search_index import read_shard
 from test_site import ATOM, Site, check_links, check_no_remote_resources, check_structure, parse_site, resolve
 
@@ -32,6 +34,7 @@ import builder.site.build
 import builder.site.render
 from builder.catalogue.verify import Limits, verify_catalogue
 from builder.errors import UsageError
+from builder.site import exports
 from builder.site.build import build_site
 from builder.site.markdown import render_notes
 from builder.site.pages import Unit
@@ -224,6 +227,25 @@ def test_hostile_text_in_the_exports(hostile: Site) -> None:
     assert first is not None
     assert first.findtext(f"{ATOM}author/{ATOM}name") == cycle["provenance"]["found_by"]
     assert entry["name"] in (first.findtext(f"{ATOM}title") or "")
+
+
+# Any text XML 1.0 allows (section 2.2: tab, newline, carriage return, and from U+0020 on, surrogates and
+# U+FFFE/U+FFFF excluded).
+_XML_TEXT = st.text(
+    st.characters(blacklist_categories=("Cs",), blacklist_characters="\ufffe\uffff", min_codepoint=0x20)
+    | st.sampled_from("\t\n\r&<>\"'")
+)
+
+
+@given(_XML_TEXT)
+def test_feed_text_and_attributes_read_back_as_written(text: str) -> None:
+    # The feed and the sitemaps write text and attribute values with their own escaping; an XML parser
+    # (the standard library's expat, through xml.etree) must read back exactly what was written.  In
+    # character data a parser turns a carriage return into a newline (XML 1.0, section 2.11); an
+    # attribute value keeps it, written as a character reference (section 3.3.3).
+    element = ET.fromstring(f"<a b={exports._xml_attribute(text)}>{exports._xml_text(text)}</a>")
+    assert element.get("b") == text
+    assert (element.text or "") == text.replace("\r\n", "\n").replace("\r", "\n")
 
 
 def test_notes_are_sanitised_whatever_the_markdown() -> None:
