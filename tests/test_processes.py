@@ -14,7 +14,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from builder.processes import WorkerStopped, segments, share_work
+from builder.processes import Background, WorkerStopped, segments, share_work
 
 
 def square(i: int) -> tuple[int, int]:
@@ -106,6 +106,29 @@ def test_an_interrupted_worker_interrupts_the_caller() -> None:
 
     with pytest.raises(KeyboardInterrupt):
         share_work(list(range(400)), 2, interrupted)
+
+
+def test_a_background_result_is_ready_only_once_its_process_is_done(tmp_path) -> None:
+    go = tmp_path / "go"
+
+    def waiting() -> int:
+        while not go.exists():  # until the test says so: no timing involved
+            time.sleep(0.01)
+        return 17
+
+    helper = Background(waiting)
+    try:
+        assert not helper.ready()
+        go.touch()
+        for _ in range(3000):  # at most 30 s; a done process is ready at once
+            if helper.ready():
+                break
+            time.sleep(0.01)
+        assert helper.ready()
+        assert helper.result() == 17
+        assert helper.ready()  # gone: asking does not wait
+    finally:
+        helper.stop()
 
 
 # --- keep_to_the_end, and the program that ends with its command --------------------------------------

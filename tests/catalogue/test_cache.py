@@ -27,7 +27,7 @@ from builder.catalogue import serial
 from builder.catalogue import signing as signing_module
 from builder.catalogue import store as store_module
 from builder.catalogue import verify as verify_module
-from builder.catalogue.cache import DATABASE, FOLDER_NAME, VerifyCache, default_cache_folder
+from builder.catalogue.cache import DATABASE, FOLDER_NAME, PathsUnder, VerifyCache, default_cache_folder
 from builder.catalogue.model import Report
 from builder.catalogue.verify import Limits, verify_catalogue
 from builder.search import engine as engine_module
@@ -534,6 +534,68 @@ def test_rows_not_signed_by_this_user_are_not_used_whether_prefetched_or_not(tmp
             if prefetched:
                 cache.prefetch(scope)
             assert cache.file(scope, "a/1.yaml", ("key", 1), paths) == (None if tampered else ("outcome", 1))
+
+
+def _kept_under(folder: Path, root: Path, scope: bytes) -> list[str]:
+    """Keep, in the cache at ``folder``, an outcome naming its own file's path for each of three folders' files."""
+    paths = PathsUnder(root)
+    rels = ["a/1.yaml", "b/1.yaml", "c/1.yaml"]
+    with VerifyCache.open(folder) as cache:
+        for rel in rels:
+            cache.keep_file(scope, rel, ("key", 1), ("outcome of", paths[rel]), paths)
+    return rels
+
+
+def test_folders_loaded_ahead_give_what_loading_them_when_asked_gives(tmp_path, monkeypatch):
+    # A build loads what the cache keeps while a helper lists the files, until the helper is done; a folder
+    # loaded ahead is not loaded again, and gives each file's path as the run names it.
+    folder, scope, root = tmp_path / "cache", b"s" * 32, tmp_path / "catalogue"
+    rels = _kept_under(folder, root, scope)
+    loads: list[bytes] = []
+    real = store_module.loads
+    monkeypatch.setattr(store_module, "loads", lambda data, paths: loads.append(data) or real(data, paths))
+    with VerifyCache.open(folder) as cache:
+        cache.prefetch(scope, PathsUnder(root), until=lambda: len(loads) == 2)  # the helper is done after two
+        assert len(loads) == 2
+        paths = PathsUnder(root, {rel: root / rel for rel in rels})
+        for rel in rels:
+            assert cache.file(scope, rel, ("key", 1), paths) == ("outcome of", root / rel)
+        assert len(loads) == 3  # the third folder, not loaded ahead, was loaded when asked for
+
+
+def test_folders_loaded_ahead_under_another_root_are_loaded_again(tmp_path, monkeypatch):
+    folder, scope = tmp_path / "cache", b"s" * 32
+    rels = _kept_under(folder, tmp_path / "catalogue", scope)
+    elsewhere = tmp_path / "elsewhere"
+    with VerifyCache.open(folder) as cache:
+        cache.prefetch(scope, PathsUnder(tmp_path / "catalogue"))
+        # Not the root the outcomes were loaded with: each names its file as the run asking does.
+        for rel in rels:
+            assert cache.file(scope, rel, ("key", 1), PathsUnder(elsewhere)) == ("outcome of", elsewhere / rel)
+    with VerifyCache.open(folder) as cache:
+        cache.prefetch(scope, PathsUnder(tmp_path / "catalogue"))
+        # Nor a plain mapping, which says nothing of its root.
+        paths = {rel: elsewhere / rel for rel in rels}
+        assert cache.file(scope, rels[0], ("key", 1), paths) == ("outcome of", elsewhere / rels[0])
+
+
+def test_rows_not_signed_by_this_user_are_not_loaded_ahead(tmp_path):
+    folder, scope, root = tmp_path / "cache", b"s" * 32, tmp_path / "catalogue"
+    rels = _kept_under(folder, root, scope)
+    with sqlite3.connect(folder / DATABASE) as db:
+        db.execute("UPDATE files SET mac = ?", (b"\0" * 32,))
+    db.close()
+    with VerifyCache.open(folder) as cache:
+        cache.prefetch(scope, PathsUnder(root))
+        assert all(cache.file(scope, rel, ("key", 1), PathsUnder(root)) is None for rel in rels)
+
+
+def test_paths_under_a_root_are_those_given_and_made_from_the_root_for_any_other(tmp_path):
+    given = tmp_path / "given.yaml"
+    paths = PathsUnder(tmp_path / "root", {"a.yaml": given})
+    assert paths["a.yaml"] is given
+    assert paths["cycles/x/1.yaml"] == tmp_path / "root" / "cycles" / "x" / "1.yaml"
+    assert serial.loads(serial.dumps(("at", given), {given: "a.yaml"}), {}) == ("at", None)  # a plain mapping
 
 
 def test_a_cache_folder_that_is_a_file_is_not_used(catalogue, tmp_path, cli):

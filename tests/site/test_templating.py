@@ -52,3 +52,72 @@ def test_a_template_writes_values_through_it_and_markup_unchanged() -> None:
 def test_an_undefined_name_still_fails_the_page() -> None:
     with pytest.raises(jinja2.UndefinedError):
         page_environment().from_string("{{ missing }}").render()
+
+
+class _Store:
+    """A TemplateStore in memory (the build uses the verification cache, whose rows are signed)."""
+
+    persistent = True
+
+    def __init__(self) -> None:
+        self.kept: dict[bytes, object] = {}
+
+    def worked_out(self, key: bytes) -> object | None:
+        return self.kept.get(key)
+
+    def keep_worked_out(self, key: bytes, value: object) -> None:
+        self.kept[key] = value
+
+
+def _compiled(monkeypatch: pytest.MonkeyPatch) -> list[str | None]:
+    """The names of the templates Jinja compiles from here on."""
+    names: list[str | None] = []
+    real = jinja2.Environment.compile
+
+    def counting(self: jinja2.Environment, source: str, name: str | None = None, *args: object, **kw: object) -> object:
+        names.append(name)
+        return real(self, source, name, *args, **kw)  # type: ignore[arg-type]
+
+    monkeypatch.setattr(jinja2.Environment, "compile", counting)
+    return names
+
+
+def test_templates_are_compiled_once_kept_and_loaded_by_the_next_build(monkeypatch: pytest.MonkeyPatch) -> None:
+    # Jinja's bytecode cache, as its documentation defines it (jinja2.BytecodeCache): a template kept compiled
+    # is loaded, not compiled, and works as the one compiled from its source.
+    store = _Store()
+    compiled = _compiled(monkeypatch)
+    first = page_environment(store, "code 1")
+    names = first.list_templates(filter_func=lambda name: name.endswith(".html"))
+    assert sorted(compiled) == sorted(names) and len(store.kept) == len(names)
+    assert first.bytecode_cache is None  # detached: forked workers never read the store
+    compiled.clear()
+    again = page_environment(store, "code 1")
+    assert compiled == [] and again.bytecode_cache is None
+    plain = page_environment()
+    nav = {"root": "../", "section": "maps"}
+    assert again.get_template("_nav.html").render(**nav) == plain.get_template("_nav.html").render(**nav)
+    # Other code compiling them (a changed generator) compiles them again, under another key.
+    compiled.clear()
+    page_environment(store, "code 2")
+    assert sorted(compiled) == sorted(names) and len(store.kept) == 2 * len(names)
+
+
+def test_kept_bytes_that_are_not_a_compiled_template_are_compiled_again(monkeypatch: pytest.MonkeyPatch) -> None:
+    store = _Store()
+    page_environment(store, "code")
+    for key in store.kept:
+        store.kept[key] = b"not a compiled template"
+    compiled = _compiled(monkeypatch)
+    env = page_environment(store, "code")
+    assert len(compiled) == len(store.kept)
+    nav = {"root": "../", "section": "maps"}
+    assert env.get_template("_nav.html").render(**nav) == page_environment().get_template("_nav.html").render(**nav)
+
+
+def test_a_store_not_in_use_compiles_templates_as_they_are_used(monkeypatch: pytest.MonkeyPatch) -> None:
+    store = _Store()
+    store.persistent = False  # type: ignore[misc]
+    compiled = _compiled(monkeypatch)
+    page_environment(store, "code")
+    assert compiled == ["_nav.html"] and store.kept == {}
