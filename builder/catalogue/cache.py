@@ -28,7 +28,6 @@ verification without it gives the same report.
 from __future__ import annotations
 
 import contextlib
-import hashlib
 import sqlite3
 import time
 from collections.abc import Callable, Hashable, Mapping, Sequence
@@ -36,13 +35,13 @@ from pathlib import Path
 from types import TracebackType
 from typing import Any
 
-from builder.arith.dynamics import AffineMap
 from builder.catalogue.serial import PathsUnder, dumps, loads
 from builder.catalogue.signing import key_file, signing_key
 from builder.catalogue.store import (
     CACHE_FORMAT,
     KeptFolder,
     connect,
+    definition_digest,
     engine_version,
     kept_folder,
     mark_folder,
@@ -77,15 +76,6 @@ _SCOPE_ROWS = "SELECT folder, part, parts, value, aside, mac FROM files WHERE sc
 _KEEP_DAYS = 30
 #: Outcomes are written in batches of about this many bytes (memory stays bounded on a cold run).
 _BATCH_BYTES = 8 << 20
-
-
-def definition_digest(mapping: AffineMap) -> str:
-    """A digest of a map's definition (its modulus and branch constants, of any size)."""
-    h = hashlib.sha256()
-    for n in (mapping.modulus, *(c for branch in mapping.branches for c in branch)):
-        data = n.to_bytes(n.bit_length() // 8 + 1, "little", signed=True)
-        h.update(len(data).to_bytes(8, "little") + data)
-    return h.hexdigest()
 
 
 def default_cache_folder(catalogue: Path) -> Path:
@@ -375,7 +365,7 @@ class VerifyCache:
         if self._folder is None:
             return
         scope, folder = self._folder
-        if self._writable:
+        if self._writable and not self._unchanged():
             parts = parts_for(len(self._seen))
             now: dict[int, dict[str, tuple[Hashable, Any, Hashable]]] = {}
             for rel, seen in self._seen.items():
@@ -398,6 +388,12 @@ class VerifyCache:
                 self._keep_part(scope, folder, n, parts, now[n], recut=parts != self._parts)
         self._folder, self._paths, self._kept, self._seen, self._changed = None, {}, {}, {}, set()
         self._parts, self._had_rows, self._kept_parts, self._kept_aside, self._seen_aside = 0, False, {}, {}, {}
+
+    def _unchanged(self) -> bool:
+        """Whether the folder at hand is kept as it is: no file kept anew, come or gone, and cut as before."""
+        return (
+            not self._changed and self._seen.keys() == self._kept.keys() and parts_for(len(self._seen)) == self._parts
+        )
 
     def _keep_part(
         self,

@@ -36,9 +36,10 @@ class Checked(NamedTuple):
 
     def holds_with(self, known: Collection[str] | None) -> bool:
         """Whether the answers about reference keys are the same with ``known``."""
-        if self.asked is None or known is None:
-            return self.asked is None and known is None
-        return all((key in known) is found for key, found in self.asked)
+        asked = self.asked
+        if asked is None or known is None:
+            return asked is None and known is None
+        return not asked or all((key in known) is found for key, found in asked)
 
 
 class Asked(Collection[str]):

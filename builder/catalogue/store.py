@@ -21,6 +21,7 @@ from typing import Any, NamedTuple
 
 import yaml
 
+from builder.arith.dynamics import AffineMap
 from builder.catalogue.limits import Limits
 from builder.catalogue.serial import loads
 
@@ -29,6 +30,7 @@ __all__ = [
     "FILES_PER_PART",
     "KeptFolder",
     "connect",
+    "definition_digest",
     "connect_read_only",
     "engine_version",
     "kept_folder",
@@ -242,6 +244,15 @@ def kept_folder(rows: list[tuple[int, int, bytes, bytes | None, bool]], paths: M
             if kept_aside is not None:
                 aside[part] = kept_aside
     return KeptFolder(kept, used, files_of, aside, bool(rows))
+
+
+def definition_digest(mapping: AffineMap) -> str:
+    """A digest of a map's definition (its modulus and branch constants, of any size)."""
+    h = hashlib.sha256()
+    for n in (mapping.modulus, *(c for branch in mapping.branches for c in branch)):
+        data = n.to_bytes(n.bit_length() // 8 + 1, "little", signed=True)
+        h.update(len(data).to_bytes(8, "little") + data)
+    return h.hexdigest()
 
 
 def scope_of(root: Path, limits: Limits) -> bytes:

@@ -14,7 +14,6 @@ from __future__ import annotations
 import hashlib
 from collections.abc import Collection, Iterator, Mapping
 from functools import partial
-from itertools import groupby
 from pathlib import Path
 from types import MappingProxyType
 from typing import TypeGuard
@@ -36,6 +35,7 @@ from builder.catalogue.files import (
     read_file,
     scan_source,
 )
+from builder.catalogue.groups import FileGroups
 from builder.catalogue.limits import DEFAULT_MAX_STEPS, DEFAULT_RECHECK_UP_TO, Limits
 from builder.catalogue.maps import check_map
 from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Reference, Report
@@ -286,7 +286,10 @@ class _Verification:
         is reported as the duplicate never depends on the sharing.
         """
         files = list(self.raw.of_kind("cycle"))
-        states = [self.cycle_state(file.folder) for file in files]
+        # A folder's files come one after another: each folder's outcomes are looked up together.
+        groups = FileGroups.of(files)
+        folder_of = groups.each(lambda folder, at: folder)
+        states = groups.each(lambda folder, at: self.cycle_state(files[at[0]].folder))
         outcomes: list[Checked | None] = [None] * len(files)
         keys: list[tuple[bytes, str] | None] = [None] * len(files)
         persistent = self.cache.persistent
@@ -294,9 +297,7 @@ class _Verification:
         stamps = source.stamps([file.rel for file in files]) if persistent else [None] * len(files)
         # The entries as written of the files the cache keeps, kept apart by folder: read when asked for.
         asides: dict[str, tuple[bytes, ...]] = {}
-        # A folder's files come one after another: each folder's outcomes are looked up together.
-        for folder, numbers in groupby(range(len(files)), key=lambda i: _folder_of(files[i])):
-            at = list(numbers)
+        for folder, at in groups.places:
             hits = self.unread_hits(folder, [(files[i].rel, stamps[i], states[i]) for i in at]) if persistent else {}
             for j, i in enumerate(at):
                 file = files[i]
@@ -315,8 +316,8 @@ class _Verification:
             if by is not None:
                 shares[i] = by
         checked = set(todo)
-        revisit = {_folder_of(files[i]) for i in todo} if persistent else set()
-        kept_apart = self.kept_apart(files, checked, asides)
+        revisit = {folder_of[i] for i in todo} if persistent else set()
+        kept_apart = self.kept_apart(files, groups, checked, asides)
         for i, (file, outcome) in enumerate(zip(files, outcomes, strict=True)):
             assert outcome is not None, "every cycle file has an outcome"
             key = keys[i]
@@ -325,7 +326,7 @@ class _Verification:
                 written = outcome.written if share is None else share.written_of(i)
                 kept = outcome._replace(written=())  # its entries as written are kept apart, read when asked for
                 self.cache.keep_file(self.scope, file.rel, key, kept, self.paths, aside=written, stamp=stamps[i])
-            elif key is not None and _folder_of(file) in revisit:
+            elif key is not None and revisit and folder_of[i] in revisit:
                 # Kept, in a folder left before its other files were checked: seen by this run again.
                 self.cache.file(self.scope, file.rel, key, self.paths, stamps[i])
             self.take(outcome)
@@ -337,21 +338,27 @@ class _Verification:
                 assert not isinstance(outcome.value, MapEntry)
                 self.add_cycle(*outcome.value)
         self.shares += kept_apart
-        self.digests = _folder_digests(files, keys)
+        self.digests = groups.digests(files, keys)
         for share in self.shares:
             share.forget()  # read again only if the entries as written are asked for
         self.cycle_order = {file.rel: i for i, file in enumerate(files)}
 
     def kept_apart(
-        self, files: list[RawFile], checked: set[int], asides: Mapping[str, tuple[bytes, ...]]
+        self,
+        files: list[RawFile],
+        groups: FileGroups,
+        checked: set[int],
+        asides: Mapping[str, tuple[bytes, ...]],
     ) -> list[Share]:
-        """For each folder, the entries as written of its files whose outcome the cache kept (checked
-        files have theirs with their outcome): read from the cache's bytes when asked for."""
-        wanted: dict[str, set[str]] = {}
-        for i, file in enumerate(files):
-            if i not in checked and file.problems is None:
-                wanted.setdefault(_folder_of(file), set()).add(file.rel)
-        return [Share(data, self.paths, rels) for folder, rels in wanted.items() for data in asides.get(folder, ())]
+        """For each folder (``groups``: its name and its files' places), the entries as written of its files whose
+        outcome the cache kept (checked files have theirs with their outcome): read from the cache's bytes when
+        asked for."""
+        shares = []
+        for folder, at in groups.places:
+            rels = {files[i].rel for i in at if i not in checked and files[i].problems is None}
+            if rels:
+                shares += [Share(data, self.paths, rels) for data in asides.get(folder, ())]
+        return shares
 
     def cycle_state(self, folder: str | None) -> str:
         """What a cycle's checks read besides its file: the map of its folder (its definition, or that it
@@ -447,26 +454,6 @@ class _Verification:
         return Report(
             catalogue, tuple(sorted(self.problems)), len(files), written, self.references_readable, self.digests
         )
-
-
-def _folder_digests(files: list[RawFile], keys: list[tuple[bytes, str] | None]) -> dict[str, bytes]:
-    """The SHA-256 of each folder's cycle files, their names and the SHA-256 of their bytes in turn (each
-    name ends in .yaml, so the list reads one way), for the folders whose every file's bytes are known."""
-    digests: dict[str, bytes] = {}
-    for folder, numbers in groupby(range(len(files)), key=lambda i: _folder_of(files[i])):
-        h = hashlib.sha256()
-        for i in numbers:
-            key = keys[i]
-            if key is None:
-                break
-            h.update(files[i].rel.encode("utf-8", "surrogateescape") + b"\0" + key[0])
-        else:
-            digests[folder] = h.digest()
-    return digests
-
-
-def _folder_of(file: RawFile) -> str:
-    return file.rel.rpartition("/")[0]
 
 
 def verify_raw(raw: RawCatalogue, limits: Limits = Limits(), cache: VerifyCache | None = None, jobs: int = 1) -> Report:
