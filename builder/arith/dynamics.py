@@ -374,22 +374,29 @@ def cycle_equation(mapping: AffineMap, word: Sequence[int]) -> Equation:
         if not 0 <= r < m:
             raise ValueError(f"residue {show(r)} is outside 0..{show(m - 1)}")
 
-    def leaf(lo: int, hi: int) -> tuple[int, int, int]:
-        a_total, b_total, m_total = 1, 0, 1
-        for r in word[lo:hi]:
-            a, b = br[r]
-            a_total, b_total, m_total = a * a_total, a * b_total + b * m_total, m * m_total
-        return a_total, b_total, m_total
-
-    def combine(lo: int, hi: int) -> tuple[int, int, int]:
-        if hi - lo <= _TREE_LEAF:
-            return leaf(lo, hi)
-        mid = (lo + hi) // 2
-        a1, b1, m1 = combine(lo, mid)
-        a2, b2, m2 = combine(mid, hi)
-        if max(a1.bit_length(), b1.bit_length()) > MPZ_BITS:
-            a1, b1, m1 = gmpy2.mpz(a1), gmpy2.mpz(b1), gmpy2.mpz(m1)
-        return int(a2 * a1), int(a2 * b1 + b2 * m1), int(m1 * m2)
-
-    a_total, b_total, m_total = combine(0, len(word))
+    a_total, b_total, m_total = _combined(br, m, word, 0, len(word))
     return Equation(a_total, b_total, m_total)
+
+
+# The product tree of cycle_equation, as functions of the module: a nested function that calls itself
+# makes a reference cycle on every call, which only the cycle collector frees (a checking process
+# pauses it, builder.processes.no_cycle_collection).
+
+
+def _leaf(br: tuple[tuple[int, int], ...], m: int, word: Sequence[int], lo: int, hi: int) -> tuple[int, int, int]:
+    a_total, b_total, m_total = 1, 0, 1
+    for r in word[lo:hi]:
+        a, b = br[r]
+        a_total, b_total, m_total = a * a_total, a * b_total + b * m_total, m * m_total
+    return a_total, b_total, m_total
+
+
+def _combined(br: tuple[tuple[int, int], ...], m: int, word: Sequence[int], lo: int, hi: int) -> tuple[int, int, int]:
+    if hi - lo <= _TREE_LEAF:
+        return _leaf(br, m, word, lo, hi)
+    mid = (lo + hi) // 2
+    a1, b1, m1 = _combined(br, m, word, lo, mid)
+    a2, b2, m2 = _combined(br, m, word, mid, hi)
+    if max(a1.bit_length(), b1.bit_length()) > MPZ_BITS:
+        a1, b1, m1 = gmpy2.mpz(a1), gmpy2.mpz(b1), gmpy2.mpz(m1)
+    return int(a2 * a1), int(a2 * b1 + b2 * m1), int(m1 * m2)

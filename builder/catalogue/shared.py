@@ -24,6 +24,9 @@ __all__ = ["SHARE_FROM", "Share", "WrittenEntries", "check_shared"]
 
 #: Fewer cycle files than this to check are checked by the verification's own process.
 SHARE_FROM = 400
+#: A worker checks at most this many files at a time: it holds their outcomes and entries as written (about
+#: 12 KB a file) until it sends them, and its memory peaks with the most it held at once.
+SHARE_AT_MOST = 400
 
 
 class _File(Protocol):
@@ -65,7 +68,7 @@ def check_shared(
             yield i, key, outcome, None
         return
     global _FORKED
-    size = max(1, -(-len(todo) // (jobs * 8)))
+    size = max(1, min(SHARE_AT_MOST, -(-len(todo) // (jobs * 8))))
     shares: list[int | list[int]] = [*range(len(ahead)), *(todo[at : at + size] for at in range(0, len(todo), size))]
     _FORKED = (check_one, files, ahead)
     try:

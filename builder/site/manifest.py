@@ -96,6 +96,7 @@ class Previous:
     root: Path
     tasks: dict[str, Done]
     record: Record | None = None  # the layout of its whole-record exports (None: unknown)
+    common: str | None = None  # the digest of what every page of it read (None: unknown)
 
     def pieces(self) -> Callable[[str], MapPieces | None]:
         """The pieces of a map as the previous site's exports hold them; None where they cannot be had."""
@@ -141,13 +142,14 @@ def read_previous(site: Path | None) -> Previous | None:
             for name, entry in data["tasks"].items()
         }
         record = _record_of(data.get("record"))
+        common = data.get("common")
     except (OSError, ValueError, KeyError, TypeError, IndexError):
         return None
     if not all(len(p) == 4 for done in tasks.values() for p in done.pages):
         return None
     if not _all_inside([f for done in tasks.values() for f in done.files]):
         return None  # not a manifest this tool wrote
-    return Previous(site, tasks, record)
+    return Previous(site, tasks, record, common if isinstance(common, str) else None)
 
 
 def _record_of(data: Any) -> Record | None:
@@ -163,8 +165,8 @@ def _record_of(data: Any) -> Record | None:
     return spans, (str(whole), str(rows))
 
 
-def manifest_text(names: list[str], done: list[Done], record: Record) -> str:
-    """The manifest of a build whose tasks ``names`` left ``done``."""
+def manifest_text(names: list[str], done: list[Done], record: Record, common: str) -> str:
+    """The manifest of a build whose tasks ``names`` left ``done``, and each of whose pages read ``common``."""
     tasks = {
         name: {
             "digest": d.digest,
@@ -177,7 +179,7 @@ def manifest_text(names: list[str], done: list[Done], record: Record) -> str:
     }
     spans, digests = record
     layout = {"sha256": list(digests), "spans": {k: list(v) for k, v in spans.items()}}
-    whole = {"format": _FORMAT, "tasks": tasks, "record": layout}
+    whole = {"format": _FORMAT, "tasks": tasks, "record": layout, "common": common}
     return json.dumps(whole, sort_keys=True, separators=(",", ":")) + "\n"
 
 

@@ -372,11 +372,8 @@ def _share_tasks(
     inputs = _common_inputs(views)
     common = _Common(inputs, _digest(inputs, views.site.shared_sources()))
     views.site.marked  # noqa: B018 (made once here, before the workers are forked: they share it)
-    if previous is None:
-        # Every template compiled once, here, before the workers are forked: they inherit the compiled code.
-        # A build that takes most pages from the site it replaces compiles only those it uses, as it uses them.
-        for name in env.list_templates(filter_func=lambda name: name.endswith(".html")):
-            env.get_template(name)
+    if previous is None or previous.common != inputs:  # every page is made again
+        _ready_for_every_page(env)
 
     def run(i: int) -> Done | _Kept:
         return _perform(tasks[i], views, at, env, common, previous, linked)
@@ -395,6 +392,15 @@ def _share_tasks(
     except WorkerStopped as stopped:
         raise SystemExit(f"a page-writing process stopped: {stopped}") from None
     return [_done(tasks[i], done[i], previous) for i in range(len(tasks))]
+
+
+def _ready_for_every_page(env: jinja2.Environment) -> None:
+    """Every template compiled, and numpy (charts, the search index) imported, here, before the workers are
+    forked: they inherit the compiled code and share the module's memory.  A build that takes most pages
+    from the site it replaces compiles and imports only what it uses, as it uses it."""
+    for name in env.list_templates(filter_func=lambda name: name.endswith(".html")):
+        env.get_template(name)
+    import numpy  # noqa: F401
 
 
 def _done(task: _Task, result: Done | _Kept, previous: Previous | None) -> Done:
@@ -482,6 +488,6 @@ def _write_rest(
         if asset.is_file() and not asset.name.startswith("."):
             (out / "static").mkdir(exist_ok=True)
             shutil.copyfile(asset, out / "static" / asset.name)
-    writer.text(MANIFEST, manifest_text([t.name for t in tasks], done, layout))
+    writer.text(MANIFEST, manifest_text([t.name for t in tasks], done, layout, _common_inputs(views)))
     writer.text(MARKER, f"This folder was written by periplus {__version__}; periplus build replaces it whole.\n")
     return pages

@@ -11,6 +11,7 @@ nothing).
 
 from __future__ import annotations
 
+import gc
 import os
 from collections.abc import Callable
 from pathlib import Path
@@ -139,3 +140,33 @@ def test_searches_the_cache_keeps_are_not_run_ahead(catalogue, tmp_path, shared,
         again = detail(verify_catalogue(root, Limits(), cache, jobs=3))
     assert first == again
     assert len(searchers()) == ran  # all kept: nothing searched, ahead or not
+
+
+def test_checking_a_cycle_file_leaves_no_reference_cycle(monkeypatch):
+    # A worker checks files with the cycle collector paused (builder.processes.no_cycle_collection), so what
+    # a check leaves behind must be freed by reference counting alone: a cycle of references would stay
+    # until the worker ends (gc.DEBUG_SAVEALL keeps what the collector finds, instead of freeing it).
+    checked: list[object] = []
+    real = verify_module._Verification.check_one
+
+    def collected(run: object, *args: object) -> object:
+        gc.collect()  # what was made before the check
+        gc.set_debug(gc.DEBUG_SAVEALL)
+        try:
+            outcome = real(run, *args)
+            checked.append(outcome)
+            found = gc.collect()
+            assert found == 0, f"a check left {found} objects in reference cycles: {gc.garbage[:10]}"
+        finally:
+            gc.set_debug(0)
+            gc.garbage.clear()
+        return outcome
+
+    monkeypatch.setattr(verify_module._Verification, "check_one", collected)
+    gc.collect()
+    gc.freeze()  # each collection looks at what was made since: what the check made
+    try:
+        report = verify_catalogue(REPO / "catalogue", NO_RECHECK, jobs=1)
+    finally:
+        gc.unfreeze()
+    assert report.ok and len(checked) > 600  # every cycle file of the shipped record

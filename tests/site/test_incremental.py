@@ -20,7 +20,9 @@ import pytest
 from conftest import VALID
 from gitrepo import Repo
 
+from builder.site import render
 from builder.site.build import build_site
+from builder.site.manifest import read_previous
 from builder.site.render import MANIFEST
 
 
@@ -147,6 +149,28 @@ def test_an_incremental_build_is_the_clean_build(tmp_path: Path, case: str) -> N
     if case == "nothing":  # then only what every build makes is written again: no unit's pages
         rewritten = sorted(p for p in after if before.get(p) != after[p] and p.startswith("maps/") and p.count("/") > 1)
         assert rewritten == [], rewritten
+
+
+@pytest.mark.parametrize(
+    ("change", "every_page"), [(None, True), (_nothing, False), (_cycle_method, False), (_record_title, True)]
+)
+def test_a_build_that_makes_every_page_again_readies_its_workers_first(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, change: Callable[[Path], None] | None, every_page: bool
+) -> None:
+    # With no site to take pages from, or one whose every page read other common inputs (the record's
+    # title is on every page), every template is compiled and numpy imported before the workers are forked.
+    cat = tmp_path / "catalogue"
+    shutil.copytree(VALID, cat)
+    site = tmp_path / "site"
+    if change is not None:
+        assert build_site(cat, site, jobs=1).report.ok
+        change(cat)
+    readied: list[object] = []
+    real = render._ready_for_every_page
+    monkeypatch.setattr(render, "_ready_for_every_page", lambda env: readied.append(env) or real(env))
+    assert build_site(cat, site, jobs=2).report.ok
+    assert len(readied) == (1 if every_page else 0)
+    assert json.loads((site / MANIFEST).read_text(encoding="utf-8"))["common"] == read_previous(site).common
 
 
 def test_a_commit_that_changes_no_file_still_changes_the_pages_of_its_history(tmp_path: Path) -> None:
