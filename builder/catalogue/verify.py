@@ -255,8 +255,14 @@ class _Verification:
             return check_map(file, known, problems)
 
         context = "map, references " + ("unread" if self.known is None else "read")
-        for file in self.raw.of_kind("map"):
-            outcome = self.checked(file, context, check)
+        files = list(self.raw.of_kind("map"))
+        hits = {}
+        if self.cache.persistent:  # the outcomes the cache keeps for the files' stamps, looked up at once
+            stamps = self.raw.source.stamps([file.rel for file in files])
+            hits = self.unread_hits("maps", [(file.rel, stamps[i], context) for i, file in enumerate(files)])
+        for i, file in enumerate(files):
+            hit = hits.get(i) if file.problems is None else None
+            outcome = hit[1] if hit is not None else self.checked(file, context, check)
             self.take(outcome)
             entry = outcome.value
             if isinstance(entry, MapEntry) and not outcome.faulted:
