@@ -288,6 +288,43 @@ def cycle_links(site: Site, map_id: str) -> Counter[str]:
     return links
 
 
+def _surname_key(author: str) -> tuple[str, str]:
+    # A bibliography orders works by the authors' surnames, each author's in year order (common practice,
+    # no source); written out here from the names as the record lists them (initials first).
+    words = author.split()
+    while len(words) > 1 and words[0].endswith("."):
+        words = words[1:]
+    return " ".join(words).casefold(), author.casefold()
+
+
+def test_the_references_are_in_bibliography_order_and_cited_by_maps_in_the_site_s_order(shipped: Site) -> None:
+    listed = yaml.safe_load((SHIPPED / "references.yaml").read_text(encoding="utf-8"))
+    expected = sorted(
+        listed,
+        key=lambda k: (
+            [_surname_key(a) for a in listed[k]["authors"]],
+            listed[k]["year"],
+            listed[k]["title"].casefold(),
+            k,
+        ),
+    )
+    page = shipped.page("references/index.html")
+    sections = page.select("section.reference")
+    assert [str(s["id"]).removeprefix("ref-") for s in sections] == expected
+    # Lagarias's works, for one, come in year order (1985, 1990, 2003).
+    years = [listed[k]["year"] for k in expected if listed[k]["authors"] == ["J. C. Lagarias"]]
+    assert years == sorted(years) and len(years) >= 3
+    # The maps citing a source come in the order of the maps index (3x+1 before 3x-1, 3x+5 before 3x+13...).
+    index = [a["href"].split("/")[-2] for a in shipped.page("maps/index.html").select("table a[href$='/index.html']")]
+    for section in sections:
+        cited = [
+            a["href"].split("/")[-2]
+            for a in section.select("ul.link-list a")
+            if a.find_parent("li") and "(map)" in text_of(a.find_parent("li"))
+        ]
+        assert cited == [m for m in index if m in cited]
+
+
 def test_the_3x_plus_1_map_page_lists_every_cycle(shipped: Site) -> None:
     # The shipped catalogue's own files, read with PyYAML (outside the engine's event-stream loader).
     entries = {}
