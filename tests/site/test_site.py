@@ -539,6 +539,18 @@ def test_nothing_is_loaded_from_another_host(shipped: Site) -> None:
         assert sheets and all(resolve(rel, h)[0] == "static/style.css" for h in sheets), rel
 
 
+def test_every_page_names_the_site_s_own_icon(shipped: Site) -> None:
+    # A page without an icon makes the browser ask for /favicon.ico, which a static site answers with 404
+    # (common practice, no source); each page names the site's own SVG icon (the 404 page by its absolute address).
+    assert shipped.page("404.html").find("link", rel="icon")["href"] == BASE_URL + "static/favicon.svg"
+    for rel, soup in shipped.pages.items():
+        if rel != "404.html":
+            icons = [link["href"] for link in soup.find_all("link", rel="icon")]
+            assert [resolve(rel, h)[0] for h in icons] == ["static/favicon.svg"], rel
+    icon = ET.parse(shipped.root / "static" / "favicon.svg").getroot()  # well-formed XML
+    assert icon.tag == "{http://www.w3.org/2000/svg}svg"
+
+
 def test_the_remote_check_catches_a_remote_stylesheet(tmp_path: Path) -> None:
     # Common practice, no source: the checker is checked on an input it must reject.
     (tmp_path / "index.html").write_text('<link rel="stylesheet" href="https://cdn.example/x.css">', encoding="utf-8")
