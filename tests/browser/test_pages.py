@@ -122,3 +122,19 @@ def test_page_fits_a_phone_width(browser: Any, shipped_site: Path, page: str, wi
     assert inner == width  # the window really is that narrow
     assert scroll <= client, f"{page} is {scroll} px wide in a {client} px window"
     assert console_errors(entries) == []
+
+
+@pytest.mark.parametrize("width", [390, 320])  # a phone's width; WCAG 2.1 SC 1.4.10 (Reflow)
+def test_a_list_of_numbers_never_breaks_a_number(browser: Any, shipped_site: Path, width: int) -> None:
+    # 181x+1 has a coverage claim with hundreds of unresolved starts: the list wraps between numbers, and each
+    # number (such as -40 or 91) stays on one line, so that none reads as two (common practice, no source).
+    from selenium.webdriver.common.by import By
+
+    browser.set_window_size(width, 844)
+    open_page(browser, shipped_site, "maps/181x-plus-1/index.html")
+    items = browser.find_elements(By.CSS_SELECTOR, "ul.numbers li")
+    assert len(items) >= 50  # the first of them; the data file has all
+    lines = browser.execute_script("return arguments[0].map(e => e.getClientRects().length);", items)
+    assert set(lines) == {1}
+    tops = {round(box(browser, item)["top"]) for item in items}
+    assert len(tops) > 1  # the list itself wraps onto several lines
