@@ -8,6 +8,7 @@ BeautifulSoup's html.parser; the checks below read those parses.
 from __future__ import annotations
 
 import csv
+import hashlib
 import io
 import json
 import posixpath
@@ -549,6 +550,19 @@ def test_every_page_names_the_site_s_own_icon(shipped: Site) -> None:
             assert [resolve(rel, h)[0] for h in icons] == ["static/favicon.svg"], rel
     icon = ET.parse(shipped.root / "static" / "favicon.svg").getroot()  # well-formed XML
     assert icon.tag == "{http://www.w3.org/2000/svg}svg"
+
+
+def test_the_fingerprint_recipe_s_worked_example_gives_the_fingerprint_on_the_cycle_s_page(shipped: Site) -> None:
+    # SHA-256 (FIPS 180-4) through hashlib, of the example text exactly as the data page shows it, as ASCII.
+    page = shipped.page("data/index.html")
+    text = page.select_one("pre.fingerprint-text").get_text()
+    shown = [code.get_text() for code in page.select("code.fingerprint")]
+    assert text.endswith("\n") and text.count("\n") == 5
+    assert shown == [hashlib.sha256(text.encode("ascii")).hexdigest()[:16]]
+    cycle = shipped.page("maps/3x-plus-1/1/index.html")  # 3x+1's cycle 1 -> 2 -> 1 (Lagarias 1985 via literature.md)
+    assert cycle.select_one("code.fingerprint").get_text() == shown[0]
+    # No page writes a line feed as a symbol most fonts lack (U+2424).
+    assert not [rel for rel, soup in shipped.pages.items() if "\u2424" in soup.get_text()]
 
 
 def test_the_remote_check_catches_a_remote_stylesheet(tmp_path: Path) -> None:
