@@ -565,6 +565,14 @@ def test_the_fingerprint_recipe_s_worked_example_gives_the_fingerprint_on_the_cy
     assert not [rel for rel, soup in shipped.pages.items() if "\u2424" in soup.get_text()]
 
 
+def test_the_changes_page_speaks_to_readers_not_maintainers(shipped: Site) -> None:
+    # How releases are tagged is the maintainers' business (DEVELOPERS.md, "Releases"); a reader is told
+    # what a release is and what the page compares.
+    lead = text_of(shipped.page("changes/index.html").select_one("p.lead"))
+    assert "record-<version>" not in lead and "tag" not in lead
+    assert lead.startswith("A release is a fixed state of the record, with a version number of its own")
+
+
 def test_the_remote_check_catches_a_remote_stylesheet(tmp_path: Path) -> None:
     # Common practice, no source: the checker is checked on an input it must reject.
     (tmp_path / "index.html").write_text('<link rel="stylesheet" href="https://cdn.example/x.css">', encoding="utf-8")
