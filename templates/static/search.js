@@ -24,6 +24,12 @@
  *           separated by commas such as 0,11,4 (needed for moduli above 10).
  *           It may start anywhere in the word and run on round it.
  *
+ * The page searches when the form is submitted, and as the reader types, once typing
+ * pauses for DEBOUNCE_MS; the query string follows the fields. A field that does not
+ * parse gets its message in the element whose id is the field's id with "-error",
+ * aria-invalid="true" and that element in its aria-describedby; while the reader types,
+ * a field that is only the start of an entry (a lone minus sign) waits unmarked.
+ *
  * Results are built with textContent only (the data come from contributors).
  * Plain ES2020, no dependencies; the globals are window.Periplus.search and
  * the queue window.PeriplusSearchData.
@@ -32,6 +38,9 @@
   'use strict';
 
   var MAX_SHOWN = 200;
+  // A search starts once typing has paused this long, and says "Searching" only after SLOW_MS more.
+  var DEBOUNCE_MS = 250;
+  var SLOW_MS = 300;
   var INDEX_FILE = 'data/search-index.js';
   var SHARD_FOLDER = 'data/search/';
 
@@ -56,7 +65,7 @@
    * Leading '+' removed; spaces, thin spaces and underscores removed; a
    * typographic minus (U+2212) read as '-'; leading zeros stripped; -0 is 0.
    */
-  function normaliseInteger(raw, label) {
+  function normaliseInteger(raw) {
     var s = String(raw === null || raw === undefined ? '' : raw).trim();
     s = s.replace(IGNORED, '').replace(/^\u2212/, '-');
     if (s === '') {
@@ -64,10 +73,7 @@
     }
     var m = /^([+-]?)([0-9]+)$/.exec(s);
     if (m === null) {
-      return {
-        error: (label || 'Member') + ': enter a whole number, such as 27 or -17 ' +
-          '(digits with an optional minus sign; spaces and underscores are ignored).'
-      };
+      return { error: 'Enter a whole number: digits, with a minus sign before a negative one.' };
     }
     var digits = m[2].replace(/^0+(?=[0-9])/, '');
     var negative = m[1] === '-' && digits !== '0';
@@ -75,17 +81,17 @@
   }
 
   function normaliseMember(raw) {
-    return normaliseInteger(raw, 'Member');
+    return normaliseInteger(raw);
   }
 
   /** A length: a positive whole number (as a canonical decimal string). */
   function normaliseLength(raw) {
-    var r = normaliseInteger(raw, 'Length');
+    var r = normaliseInteger(raw);
     if (r.error) {
-      return { error: 'Length: enter a whole number of steps, such as 11.' };
+      return { error: 'Enter the number of members as a whole number, such as 11.' };
     }
     if (r.value.charAt(0) === '-' || r.value === '0') {
-      return { error: 'Length: a cycle has at least one step; enter a positive whole number.' };
+      return { error: 'A cycle has at least one member: enter a positive whole number.' };
     }
     return r;
   }
@@ -111,8 +117,7 @@
     if (s === '') {
       return { value: null };
     }
-    var message = 'Word: enter digits such as 1101, or residues separated by commas ' +
-      'such as 0,11,4.';
+    var message = 'Enter digits, or residues separated by commas.';
     if (s.indexOf(',') >= 0) {
       var parts = s.split(',');
       var list = [];
@@ -282,20 +287,22 @@
 
   /**
    * Parse the raw field values {member, map, length, word} into a query.
-   * Returns {query: {...}} or {error, field}.
+   * Returns {query: {...}}, or {error, field, errors} where errors lists
+   * every field that does not parse ({field, error}, in the order of the
+   * form) and error and field are the first of them.
    */
   function parseQuery(fields) {
     var member = normaliseMember(fields.member);
-    if (member.error) {
-      return { error: member.error, field: 'member' };
-    }
     var length = normaliseLength(fields.length);
-    if (length.error) {
-      return { error: length.error, field: 'length' };
-    }
     var word = parseWordFragment(fields.word);
-    if (word.error) {
-      return { error: word.error, field: 'word' };
+    var errors = [];
+    [['member', member], ['length', length], ['word', word]].forEach(function (pair) {
+      if (pair[1].error) {
+        errors.push({ field: pair[0], error: pair[1].error });
+      }
+    });
+    if (errors.length > 0) {
+      return { error: errors[0].error, field: errors[0].field, errors: errors };
     }
     var mapText = String(fields.map === null || fields.map === undefined ? '' : fields.map).trim();
     return {
@@ -307,6 +314,45 @@
         word: word.value
       }
     };
+  }
+
+  /**
+   * Is a field's text the start of an entry rather than a wrong one: a lone
+   * sign in the member or length field, or a word fragment that ends with a
+   * comma? While the reader types, such a field waits instead of being marked.
+   */
+  function unfinished(name, raw) {
+    var s = String(raw === null || raw === undefined ? '' : raw).replace(IGNORED, '');
+    if (name === 'member' || name === 'length') {
+      return /^[+\-\u2212]$/.test(s);
+    }
+    if (name === 'word') {
+      return /,$/.test(s) && !parseWordFragment(s.replace(/,$/, '')).error;
+    }
+    return false;
+  }
+
+  var LABELS = { member: 'Member', map: 'Map', length: 'Length', word: 'Word fragment' };
+
+  /** The labels of some fields, joined as in a sentence: "Member", "Member and Length", ... */
+  function fieldNames(names) {
+    var labels = names.map(function (name) { return LABELS[name] || name; });
+    if (labels.length < 2) {
+      return labels.join('');
+    }
+    return labels.slice(0, -1).join(', ') + ' and ' + labels[labels.length - 1];
+  }
+
+  /** The status line when fields do not parse (each field's own message is shown under it). */
+  function errorStatus(errors) {
+    var names = errors.map(function (e) { return e.field; });
+    return 'Not searched: correct the ' + fieldNames(names) + (names.length === 1 ? ' field' : ' fields') +
+      ' (the message is under ' + (names.length === 1 ? 'it' : 'each') + ').';
+  }
+
+  /** The status line while a field waits for the rest of its entry. */
+  function waitingStatus(names) {
+    return 'Waiting for the rest of the ' + fieldNames(names) + (names.length === 1 ? ' field' : ' fields') + '.';
   }
 
   function isEmptyQuery(q) {
@@ -867,16 +913,41 @@
     });
   }
 
-  function markInvalid(form, name) {
-    FIELDS.forEach(function (n) {
-      var el = field(form, n);
+  /**
+   * Tie each error to its field: the field's message element (the field's
+   * id with "-error") gets the text and is shown, and the field gets
+   * aria-invalid="true" and that element first in its aria-describedby.
+   * A field without an error has all three taken away again.
+   */
+  function showErrors(doc, form, errors) {
+    FIELDS.forEach(function (name) {
+      var el = field(form, name);
       if (!el) {
         return;
       }
-      if (n === name) {
+      var found = errors.filter(function (e) { return e.field === name; })[0];
+      var box = el.id ? doc.getElementById(el.id + '-error') : null;
+      var ids = (el.getAttribute('aria-describedby') || '').split(/\s+/).filter(function (id) {
+        return id !== '' && !(box && id === box.id);
+      });
+      if (found) {
         el.setAttribute('aria-invalid', 'true');
+        if (box) {
+          box.textContent = found.error;
+          box.hidden = false;
+          ids.unshift(box.id);
+        }
       } else {
         el.removeAttribute('aria-invalid');
+        if (box) {
+          box.textContent = '';
+          box.hidden = true;
+        }
+      }
+      if (ids.length > 0) {
+        el.setAttribute('aria-describedby', ids.join(' '));
+      } else {
+        el.removeAttribute('aria-describedby');
       }
     });
   }
@@ -949,10 +1020,19 @@
     var notLoaded = 'The search index (' + INDEX_FILE + ') did not load, so ' +
       'search is not available here. The map and length pages list every cycle.';
 
-    function run(fields, fromUrl) {
-      if (!fromUrl) {
+    var typingTimer = null;
+    var lastTyped = null;
+
+    /**
+     * Search with the fields' values. how is 'submit' (the button or Enter),
+     * 'typing' (a pause in typing) or 'address' (the query string the page
+     * was opened with, which is then left as it is).
+     */
+    function run(fields, how) {
+      if (how !== 'address') {
         updateUrl(win, fields);
       }
+      lastTyped = JSON.stringify(fields);
       latest += 1;
       var mine = latest;
       if (manifest === null) {
@@ -961,26 +1041,45 @@
         return;
       }
       var parsed = parseQuery(fields);
-      if (parsed.error) {
-        markInvalid(form, parsed.field);
+      var errors = parsed.errors || [];
+      var waiting = how !== 'typing' ? [] : errors.filter(function (e) {
+        return unfinished(e.field, fields[e.field]);
+      });
+      errors = errors.filter(function (e) { return waiting.indexOf(e) < 0; });
+      showErrors(doc, form, errors);
+      if (errors.length > 0 || waiting.length > 0) {
         clear(results);
-        status.textContent = parsed.error;
+        if (errors.length > 0) {
+          status.textContent = errorStatus(errors);
+          var first = how === 'submit' ? field(form, errors[0].field) : null;
+          if (first && typeof first.focus === 'function') {
+            first.focus();
+          }
+        } else {
+          status.textContent = waitingStatus(waiting.map(function (e) { return e.field; }));
+        }
         return;
       }
-      markInvalid(form, null);
       if (isEmptyQuery(parsed.query)) {
         clear(results);
         status.textContent = 'Fill in at least one field to search the ' +
           plural(manifest.cycles, 'cycle', 'cycles') + ' of the record.';
         return;
       }
-      status.textContent = 'Searching\u2026';
+      // While the reader types, "Searching" is said only for a search that takes a while.
+      var slow = win.setTimeout(function () {
+        if (mine === latest) {
+          status.textContent = 'Searching\u2026';
+        }
+      }, how === 'typing' ? SLOW_MS : 0);
       lookup(index, parsed.query).then(function (result) {
+        win.clearTimeout(slow);
         if (mine === latest) {
           renderResults(doc, results, result, rootPath, manifest.cycle_url, manifest.listed);
           status.textContent = statusText(result);
         }
       }, function (error) {
+        win.clearTimeout(slow);
         if (mine === latest) {
           clear(results);
           status.textContent = failureText(error);
@@ -990,13 +1089,27 @@
 
     form.addEventListener('submit', function (event) {
       event.preventDefault();
-      run(readFields(form), false);
+      win.clearTimeout(typingTimer);
+      typingTimer = null;
+      run(readFields(form), 'submit');
+    });
+
+    // Search as the reader types, once typing pauses for DEBOUNCE_MS.
+    form.addEventListener('input', function () {
+      win.clearTimeout(typingTimer);
+      typingTimer = win.setTimeout(function () {
+        typingTimer = null;
+        var fields = readFields(form);
+        if (JSON.stringify(fields) !== lastTyped) {
+          run(fields, 'typing');
+        }
+      }, DEBOUNCE_MS);
     });
 
     var initial = fieldsFromQueryString(win.location ? win.location.search : '');
     if (initial) {
       writeFields(form, initial);
-      run(readFields(form), true);
+      run(readFields(form), 'address');
     } else if (manifest === null) {
       status.textContent = notLoaded;
     }
@@ -1013,6 +1126,10 @@
     mapKey: mapKey,
     resolveMaps: resolveMaps,
     parseQuery: parseQuery,
+    unfinished: unfinished,
+    errorStatus: errorStatus,
+    waitingStatus: waitingStatus,
+    showErrors: showErrors,
     isEmptyQuery: isEmptyQuery,
     search: search,
     lookup: lookup,
@@ -1029,7 +1146,8 @@
     openIndex: openIndex,
     renderResults: renderResults,
     setup: setup,
-    MAX_SHOWN: MAX_SHOWN
+    MAX_SHOWN: MAX_SHOWN,
+    DEBOUNCE_MS: DEBOUNCE_MS
   };
 
   if (root) {

@@ -12,7 +12,13 @@
  *   whole:   the reference search() over every cycle of the index at once (rows, words and
  *            members gathered from every shard).
  * With "alone", only the sharded lookup runs (for an index with a file missing). A query whose
- * fields do not parse prints {error}, and an empty one {empty: true} (the page answers both itself).
+ * fields do not parse prints {error, errors}, and an empty one {empty: true} (the page answers both
+ * itself).
+ *
+ *   node search_driver.js SEARCH_JS calls < calls.json
+ *
+ * calls.json is a list of [name, ...arguments]: for each it prints one JSON line, the value of the
+ * script's own function of that name for those arguments (for the helpers that need no index).
  */
 'use strict';
 
@@ -21,7 +27,8 @@ const path = require('path');
 const vm = require('vm');
 
 const api = require(path.resolve(process.argv[2]));
-const site = path.resolve(process.argv[3]);
+const calls = process.argv[3] === 'calls';
+const site = calls ? null : path.resolve(process.argv[3]);
 const alone = process.argv[4] === 'alone';
 
 function fakeWindow() {
@@ -108,14 +115,25 @@ function summary(result) {
   };
 }
 
+function callEach() {
+  for (const [name, ...args] of JSON.parse(fs.readFileSync(0, 'utf8'))) {
+    const value = api[name](...args);
+    process.stdout.write(JSON.stringify(value === undefined ? null : value) + '\n');
+  }
+}
+
 async function main() {
+  if (calls) {
+    callEach();
+    return;
+  }
   const queries = JSON.parse(fs.readFileSync(0, 'utf8'));
   const manifest = fakeWindow().PeriplusSearchData[0][1];
   const whole = alone ? null : wholeIndex(manifest);
   for (const fields of queries) {
     const parsed = api.parseQuery(fields);
     if (parsed.error) {
-      process.stdout.write(JSON.stringify({ error: parsed.error }) + '\n');
+      process.stdout.write(JSON.stringify({ error: parsed.error, errors: parsed.errors }) + '\n');
       continue;
     }
     if (api.isEmptyQuery(parsed.query)) {
