@@ -182,9 +182,7 @@ def run_command(args: list[str]) -> Run:
     """Run ``python -m builder ARGS`` from the repository's top folder, timed and sampled."""
     settle()
     t0 = time.perf_counter()
-    child = subprocess.Popen(
-        [sys.executable, "-m", "builder", *args], cwd=ROOT, stdout=subprocess.PIPE, env=CHILD_ENV
-    )
+    child = subprocess.Popen([sys.executable, "-m", "builder", *args], cwd=ROOT, stdout=subprocess.PIPE, env=CHILD_ENV)
     sampler = TreeSampler(child.pid)
     sampler.start()
     assert child.stdout is not None

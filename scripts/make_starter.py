@@ -81,7 +81,7 @@ def read_map(path: Path) -> AffineMap:
 
 def method_text(bound: int, steps: int, bits: int) -> str:
     return (
-        f"exhaustive search by scripts/make_starter.py: every start n with |n| <= {bound:,} followed exactly "
+        f"exhaustive search: every start n with |n| <= {bound:,} followed exactly "
         f"until it returned, fell below |n| or repeated, for up to {steps:,} steps and members of up to "
         f"{bits} bits; this file's start is the cycle's least |member|"
     )
@@ -95,7 +95,7 @@ def coverage_block(claims: list[tuple[int, HuntResult]], steps: int, bits: int) 
             "  - kind: all-starts",
             f"    bound: {bound}",
             f"    found_on: {FOUND_ON}",
-            f"    method: exhaustive search by scripts/make_starter.py (the engine of periplus hunt) to {bound:,}",
+            f"    method: exhaustive search of every start n with |n| <= {bound:,}",
             f"    max_steps: {steps}",
             f"    max_bits: {bits}",
             f"    unresolved: [{unresolved}]",

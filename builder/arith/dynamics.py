@@ -44,6 +44,7 @@ __all__ = [
     "default_max_bits",
     "from_canonical",
     "shortcut_form",
+    "standard_form",
     "trace",
     "walk",
 ]
@@ -202,6 +203,18 @@ def shortcut_form(mapping: AffineMap) -> tuple[int, int] | None:
         return None
     q, d = mapping.branches[1]
     return (q, d) if q % 2 and d % 2 else None
+
+
+def standard_form(mapping: AffineMap) -> tuple[int, int] | None:
+    """(q, d) when ``mapping`` is n/2 on even n and q n + d on odd n with q and d odd (written (2q n + 2d)/2), else None.
+
+    Its cycles are those of the shortcut form (shortcut_form): q n + d is even, so each odd step is followed by a
+    halving, and a cycle of k steps, x of them odd, is one of k - x shortcut steps.
+    """
+    if mapping.modulus != 2 or mapping.branches[0] != (1, 0):
+        return None
+    a, b = mapping.branches[1]
+    return (a // 2, b // 2) if a % 4 == 2 and b % 4 == 2 else None
 
 
 def default_max_bits(mapping: AffineMap, start: int) -> int:

@@ -19,6 +19,7 @@ from builder.arith.dynamics import (
     canonical_index,
     cycle_equation,
     shortcut_form,
+    standard_form,
     trace,
 )
 from builder.arith.fingerprint import cycle_fingerprint
@@ -272,7 +273,4 @@ def _standard_length(mapping: AffineMap, k: int, counts: list[int]) -> int | Non
     """
     if shortcut_form(mapping) is not None:
         return k + counts[1]
-    if mapping.modulus != 2 or mapping.branches[0] != (1, 0):
-        return None
-    a, b = mapping.branches[1]
-    return k if a % 4 == 2 and b % 4 == 2 else None
+    return k if standard_form(mapping) is not None else None

@@ -158,8 +158,9 @@ RECORD = Shape("the record's description", (
         {"type": "string", "pattern": "^https?://[A-Za-z0-9.-]+(:[0-9]{1,5})?(/[A-Za-z0-9._~%!$&'()*+,;=:@/-]*)?$"},
         "the `http` or `https` address the site is published at, without query or fragment; a final `/` is added. "
         "Links in the feed, the sitemap, `robots.txt`, the dataset description and the citations are absolute "
-        "from here",
-        True,
+        "from here. Missing, or still an address under a name reserved for examples (RFC 2606, such as "
+        "`example.org`), it is a warning: the site then gives relative permalinks, says the record has no "
+        "published address yet, and has no `sitemap.xml`",
     ),
     Field(
         "version",

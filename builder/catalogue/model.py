@@ -47,7 +47,8 @@ class Record:
     """The record as a whole, from ``record.yaml``: what it is, who keeps it, and how it may be reused.
 
     ``licence`` is an SPDX licence identifier, written as the SPDX list writes it.  ``base_url`` is an
-    http or https URL ending in ``/`` (the site's address, for absolute links).  ``version`` is the
+    http or https URL ending in ``/`` (the site's address, for absolute links), or None when the record
+    has no published address yet (none given, or the starter's placeholder).  ``version`` is the
     release the catalogue is at or is heading for; a release is the git tag ``record-<version>``.
     ``credit_committers``: whether entry history may name the people who committed a change.
     """
@@ -56,7 +57,7 @@ class Record:
     description: str
     maintainers: str
     licence: str
-    base_url: str
+    base_url: str | None
     version: str
     credit_committers: bool = False
 

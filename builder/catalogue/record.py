@@ -13,7 +13,7 @@ from builder.catalogue.reader import EntryReader, describe, open_entry, short, y
 from builder.catalogue.versions import UNRELEASED, version_problem
 from builder.errors import Problem
 
-__all__ = ["RECORD_FILE", "SITE_ADDRESS", "check_record", "site_address"]
+__all__ = ["RECORD_FILE", "SITE_ADDRESS", "check_record", "placeholder_address", "site_address"]
 
 RECORD_FILE = "record.yaml"
 _BASE_URL = re.compile(r"https?://[A-Za-z0-9.-]+(?::[0-9]{1,5})?(?:/[A-Za-z0-9._~%!$&'()*+,;=:@/-]*)?")
@@ -29,6 +29,9 @@ def check_record(raw: RawFile, problems: list[Problem]) -> Record | None:
     title, description, maintainers = v.get("title"), v.get("description"), v.get("maintainers")
     licence = _record_licence(doc, f["licence"]) if "licence" in f else None
     base_url = _record_base_url(doc, f["base_url"]) if "base_url" in f else None
+    if "base_url" not in f:
+        assert raw.root is not None, "open_entry found fields"
+        doc.warn(raw.root, (), f"no base_url: {_UNPUBLISHED}", "no-address")
     version = _record_version(doc, f["version"]) if "version" in f else None
     credit = False
     if "credit_committers" in f:
@@ -39,7 +42,7 @@ def check_record(raw: RawFile, problems: list[Problem]) -> Record | None:
             doc.error(node, ("credit_committers",), f"expected true or false, got {describe(node)}")
     if doc.failed:
         return None
-    assert title and description and maintainers and licence and base_url and version
+    assert title and description and maintainers and licence and version
     return Record(title.strip(), " ".join(description.split()), maintainers.strip(), licence, base_url, version, credit)
 
 
@@ -90,6 +93,24 @@ SITE_ADDRESS = (
 )
 
 
+# Names reserved for examples and tests (RFC 2606, section 2 and 3; RFC 6761, section 6): an address under
+# one of them is the starter's placeholder, never where a record is published.
+_RESERVED_DOMAINS = ("example.com", "example.net", "example.org")
+_RESERVED_TOP = ("example", "invalid", "test")
+_UNPUBLISHED = (
+    "the site is built with relative permalinks and says the record has no published address yet; "
+    "set base_url to the address the site is published at (or give build --base-url)"
+)
+
+
+def placeholder_address(address: str) -> bool:
+    """Whether a site address's host is a name reserved for examples (RFC 2606): a placeholder, not an address."""
+    host = address.split("://", 1)[1].split("/", 1)[0].rsplit(":", 1)[0].lower().rstrip(".")
+    if host.rsplit(".", 1)[-1] in _RESERVED_TOP:
+        return True
+    return any(host == name or host.endswith("." + name) for name in _RESERVED_DOMAINS)
+
+
 def _record_base_url(doc: EntryReader, node: Node) -> str | None:
     text = doc.text(node, ("base_url",), one_line=True)
     if text is None:
@@ -97,6 +118,15 @@ def _record_base_url(doc: EntryReader, node: Node) -> str | None:
     address = site_address(text)
     if address is None:
         doc.error(node, ("base_url",), f"expected {SITE_ADDRESS}, got '{short(text.strip())}'", "bad-base-url")
+    elif placeholder_address(address):
+        doc.warn(
+            node,
+            ("base_url",),
+            f"expected the address the site is published at, got the placeholder '{short(address)}' (a name "
+            f"reserved for examples, RFC 2606): {_UNPUBLISHED}",
+            "placeholder-address",
+        )
+        return None
     return address
 
 

@@ -25,7 +25,7 @@ from builder.arith.words import rotation_key
 from builder.catalogue.cache import VerifyCache, definition_digest
 from builder.catalogue.model import Catalogue, Cycle, MapEntry
 
-__all__ = ["Relations", "find_relations", "qx_plus_d", "relations_key"]
+__all__ = ["Relations", "find_relations", "natural_order", "qx_plus_d", "relations_key"]
 
 CycleKey = tuple[str, str]  # (map id, cycle id)
 
@@ -33,6 +33,17 @@ CycleKey = tuple[str, str]  # (map id, cycle id)
 def qx_plus_d(entry: MapEntry) -> tuple[int, int] | None:
     """(q, d) when the map is n/2 for even n and (q n + d)/2 for odd n with q, d odd."""
     return shortcut_form(entry.dynamics)
+
+
+def natural_order(entry: MapEntry) -> tuple[int, int, bool, int, bool, str, str]:
+    """The key of the natural order of maps, in which every list of maps is given: qx+d maps by |q| (q before
+    -q), then |d| (d before -d: 3x+1, 3x-1, 3x+5, 3x-5, 3x+7, ..., 3x-11), then every other map by name;
+    the id last."""
+    form = shortcut_form(entry.dynamics)
+    if form is None:
+        return (1, 0, False, 0, False, entry.name, entry.id)
+    q, d = form
+    return (0, abs(q), q < 0, abs(d), d < 0, entry.name, entry.id)
 
 
 def _members_gcd(cycle: Cycle) -> int:
@@ -58,8 +69,9 @@ class Relations:
     """Every relation found, keyed by (map id, cycle id)."""
 
     # Every cycle with the same word (in other maps, since one map has one cycle per word), the cycle
-    # itself included: one tuple shared by the whole group, so a word shared by thousands of maps (the
-    # fixed point 0 of every qx+d map) costs its size once, not its square.  Read it with ``same_word``.
+    # itself included, in the natural order of maps: one tuple shared by the whole group, so a word shared
+    # by thousands of maps (the fixed point 0 of every qx+d map) costs its size once, not its square.  Read
+    # it with ``same_word``.
     word_group: dict[CycleKey, tuple[CycleKey, ...]] = field(default_factory=dict)
     mirror: dict[CycleKey, CycleKey] = field(default_factory=dict)
     mirror_map: dict[str, str] = field(default_factory=dict)  # map id -> its catalogued mirror map
@@ -72,8 +84,8 @@ class Relations:
     keys: dict[CycleKey, CycleKey] = field(default_factory=dict)
 
     def same_word(self, key: CycleKey, first: int, leaving: Collection[CycleKey] = ()) -> list[CycleKey]:
-        """The first ``first`` cycles of other maps with the word of ``key``, in catalogue order, but those
-        of ``leaving``."""
+        """The first ``first`` cycles of other maps with the word of ``key``, in the natural order of maps
+        (natural_order), but those of ``leaving``."""
         # One map has one cycle per word: of the group's first first + 1 + len(leaving), at most
         # 1 + len(leaving) are the cycle's own or left out.
         head = self.word_group.get(key, ())[: first + 1 + len(leaving)]
@@ -101,9 +113,9 @@ def relations_key(catalogue: Catalogue) -> bytes:
     """A digest of all that the relations are found from: each map's id and definition, and each cycle's
     map, id and least member (which, with the map's definition, fix the cycle's members and its word up
     to rotation), in catalogue order.  Catalogues with the same key have the same relations."""
-    h = hashlib.sha256(b"periplus relations 1\0")
-    for map_id, entry in catalogue.maps.items():
-        h.update(f"{map_id}\0{definition_digest(entry.dynamics)}\n".encode())
+    h = hashlib.sha256(b"periplus relations 2\0")
+    for map_id, entry in catalogue.maps.items():  # the name too: it places the map in the natural order
+        h.update(f"{map_id}\0{definition_digest(entry.dynamics)}\0{entry.name}\n".encode())
     for map_id, cycles in catalogue.cycles.items():
         h.update(f"{map_id}\0{len(cycles)}\n".encode())
         # Hexadecimal, which has no limit of digits (decimal text refuses integers of more than 4,300).
@@ -139,9 +151,10 @@ def _find_relations(catalogue: Catalogue) -> Relations:
     groups: dict[tuple[int, bytes | tuple[int, ...]], list[CycleKey]] = {}
     for entry, cycle in _all_cycles(catalogue):
         groups.setdefault((entry.modulus, rotation_key(cycle.word)), []).append(key_of[(entry.id, cycle.id)])
+    order = {map_id: natural_order(entry) for map_id, entry in catalogue.maps.items()}
     for keys in groups.values():
         if len(keys) > 1:
-            group = tuple(keys)
+            group = tuple(sorted(keys, key=lambda k: order[k[0]]))  # one map has one cycle per word
             assert len({k[0] for k in group}) == len(group), "one map has one cycle per word (the cycle equation)"
             for key in group:
                 rel.word_group[key] = group

@@ -20,8 +20,9 @@ from typing import Any, Protocol
 from builder.arith.fingerprint import FINGERPRINT_DIGITS, FINGERPRINT_HEADER
 from builder.arith.integers import to_decimal
 from builder.catalogue.model import Reference
+from builder.site.numbers import grouped
 from builder.site.records import AboutRecord, CycleRecord, HistoryRecord, MapRecord, newest
-from builder.site.search_index import DEFAULT_LIMITS, ListedMap, SearchLimits, map_order, search_index
+from builder.site.search_index import DEFAULT_LIMITS, ListedMap, SearchLimits, search_index
 from builder.site.views import SiteViews
 
 __all__ = [
@@ -319,9 +320,9 @@ def search_files(views: SiteViews, limits: SearchLimits = DEFAULT_LIMITS) -> Ite
     """Every file of the search index as (path relative to the site root, text), made one at a time.
 
     The layout is builder.site.search_index's; results come in the natural order of maps
-    (builder.site.search_index.map_order), then by least |member|.
+    (builder.catalogue.relations.natural_order, as the site lists them), then by least |member|.
     """
-    maps = sorted(views.maps.values(), key=lambda m: map_order(m.id, m.name, m.modulus, m.branches))
+    maps = [views.maps[map_id] for map_id in views.site.map_order]
     return search_index([ListedMap(m, limits.members) for m in maps], limits)
 
 
@@ -343,7 +344,9 @@ def atom_feed(views: SiteViews) -> str:
     rights = f"Data licence {record.licence} ({record.licence_url}); {views.edition.label}"
     lines = [
         '<?xml version="1.0" encoding="utf-8"?>',
-        f'<feed xmlns="http://www.w3.org/2005/Atom" xml:base={_xml_attribute(views.base_url)}>',
+        # Without a published address, relative links resolve against the feed's own (RFC 4287, section 2).
+        '<feed xmlns="http://www.w3.org/2005/Atom"'
+        + (f" xml:base={_xml_attribute(views.base_url)}>" if views.base_url is not None else ">"),
         f"  <title>{_xml_text(record.title)}</title>",
         f"  <id>{_entry_id('feed')}</id>",
         f"  <updated>{updated}</updated>",
@@ -356,12 +359,12 @@ def atom_feed(views: SiteViews) -> str:
     for c in entries:
         name, found_by = views.maps[c.map_id].name, c.provenance.found_by
         summary = (
-            f"A cycle of length {c.length} of {name}, least |member| {c.canonical}; found by {found_by}; "
-            f"fingerprint {c.fingerprint}."
+            f"A cycle of length {grouped(c.length)} of {name}, member of least |n| {grouped(c.canonical)}; "
+            f"found by {found_by}; fingerprint {c.fingerprint}."
         )
         lines += [
             "  <entry>",
-            f"    <title>{_xml_text(f'{name}: cycle through {c.canonical}')}</title>",
+            f"    <title>{_xml_text(f'{name}: cycle through {grouped(c.canonical)}')}</title>",
             f"    <id>{_entry_id('cycle', c.fingerprint)}</id>",
             f"    <updated>{c.provenance.found_on.isoformat()}T00:00:00Z</updated>",
             f'    <link rel="alternate" type="text/html" href={_xml_attribute(c.url)}/>',

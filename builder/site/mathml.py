@@ -1,6 +1,6 @@
 """MathML Core markup for map definitions and cycle equations.
 
-Only numbers and fixed symbols go into the markup; numbers are written by
+Numbers are grouped in threes by commas, as everywhere on the pages (builder.site.numbers).  Only numbers and fixed symbols go into the markup; numbers are written by
 ``builder.arith.integers`` (any size) and every text node is escaped, so nothing
 from an entry's free text can reach it.  The functions that make a whole
 formula return it as ``markupsafe.Markup``, safe to place in a page as it is.
@@ -14,6 +14,7 @@ from html import escape
 from markupsafe import Markup
 
 from builder.arith.integers import to_decimal
+from builder.site.numbers import grouped
 
 __all__ = ["cycle_equation_mathml", "map_definition_mathml", "number"]
 
@@ -33,7 +34,7 @@ def _number(n: int) -> str:
     if len(text) > FULL_DIGITS:
         body = f"<mtext>{text[:24]}…{text[-12:]} ({len(text):,} digits)</mtext>"
     else:
-        body = f"<mn>{text}</mn>"
+        body = f"<mn>{grouped(text)}</mn>"  # as the page writes every number for readers
     return f"<mrow><mo>−</mo>{body}</mrow>" if n < 0 else body
 
 
@@ -63,9 +64,13 @@ def map_definition_mathml(modulus: int, branches: Sequence[tuple[int, int]], nam
             "</mtd></mtr>"
         )
     label = escape(f"Definition of {name}", quote=True)
+    # T(n) in a row of its own, so that its parentheses fit n and not the cases; the brace stretches over
+    # the cases (an operator that is a fence stretches to its row, MathML Core 3.2.4), whose fractions are
+    # drawn at the size of the text (displaystyle, MathML Core 2.1.3) instead of the smaller size of a table.
     return Markup(
-        f'<math display="block" aria-label="{label}"><mrow><mi>T</mi><mo>(</mo><mi>n</mi><mo>)</mo><mo>=</mo>'
-        f'<mrow><mo>{{</mo><mtable columnalign="left">{"".join(rows)}</mtable></mrow></mrow></math>'
+        f'<math display="block" aria-label="{label}"><mrow><mrow><mi>T</mi><mo>(</mo><mi>n</mi><mo>)</mo></mrow>'
+        f'<mo>=</mo><mrow><mo stretchy="true">{{</mo><mtable class="cases" displaystyle="true">{"".join(rows)}'
+        "</mtable></mrow></mrow></math>"
     )
 
 

@@ -63,12 +63,13 @@ def _check_base_url(base_url: str) -> None:
     assert _BASE_URL.fullmatch(base_url), f"expected an http(s) URL ending in '/', got {base_url!r}"
 
 
-def _absolute(base_url: str, path: str) -> str:
-    """``path`` (site-relative, inside the site) as an absolute URL under ``base_url``."""
+def _absolute(base_url: str | None, path: str) -> str:
+    """``path`` (site-relative, inside the site) as an absolute URL under ``base_url``; without a published
+    address, as it is (relative to the site's root, where the home page is)."""
     segments = path.split("/")
     assert path and not path.startswith("/") and ":" not in segments[0], f"expected a site-relative path, got {path!r}"
     assert not {"", ".", ".."} & set(segments), f"expected a plain path inside the site, got {path!r}"
-    return base_url + quote(path, safe="/")
+    return (base_url or "") + quote(path, safe="/")
 
 
 def _iso(day: date) -> str:
@@ -101,12 +102,14 @@ def dataset_jsonld(
 ) -> dict[str, Any]:
     """The record as a schema.org ``Dataset`` (JSON-LD data, ready for ``jsonld_script``).
 
-    Uses only schema.org terms: name, description, url (the site's base URL), license (the SPDX page of
-    the licence), version (``release``), creator and publisher (an ``Organization`` named by the
+    Uses only schema.org terms: name, description, url (the site's base URL, when it has one), license (the
+    SPDX page of the licence), version (``release``), creator and publisher (an ``Organization`` named by the
     maintainers), isAccessibleForFree, keywords, size (``size_text``), datePublished / dateModified as ISO
-    dates when given, and distribution: one ``DataDownload`` per download, with an absolute contentUrl.
+    dates when given, and distribution: one ``DataDownload`` per download, with an absolute contentUrl
+    (relative to the home page while the record has no published address).
     """
-    _check_base_url(record.base_url)
+    if record.base_url is not None:
+        _check_base_url(record.base_url)
     _check_keywords(keywords)
     assert release, "expected a release name, got an empty string"
     keeper = {"@type": "Organization", "name": record.maintainers}
@@ -115,7 +118,6 @@ def dataset_jsonld(
         "@type": "Dataset",
         "name": record.title,
         "description": record.description,
-        "url": record.base_url,
         "license": record.licence_url,
         "version": release,
         "creator": keeper,
@@ -133,6 +135,8 @@ def dataset_jsonld(
             for d in downloads
         ],
     }
+    if record.base_url is not None:
+        data["url"] = record.base_url
     if released_on is not None:
         data["datePublished"] = _iso(released_on)
     if modified_on is not None:
@@ -169,12 +173,14 @@ def citation_cff(
 
     Fields: cff-version, type, message, title, version, date-released (when known), commit (when known),
     authors (the maintainers as one entity), abstract (the description), license (the SPDX identifier;
-    one newer than the format's 2021 licence list goes in license-url as its SPDX page), url and
+    one newer than the format's 2021 licence list goes in license-url as its SPDX page), url (when the
+    record has a published address) and
     keywords.  Every value is a double-quoted string (``yaml_string``), so YAML reads each back as
     exactly that string: a version ``1.0`` stays text and a date stays the string the schema expects.
     Ends with a newline.
     """
-    _check_base_url(record.base_url)
+    if record.base_url is not None:
+        _check_base_url(record.base_url)
     _check_keywords(keywords)
     assert release, "expected a release name, got an empty string"
     assert commit is None or commit, "expected a commit id or None, got an empty string"
@@ -198,8 +204,9 @@ def citation_cff(
         # CFF 1.2.0 froze its licence list in 2021; a newer SPDX identifier goes in as the URL of its
         # page on the SPDX License List, the schema's "license-url", so the file still validates.
         f"license: {q(record.licence)}" if record.licence in CFF_LICENCES else f"license-url: {q(record.licence_url)}",
-        f"url: {q(record.base_url)}",
     ]
+    if record.base_url is not None:  # none while the record has no published address
+        lines.append(f"url: {q(record.base_url)}")
     if keywords:
         lines.append("keywords:")
         lines += [f"  - {q(k)}" for k in keywords]

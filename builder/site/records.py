@@ -43,7 +43,7 @@ class AboutRecord:
     maintainers: str
     licence: str
     licence_url: str
-    base_url: str  # absolute, ending in "/"
+    base_url: str | None  # absolute, ending in "/"; None while the record has no published address
     version: str
     edition: str  # the edition's label
     release_status: str
@@ -51,7 +51,7 @@ class AboutRecord:
     edition_shown: str  # the label without the commit, as pages and the per-map files give it
 
     @classmethod
-    def of(cls, record: Record, edition: Edition, base_url: str) -> AboutRecord:
+    def of(cls, record: Record, edition: Edition, base_url: str | None) -> AboutRecord:
         return cls(
             record.title,
             record.description,

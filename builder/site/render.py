@@ -195,7 +195,6 @@ def _common_inputs(views: SiteViews) -> str:
             views.record,
             views.edition.shown,
             views.base_url,
-            views.site.fixed_root,
             getattr(history, "reason", None),
             getattr(history, "shallow", None),
         )
@@ -474,8 +473,9 @@ def _write_rest(
     written = [info for d in done for info in d.pages]
     written += _render(views, writer, env, index_pages(views.site, written))
     pages = [info.path for info in written]
-    for path, text in sitemap_files([info.path for info in written if info.listed], views.base_url):
-        writer.text(path, text)
+    if views.base_url is not None:  # the sitemaps protocol has absolute addresses only
+        for path, text in sitemap_files([info.path for info in written if info.listed], views.base_url):
+            writer.text(path, text)
     writer.text("feed.xml", atom_feed(views))
     about = replace(views.record, base_url=views.base_url)
     writer.text(

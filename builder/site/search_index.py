@@ -6,8 +6,9 @@ opened from disk cannot fetch JSON).  Every file is one statement that hands its
 
     (window.PeriplusSearchData=window.PeriplusSearchData||[]).push(["m12",{...}]);
 
-Cycles are numbered by rank, their order in results: maps in natural order (qx+d maps by q,
-then |d| with d before -d, then every other map by name), and within a map by least |member|.
+Cycles are numbered by rank, their order in results: maps in natural order (qx+d maps by |q|,
+then |d| with d before -d, then every other map by name: builder.catalogue.relations.natural_order), and
+within a map by least |member|.
 A cycle's row is ``[rank, map id, map name, cycle id, canonical member, length, modulus,
 truncated]`` (truncated is 1 when the cycle has more members than the index lists).  The files:
 
@@ -44,8 +45,7 @@ from typing import TYPE_CHECKING, Any, Protocol
 if TYPE_CHECKING:
     import numpy as np
 
-from builder.arith.dynamics import AffineMap, shortcut_form
-from builder.arith.integers import decimals, parse_decimal
+from builder.arith.integers import decimals
 from builder.site.paths import cycle_url
 from builder.site.records import CycleRecord, MapRecord
 
@@ -60,7 +60,6 @@ __all__ = [
     "ListedMap",
     "SearchLimits",
     "map_key",
-    "map_order",
     "search_index",
     "shard_wrapper",
 ]
@@ -159,18 +158,6 @@ class ListedMap:
     @property
     def cycles(self) -> Iterator[ListedCycle]:
         return (ListedCycle.of(c, self.listed) for c in self.record.cycles)
-
-
-def map_order(
-    map_id: str, name: str, modulus: int, branches: Sequence[tuple[str, str]]
-) -> tuple[int, int, int, bool, str, str]:
-    """Natural order of maps: qx+d maps by q, then |d| (d before -d); every other map after them, by name."""
-    if modulus == 2 and tuple(branches[0]) == ("1", "0"):
-        form = shortcut_form(AffineMap(2, tuple((parse_decimal(a), parse_decimal(b)) for a, b in branches)))
-        if form is not None:
-            q, d = form
-            return (0, q, abs(d), d < 0, name, map_id)
-    return (1, 0, 0, False, name, map_id)
 
 
 def map_key(text: str) -> str:

@@ -26,6 +26,7 @@ from jinja2.nodes import Expr
 from markupsafe import Markup, escape
 
 from builder import __version__
+from builder.site.numbers import grouped
 from builder.site.pages import NAV
 
 __all__ = ["TemplateStore", "escape_output", "page_environment", "template_dir"]
@@ -124,6 +125,7 @@ def page_environment(kept: TemplateStore | None = None, code: str = "") -> jinja
         auto_reload=False,
     )
     env.globals.update(nav=NAV, version=__version__)
+    env.filters["grouped"] = grouped  # every integer a reader reads: builder.site.numbers
     if kept is not None and kept.persistent:
         env.bytecode_cache = _Kept(kept, code)
         for name in env.list_templates(filter_func=lambda name: name.endswith(".html")):

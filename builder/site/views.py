@@ -36,7 +36,7 @@ class SiteViews:
     references: Mapping[str, Reference]  # by key, as the references file gives them
     record: Record
     edition: Edition
-    base_url: str  # absolute, ending in "/": the --base-url given to the build, else the record's
+    base_url: str | None  # absolute, ending in "/": --base-url, else the record's; None: unpublished
     history: RepoHistory | NoHistory
 
 
@@ -67,7 +67,8 @@ def build_views(
 ) -> SiteViews:
     """Build every page's view and every export record from a verified catalogue.
 
-    ``base_url`` (else the record's) makes permalinks, citations and the feed absolute.  A ``cache`` keeps
+    ``base_url`` (else the record's) makes permalinks, citations and the feed absolute; with neither, the
+    record has no published address and they are relative.  A ``cache`` keeps
     the relations among the cycles between builds (builder.catalogue.relations.find_relations).  ``edition``,
     ``changelog`` and ``history`` come from git (builder.history); without them the site says the
     record has no history.  ``digests`` (the report's: a SHA-256 of each folder of cycle files) tell an incremental
@@ -108,7 +109,6 @@ def build_views(
         map_records,
         by_key,
         base_url=base,
-        fixed_root=base if base_url else None,
         edition=edition,
         changelog=changelog,
         history=history,

@@ -984,7 +984,7 @@
       var li = doc.createElement('li');
       var a = doc.createElement('a');
       a.setAttribute('href', rootPath + cycleUrl(pattern, c));
-      a.textContent = String(c.map_name || c.map || '') + ': cycle through ' + String(c.canonical);
+      a.textContent = String(c.map_name || c.map || '') + ': cycle through ' + groupThousands(c.canonical);
       li.appendChild(a);
       var facts = ' \u2014 length ' + groupThousands(c.length);
       if (c.members_truncated) {

@@ -1,20 +1,34 @@
 /*
- * Periplus: sortable tables (progressive enhancement).
+ * Periplus: sortable tables and their scrolling wrappers (progressive enhancement).
  *
  * Every <table class="sortable"> gets a <button class="sort"> in each
- * <th scope="col"> of its <thead>. Clicking sorts the rows of each <tbody>
- * by that column: ascending first, then descending, toggling. The active
- * header carries aria-sort; the others have it removed.
+ * <th scope="col"> of its <thead>. Clicking a column's button sorts the rows
+ * of each <tbody> by that column: ascending first, then descending, and a
+ * third click restores the rows' original order (the order the page was
+ * written in), then ascending again. The sorted column's header carries
+ * aria-sort; no header has it while the rows are in their original order.
+ * A note after each such table says so.
  *
  * Keys: a body cell's data-value if present, else its text. Header cells say
  * how to compare with data-type="int" (exact, with BigInt: numbers may have
- * thousands of digits and a minus sign) or data-type="text" (the default;
- * localeCompare with numeric collation). Cells whose int key is not a whole
- * number (e.g. a dash for "none") sort after all numbers in both directions.
+ * thousands of digits and a minus sign), data-type="abs" (integers by
+ * absolute value; of n and -n the positive first when ascending, as the
+ * record names a cycle by its positive member when both are members; the
+ * descending order is the exact reverse) or data-type="text" (the default;
+ * localeCompare with numeric collation). Cells whose int or abs key is not a
+ * whole number (e.g. a dash for "does not apply") sort after all numbers in
+ * both directions.
  *
  * The sort is stable: rows that tie keep their previous relative order
  * (each sort breaks ties by the row's position before that sort, and each
  * row's original position is kept in data-sort-index).
+ *
+ * Wrappers: a <div class="table-wrap"> lets a wide table scroll sideways (and
+ * a <div class="equation"> a long equation). The
+ * page writes each as a labelled region (role="region", aria-label, and
+ * tabindex="0" so that a keyboard can scroll it); once the page has loaded,
+ * and whenever the window is resized, a wrapper whose table fits is made a
+ * plain box again (no tab stop, no region), and one that scrolls a region.
  *
  * Without JavaScript the tables are left as written. Plain ES2020, no
  * dependencies; the only global is the namespace window.Periplus.sort.
@@ -59,6 +73,18 @@
     return a < b ? -1 : a > b ? 1 : 0;
   }
 
+  /**
+   * Three-way comparison of two BigInts by absolute value; of n and -n the
+   * positive first (nulls last, as compareBig).
+   */
+  function compareAbs(a, b) {
+    if (a === null || b === null) {
+      return compareBig(a, b);
+    }
+    var c = compareBig(a < 0n ? -a : a, b < 0n ? -b : b);
+    return c !== 0 ? c : compareBig(b, a);
+  }
+
   /** Three-way comparison of two decimal strings, exactly. */
   function compareDecimalStrings(a, b) {
     return compareBig(parseDecimal(a), parseDecimal(b));
@@ -81,7 +107,7 @@
 
   /**
    * Sort an array of items {key, missing, pos} for one column.
-   * type: 'int' or 'text'; direction: 'ascending' or 'descending'.
+   * type: 'int', 'abs' or 'text'; direction: 'ascending' or 'descending'.
    * Ties (and the relative order among missing keys) follow pos, ascending,
    * in both directions, so the sort is stable and deterministic.
    * Returns a new array; the input is not modified.
@@ -91,7 +117,7 @@
     var copy = items.slice();
     copy.sort(function (x, y) {
       var c;
-      if (type === 'int') {
+      if (type === 'int' || type === 'abs') {
         if (x.key === null || y.key === null) {
           // Non-numbers go last whatever the direction, among themselves in text order.
           c = compareBig(x.key, y.key);
@@ -99,7 +125,7 @@
             c = compareText(x.text, y.text);
           }
         } else {
-          c = sign * compareBig(x.key, y.key);
+          c = sign * (type === 'abs' ? compareAbs(x.key, y.key) : compareBig(x.key, y.key));
         }
       } else {
         c = sign * compareText(x.key, y.key);
@@ -111,7 +137,7 @@
 
   /** Key of a cell's sort value text for a column type. */
   function makeKey(text, type) {
-    if (type === 'int') {
+    if (type === 'int' || type === 'abs') {
       return parseDecimal(text);
     }
     return String(text).replace(/\s+/g, ' ').trim();
@@ -164,7 +190,7 @@
     return cell.textContent || '';
   }
 
-  function sortBody(tbody, column, type, direction) {
+  function bodyRows(tbody) {
     var rows = [];
     var children = tbody.children;
     for (var i = 0; i < children.length; i++) {
@@ -172,41 +198,85 @@
         rows.push(children[i]);
       }
     }
-    if (rows.length < 2) {
-      return;
-    }
-    var items = rows.map(function (row, pos) {
+    return rows;
+  }
+
+  /** Number each row of the body with its original position (once). */
+  function markOriginalOrder(tbody) {
+    bodyRows(tbody).forEach(function (row, pos) {
       if (!row.hasAttribute('data-sort-index')) {
         row.setAttribute('data-sort-index', String(pos));
       }
-      var text = cellValue(cellAt(row, column));
-      return { row: row, pos: pos, text: text, key: makeKey(text, type) };
     });
-    var sorted = sortItems(items, type, direction);
+  }
+
+  function placeRows(tbody, items) {
     var fragment = tbody.ownerDocument.createDocumentFragment();
-    sorted.forEach(function (item) {
+    items.forEach(function (item) {
       fragment.appendChild(item.row);
     });
     tbody.appendChild(fragment);
   }
 
+  function sortBody(tbody, column, type, direction) {
+    markOriginalOrder(tbody);
+    var rows = bodyRows(tbody);
+    if (rows.length < 2) {
+      return;
+    }
+    var items = rows.map(function (row, pos) {
+      var text = cellValue(cellAt(row, column));
+      return { row: row, pos: pos, text: text, key: makeKey(text, type) };
+    });
+    placeRows(tbody, sortItems(items, type, direction));
+  }
+
+  /** Put the body's rows back in the order the page was written in. */
+  function restoreBody(tbody) {
+    markOriginalOrder(tbody);
+    var items = bodyRows(tbody).map(function (row) {
+      return { row: row, pos: parseInt(row.getAttribute('data-sort-index'), 10) };
+    });
+    items.sort(function (x, y) {
+      return x.pos - y.pos;
+    });
+    placeRows(tbody, items);
+  }
+
+  /**
+   * The state after a click on a header whose aria-sort is `current`:
+   * none -> ascending -> descending -> none (the original order).
+   */
+  function nextState(current) {
+    if (current === 'ascending') {
+      return 'descending';
+    }
+    if (current === 'descending') {
+      return 'none';
+    }
+    return 'ascending';
+  }
+
   function sortTable(table, th, type) {
-    var current = th.getAttribute('aria-sort');
-    var direction = current === 'ascending' ? 'descending' : 'ascending';
+    var state = nextState(th.getAttribute('aria-sort'));
     var column = columnOf(th);
     if (column < 0) {
       return;
     }
     var headers = table.querySelectorAll('thead th');
     for (var i = 0; i < headers.length; i++) {
-      if (headers[i] !== th) {
-        headers[i].removeAttribute('aria-sort');
-      }
+      headers[i].removeAttribute('aria-sort');
     }
-    th.setAttribute('aria-sort', direction);
+    if (state !== 'none') {
+      th.setAttribute('aria-sort', state);
+    }
     var bodies = table.tBodies;
     for (var b = 0; b < bodies.length; b++) {
-      sortBody(bodies[b], column, type, direction);
+      if (state === 'none') {
+        restoreBody(bodies[b]);
+      } else {
+        sortBody(bodies[b], column, type, state);
+      }
     }
   }
 
@@ -215,17 +285,41 @@
       return;
     }
     table.setAttribute('data-sort-ready', 'true');
+    for (var b = 0; b < table.tBodies.length; b++) {
+      markOriginalOrder(table.tBodies[b]);
+    }
     var headers = table.tHead.querySelectorAll('th[scope="col"]');
     for (var i = 0; i < headers.length; i++) {
       enhanceHeader(table, headers[i]);
     }
+    addNote(table);
+  }
+
+  /** A note after the table (after its wrapper) saying how the columns sort. */
+  function addNote(table) {
+    var rows = 0;
+    for (var b = 0; b < table.tBodies.length; b++) {
+      rows += bodyRows(table.tBodies[b]).length;
+    }
+    if (rows < 2) {
+      return;
+    }
+    var doc = table.ownerDocument;
+    var after = table.parentNode && table.parentNode.classList.contains('table-wrap') ? table.parentNode : table;
+    var note = doc.createElement('p');
+    note.className = 'note sort-note';
+    note.textContent =
+      'Sort by a column with the button in its heading: once for ascending order, again for ' +
+      'descending, a third time for the original order.';
+    after.parentNode.insertBefore(note, after.nextSibling);
   }
 
   function enhanceHeader(table, th) {
     if (th.querySelector('button.sort') || !(th.textContent || '').trim()) {
       return;
     }
-    var type = th.getAttribute('data-type') === 'int' ? 'int' : 'text';
+    var declared = th.getAttribute('data-type');
+    var type = declared === 'int' || declared === 'abs' ? declared : 'text';
     var doc = th.ownerDocument;
     var button = doc.createElement('button');
     button.type = 'button';
@@ -239,16 +333,65 @@
     });
   }
 
+  /**
+   * Make a table wrapper a focusable, labelled region while its table is
+   * wider than it (so that a keyboard can scroll it), and a plain box
+   * otherwise. The label the page gave it is kept in data-region-label.
+   */
+  function fitWrapper(wrap) {
+    if (!wrap.hasAttribute('data-region-label')) {
+      wrap.setAttribute('data-region-label', wrap.getAttribute('aria-label') || '');
+    }
+    var label = wrap.getAttribute('data-region-label');
+    if (wrap.scrollWidth > wrap.clientWidth) {
+      wrap.setAttribute('tabindex', '0');
+      wrap.setAttribute('role', 'region');
+      if (label) {
+        wrap.setAttribute('aria-label', label);
+      }
+    } else {
+      wrap.removeAttribute('tabindex');
+      wrap.removeAttribute('role');
+      wrap.removeAttribute('aria-label');
+    }
+  }
+
+  function fitWrappers(doc) {
+    var wraps = doc.querySelectorAll('.table-wrap, .equation');
+    for (var i = 0; i < wraps.length; i++) {
+      fitWrapper(wraps[i]);
+    }
+  }
+
   function init(doc) {
     var tables = doc.querySelectorAll('table.sortable');
     for (var i = 0; i < tables.length; i++) {
       enhanceTable(tables[i]);
     }
+    fitWrappers(doc);
+  }
+
+  /** Check the wrappers again after a resize (at most once a frame) and once fonts have loaded. */
+  function watchWrappers(win, doc) {
+    var pending = false;
+    win.addEventListener('resize', function () {
+      if (!pending) {
+        pending = true;
+        win.requestAnimationFrame(function () {
+          pending = false;
+          fitWrappers(doc);
+        });
+      }
+    });
+    win.addEventListener('load', function () {
+      fitWrappers(doc);
+    });
   }
 
   var api = {
     parseDecimal: parseDecimal,
     compareBig: compareBig,
+    compareAbs: compareAbs,
     compareDecimalStrings: compareDecimalStrings,
     compareText: compareText,
     sortItems: sortItems,
@@ -256,6 +399,8 @@
     columnOf: columnOf,
     cellAt: cellAt,
     sortTable: sortTable,
+    nextState: nextState,
+    fitWrappers: fitWrappers,
     init: init
   };
 
@@ -269,6 +414,7 @@
 
   var doc = root && root.document;
   if (doc && typeof doc.querySelectorAll === 'function' && typeof BigInt === 'function') {
+    watchWrappers(root, doc);
     if (doc.readyState === 'loading') {
       doc.addEventListener('DOMContentLoaded', function () {
         init(doc);

@@ -50,7 +50,7 @@ def test_sorting_the_3x_plus_1_table_by_length(browser: Any, shipped_site: Path)
     # (Lagarias 1985 via literature.md, memory).
     open_page(browser, shipped_site, "maps/3x-plus-1/index.html")
     headers = column_headers(browser, TABLE)
-    member, length = headers.index("Least |member|"), headers.index("Length")
+    member, length = headers.index("Member of least |n|"), headers.index("Length")
 
     def rows() -> list[tuple[int, int]]:
         return list(

@@ -3,7 +3,8 @@
 Outside checks: schema.org's Dataset type (https://schema.org/Dataset) read back by the general-purpose
 metadata extractor ``extruct``; the Citation File Format 1.2.0 schema (tests/external, published by the
 format); the SPDX License List's licence pages (https://spdx.org/licenses/<id>.html); RFC 4287 (Atom)
-for atom:rights; RFC 9309 for robots.txt; sitemaps.org for the Sitemap line.
+for atom:rights; RFC 9309 for robots.txt; sitemaps.org for the Sitemap line; RFC 2606 for the names reserved
+for examples, which a record's placeholder address uses.
 """
 
 from __future__ import annotations
@@ -22,11 +23,12 @@ import yaml
 from bs4 import BeautifulSoup
 from conftest import VALID
 
+from builder.catalogue.record import placeholder_address
 from builder.site.build import build_site
 
 ATOM = "{http://www.w3.org/2005/Atom}"
 CFF_SCHEMA = Path(__file__).parent.parent / "external" / "citation-file-format-1.2.0.schema.json"
-BASE = "https://test.example.org/record/"
+BASE = "http://localhost:8000/record/"
 
 
 @pytest.fixture(scope="module")
@@ -133,3 +135,103 @@ def test_robots_txt_allows_crawling_and_names_the_sitemap(site: Path) -> None:
     assert "User-agent: *" in lines  # RFC 9309 section 2.2: a group starts with user-agent lines
     assert f"Sitemap: {BASE}sitemap.xml" in lines  # sitemaps.org protocol: "Specifying the Sitemap location"
     assert (site / "sitemap.xml").is_file()
+
+
+# --- a record with no published address ---------------------------------------------------------
+
+PLACEHOLDER = "https://cycles.example.org/"  # RFC 2606 section 3: example.org is reserved for examples
+
+
+@pytest.fixture(scope="module", params=["placeholder", "missing"])
+def unpublished(request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, list[str]]:
+    """A site whose record.yaml gives no address, or the starter's placeholder; and the build's warnings."""
+    root = tmp_path_factory.mktemp("unpublished")
+    catalogue = shutil.copytree(VALID, root / "catalogue")
+    record = catalogue / "record.yaml"
+    lines = record.read_text(encoding="utf-8").splitlines(keepends=True)
+    at = next(i for i, line in enumerate(lines) if line.startswith("base_url:"))
+    lines[at] = f"base_url: {PLACEHOLDER}\n" if request.param == "placeholder" else ""
+    record.write_text("".join(lines), encoding="utf-8")
+    result = build_site(catalogue, root / "site")
+    assert result.report.ok and result.pages > 0
+    return root / "site", [str(p).removeprefix(f"{catalogue}/") for p in result.report.problems]
+
+
+def test_an_unpublished_record_is_built_with_a_warning(unpublished: tuple[Path, list[str]]) -> None:
+    _, warnings = unpublished
+    assert len(warnings) == 1 and ": warning: " in warnings[0], warnings
+    assert warnings[0].startswith(
+        (
+            f"record.yaml:8:11: warning: base_url: expected the address the site is published at, got the placeholder "
+            f"'{PLACEHOLDER}' (a name reserved for examples, RFC 2606)",
+            "record.yaml:2:1: warning: no base_url: ",  # where the record's fields start, after a comment
+        )
+    )
+    assert "relative permalinks" in warnings[0] and "no published address yet" in warnings[0]
+
+
+def test_an_unpublished_record_cites_no_address(unpublished: tuple[Path, list[str]]) -> None:
+    site, _ = unpublished
+    every = "\n".join(p.read_text(encoding="utf-8") for p in site.rglob("*") if p.is_file())
+    assert "example.org" not in every and "localhost" not in every  # no address is made up
+    whole = json.loads((site / "data/catalogue.json").read_text(encoding="utf-8"))
+    assert whole["record"]["base_url"] is None
+    for c in whole["cycles"]:
+        soup = BeautifulSoup((site / c["url"]).read_text(encoding="utf-8"), "html.parser")
+        cite, bibtex = (block.get_text() for block in soup.select("pre.cite"))
+        path = c["url"].removesuffix("index.html")
+        assert f"{path} (relative: the record has no published address yet)" in cite
+        # BibTeX (common practice, no source): a field is a line "name = {value}"; there is no url field.
+        assert not any(line.strip().startswith("url") for line in bibtex.splitlines())
+        permalink = soup.find(string=lambda s: s.startswith("Permalink")).parent
+        assert permalink.a.get_text() == path and "no published address yet" in permalink.get_text()
+    home = (site / "index.html").read_text(encoding="utf-8")
+    assert "No published address yet." in BeautifulSoup(home, "html.parser").select_one("pre.cite").get_text()
+    # schema.org/Dataset: url is optional; relative contentUrl values resolve against the home page (JSON-LD 1.1,
+    # "IRIs": relative IRI references resolve against the document's base).
+    page_url = "file:///site/index.html"
+    data = extruct.extract(home, base_url=page_url, syntaxes=["json-ld"])["json-ld"]
+    dataset = next(d for d in data if d.get("@type") == "Dataset")
+    assert "url" not in dataset
+    assert {x["contentUrl"] for x in dataset["distribution"]} == {"data/catalogue.json", "data/cycles.csv", "feed.xml"}
+
+
+def test_an_unpublished_record_has_no_sitemap_and_a_relative_feed(unpublished: tuple[Path, list[str]]) -> None:
+    site, _ = unpublished
+    # sitemaps.org protocol: every <loc> is a fully qualified URL, which an unpublished record cannot give.
+    assert not (site / "sitemap.xml").exists()
+    assert not any(line.startswith("Sitemap:") for line in (site / "robots.txt").read_text().splitlines())
+    # RFC 4287 section 2 and RFC 3986 section 5.1: without xml:base, links resolve against the feed's own address.
+    feed = ET.parse(site / "feed.xml").getroot()
+    assert "{http://www.w3.org/XML/1998/namespace}base" not in feed.attrib
+    for link in feed.iter(f"{ATOM}link"):
+        assert (site / link.get("href", "")).is_file()
+    # Citation File Format 1.2.0: url is optional; the file still validates against the format's schema.
+    data = yaml.safe_load((site / "CITATION.cff").read_text(encoding="utf-8"))
+    schema = json.loads(CFF_SCHEMA.read_text(encoding="utf-8"))
+    jsonschema.Draft7Validator(schema, format_checker=jsonschema.FormatChecker()).validate(data)
+    assert "url" not in data
+
+
+@pytest.mark.parametrize(
+    ("address", "placeholder"),
+    [
+        # RFC 2606 section 3: example.com, example.net and example.org are reserved second-level names.
+        ("https://example.org/", True),
+        ("https://cycles.example.org/", True),
+        ("http://EXAMPLE.COM:8080/a/", True),
+        ("https://sub.example.net/", True),
+        # RFC 2606 section 2: the top-level names .test, .example and .invalid are reserved.
+        ("https://record.test/", True),
+        ("https://cycles.example/", True),
+        ("https://x.invalid/", True),
+        # Names that merely contain the reserved ones are real names.
+        ("https://example.org.uk/", False),
+        ("https://notexample.org/", False),
+        ("https://example-cycles.org/", False),
+        ("http://localhost:8000/", False),
+        ("https://testing.org/", False),
+    ],
+)
+def test_placeholder_addresses_are_the_names_reserved_for_examples(address: str, placeholder: bool) -> None:
+    assert placeholder_address(address) is placeholder

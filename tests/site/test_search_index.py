@@ -30,7 +30,7 @@ from builder.catalogue.verify import verify_catalogue
 from builder.site.exports import search_files
 from builder.site.records import MapRecord
 from builder.site.render import render_site
-from builder.site.search_index import INDEX_FILE, SHARD_FOLDER, SearchLimits, map_order, shard_wrapper
+from builder.site.search_index import INDEX_FILE, SHARD_FOLDER, SearchLimits, shard_wrapper
 from builder.site.views import SiteViews, build_views
 
 sys.path.insert(0, str(REPO / "bench"))
@@ -146,7 +146,7 @@ INDEXES = ["shipped_index", "tight_index", "big_index"]
 def ordered_maps(request: pytest.FixtureRequest, name: str) -> list[MapRecord]:
     """The maps of an index, in the order the index ranks them."""
     views: SiteViews = request.getfixturevalue("big_views" if name == "big_index" else "shipped_views")
-    return sorted(views.maps.values(), key=lambda m: map_order(m.id, m.name, m.modulus, m.branches))
+    return [views.maps[map_id] for map_id in views.site.map_order]
 
 
 def listed(maps: Sequence[MapRecord], count: int) -> list[tuple[str, ...]]:

@@ -91,15 +91,12 @@ class Page:
     section: str  # which part of the navigation it belongs to
     context: dict[str, Any] = field(default_factory=dict)
     crumbs: tuple[Link, ...] = ()
-    fixed_root: str | None = None  # an absolute site address, for pages served from any path (404)
     listed: bool = True  # whether sitemap.xml lists it (not the 404 page)
     in_site_map: bool = True  # whether the site map page lists it (not cycles, nor pages 2.. of a table)
 
     @property
     def root(self) -> str:
         """The path from this page back to the site root ('' or '../..' style, with a slash)."""
-        if self.fixed_root is not None:
-            return self.fixed_root
         depth = self.path.count("/")
         return "../" * depth
 

@@ -19,8 +19,9 @@ from typing import TypeVar
 from builder.arith.integers import to_decimal
 from builder.catalogue.files import CYCLES_FOLDER
 from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Reference
-from builder.catalogue.relations import Relations, qx_plus_d
+from builder.catalogue.relations import Relations, natural_order, qx_plus_d
 from builder.history import Changelog, Edition, NoHistory, RepoHistory
+from builder.site.numbers import grouped
 from builder.site.pages.common import Link
 from builder.site.paths import family_url, map_url, reference_url
 from builder.site.records import CycleRecord, HistoryRecord, MapRecord
@@ -69,6 +70,7 @@ class CycleRow:
     maximum: str
     marks: tuple[str, ...]
     with_map: bool  # whether the table has a column for the map
+    map_place: int  # the map's place in the natural order of maps, which the map column sorts by
 
 
 @dataclass(frozen=True, slots=True)
@@ -81,6 +83,7 @@ class MapRow:
     modulus: int
     cycles: int
     coprime: int | None  # cycles whose members are coprime to d, for qx+d maps with |d| > 1
+    place: int  # the map's place in the natural order of maps, which the map column sorts by
 
 
 @dataclass(frozen=True, slots=True)
@@ -114,8 +117,8 @@ def counts_text(entry: MapEntry, cycle: Cycle) -> str:
     """How often each residue occurs in the cycle's word: "3 odd, 5 even", or "0: 2, 2: 1" for m > 2."""
     counts = cycle.residue_counts
     if entry.modulus == 2:
-        return f"{counts[1]} odd, {counts[0]} even"
-    return ", ".join(f"{r}: {c}" for r, c in enumerate(counts) if c)
+        return f"{counts[1]:,} odd, {counts[0]:,} even"
+    return ", ".join(f"{r}: {c:,}" for r, c in enumerate(counts) if c)
 
 
 @dataclass(frozen=True, slots=True)
@@ -147,15 +150,6 @@ def family_of(entry: MapEntry) -> Family:
     return Family(f"mod-{m}", f"maps mod {m}", f"maps acting by the residue of n mod {m}, other than qx+d", (2, m))
 
 
-def _display_order(entry: MapEntry) -> tuple[int, int, int, bool, str]:
-    """qx+d maps by q, then |d| (d before -d); every other map after them, by name."""
-    form = qx_plus_d(entry)
-    if form is None:
-        return (1, 0, 0, False, entry.name)
-    q, d = form
-    return (0, q, abs(d), d < 0, entry.name)
-
-
 @dataclass(frozen=True, slots=True)
 class Sources:
     """Digests of what the verified catalogue was made from, for :meth:`SiteContext.map_sources`."""
@@ -178,8 +172,7 @@ class SiteContext:
         maps: Mapping[str, MapRecord],
         records: dict[tuple[str, str], CycleRecord],
         *,
-        base_url: str,
-        fixed_root: str | None,
+        base_url: str | None,
         edition: Edition,
         changelog: Changelog,
         history: RepoHistory | NoHistory,
@@ -191,8 +184,7 @@ class SiteContext:
         self.rel = rel
         self.maps = maps
         self.references: Mapping[str, Reference] = catalogue.references
-        self.base_url = base_url
-        self.fixed_root = fixed_root  # the 404 page's root: the base URL given to this build, if any
+        self.base_url = base_url  # None: the record has no published address yet (relative permalinks)
         self.edition = edition
         self.changelog = changelog
         self.history = history
@@ -200,7 +192,8 @@ class SiteContext:
         # Keyed by the tuples the relations hold (builder.catalogue.relations.Relations.keys), not copies.
         self.records = records
         self.cycles: dict[tuple[str, str], Cycle] = {key: r.cycle for key, r in records.items()}
-        self.map_order = sorted(catalogue.maps, key=lambda map_id: _display_order(catalogue.maps[map_id]))
+        self.map_order = sorted(catalogue.maps, key=lambda map_id: natural_order(catalogue.maps[map_id]))
+        self.map_place = {map_id: place for place, map_id in enumerate(self.map_order)}
         self._made: dict[str, tuple[Hashable, object]] = {}
         self._links: dict[tuple[str, str], Link] = {}
         self._sources = sources
@@ -264,7 +257,7 @@ class SiteContext:
     def _link(self, key: tuple[str, str], note: str) -> Link:
         record = self.records[key]
         name = self.cat.maps[key[0]].name
-        return Link(f"{name}: cycle through {record.canonical}", record.url, note)
+        return Link(f"{name}: cycle through {grouped(record.canonical)}", record.url, note)
 
     def reference_links(self, keys: Iterable[str]) -> list[ReferenceLink]:
         out = []
@@ -318,9 +311,22 @@ class SiteContext:
                     r.maximum,
                     self.marks(key),
                     with_map,
+                    self.map_place[entry.id],
                 )
             )
         return rows
+
+    def permalink(self, path: str) -> str:
+        """The address to cite for the site-relative ``path``: absolute under the record's published address,
+        else ``path`` itself, relative to the site's root."""
+        return (self.base_url or "") + path
+
+    def cited_address(self, path: str) -> str:
+        """The site-relative ``path`` as a citation gives it: its permalink, said to be relative while the
+        record has no published address."""
+        if self.base_url is None:
+            return f"{path} (relative: the record has no published address yet)"
+        return self.base_url + path
 
     def coprime_count(self, map_id: str) -> int | None:
         """How many cycles of a qx+d map with |d| > 1 have members coprime to d (None for other maps)."""
@@ -343,7 +349,15 @@ class SiteContext:
             entry = self.cat.maps[map_id]
             count = len(self.cat.cycles.get(map_id, ()))
             rows.append(
-                MapRow(map_url(map_id), entry.name, entry.summary, entry.modulus, count, self.coprime_count(map_id))
+                MapRow(
+                    map_url(map_id),
+                    entry.name,
+                    entry.summary,
+                    entry.modulus,
+                    count,
+                    self.coprime_count(map_id),
+                    self.map_place[map_id],
+                )
             )
         return rows
 

@@ -12,14 +12,17 @@ import posixpath
 import re
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, fields
+from urllib.parse import quote
 
 from markupsafe import Markup
 
+from builder.arith.dynamics import standard_form
 from builder.arith.integers import show, to_decimal
 from builder.catalogue.model import Cycle, MapEntry, Provenance
 from builder.catalogue.relations import CycleKey
 from builder.site.markdown import render_notes
 from builder.site.mathml import cycle_equation_mathml
+from builder.site.numbers import grouped
 from builder.site.pages.common import Link, Page, PageKind
 from builder.site.pages.context import SiteContext, counts_text
 from builder.site.pages.maps_index import MAPS_CRUMBS, SECTION
@@ -34,6 +37,7 @@ MEMBERS_ON_PAGE = 1000
 HEAD_MEMBERS, TAIL_MEMBERS = 500, 100
 WORD_ON_PAGE = 4000
 SAME_WORD_SHOWN = 12
+SEARCHED_WORD = 400  # longest word a link searches for (its address stays short); longer ones link their length
 
 
 @dataclass(frozen=True, slots=True)
@@ -51,6 +55,25 @@ def _factors(entry: MapEntry, cycle: Cycle) -> list[tuple[int, int]]:
         if count:
             merged[a] = merged.get(a, 0) + count
     return list(merged.items())
+
+
+def _shortcut_target(entry: MapEntry, cycle: Cycle) -> dict[str, object] | None:
+    """For a map in standard form (n/2, q n + d), the target of the same cycle in the shortcut form.
+
+    Each odd step q n + d is followed by a halving, so the cycle's k steps, x of them odd, are k - x shortcut
+    steps, and 2^k - (2q)^x = 2^x (2^(k-x) - q^x): the shortcut target, the one the literature writes
+    (2^11 - 3^7 for the 3x+1 cycle through -17), times 2^x.
+    """
+    form = standard_form(entry.dynamics)
+    if form is None:
+        return None
+    q, x = form[0], cycle.residue_counts[1]
+    k = cycle.length - x
+    target = 2**k - q**x
+    assert cycle.equation.target == 2**x * target, "a standard form's target is 2^x times its shortcut's"
+    d = form[1]
+    odd = f"{grouped(q)}n {'+' if d > 0 else '−'} {grouped(abs(d))}"
+    return {"q": q, "x": x, "k": k, "target": target, "odd": odd}
 
 
 def _equation_text(entry: MapEntry, cycle: Cycle) -> str:
@@ -88,7 +111,7 @@ def _member_items(members: tuple[str, ...]) -> Markup:
     """The list items of members, built here rather than item by item in the template (a long cycle
     has thousands); each is checked to be decimal text once, so nothing in it needs escaping."""
     assert _DECIMAL_LINES.fullmatch("\n".join(members)), "members are decimal text"
-    return Markup("".join(f"<li>{n}</li>\n" for n in members))
+    return Markup("".join(f"<li>{grouped(n)}</li>\n" for n in members))
 
 
 @dataclass(frozen=True, slots=True)
@@ -129,8 +152,8 @@ def _kin(site: SiteContext, key: CycleKey) -> _Kin | None:
     )
 
 
-def _related(site: SiteContext, kin: _Kin | None, length: int) -> list[RelatedGroup]:
-    """The groups of related links that ``kin`` makes."""
+def _related(site: SiteContext, kin: _Kin | None, length: int, word: str) -> list[RelatedGroup]:
+    """The groups of related links that ``kin`` makes; the cycle's ``word`` as the catalogue writes it."""
     related: list[RelatedGroup] = []
     if kin is None:
         return related
@@ -145,7 +168,13 @@ def _related(site: SiteContext, kin: _Kin | None, length: int) -> list[RelatedGr
     if kin.same:
         links = [site.cycle_link(k) for k in kin.same]
         if kin.more > 0:
-            links.append(Link(f"{kin.more} more cycles of length {length}", length_url(length)))
+            # The search for the whole word at this length lists exactly the cycles whose word is one of its
+            # rotations (search.js: a fragment may run round the word), this one and the listed ones included.
+            if len(word) <= SEARCHED_WORD:
+                search = f"search/index.html?length={length}&word={quote(word, safe=',')}"
+                links.append(Link(f"{grouped(kin.more)} more: every cycle with this word, in the search", search))
+            else:
+                links.append(Link(f"Every cycle of length {grouped(length)}, of any word", length_url(length)))
         related.append(RelatedGroup("Same word in other maps", links))
     return related
 
@@ -160,14 +189,15 @@ def _kin_of(site: SiteContext, map_id: str, cycles: Sequence[Cycle]) -> dict[str
     return site.made_once("kin", (map_id, len(cycles), cycles[0].id if cycles else ""), make)
 
 
-def _citations(site: SiteContext, entry: MapEntry, cycle: Cycle, title: str, permalink: str) -> tuple[str, str]:
-    """The entry's citation as a line of text and as a BibTeX entry."""
+def _citations(site: SiteContext, entry: MapEntry, cycle: Cycle, title: str, path: str) -> tuple[str, str]:
+    """The entry's citation as a line of text and as a BibTeX entry (with a url only when the record has a
+    published address)."""
     prov = cycle.provenance
     record, edition = site.record, site.edition
     where = f"entry {entry.id}/{cycle.id}, fingerprint {cycle.fingerprint}"
     cite = (
         f"{title} (length {cycle.length}). {record.title}, {edition.shown}, {where}, "
-        f"{permalink}. Found by {prov.found_by}, {prov.found_on.isoformat()}. "
+        f"{site.cited_address(path)}. Found by {prov.found_by}, {prov.found_on.isoformat()}. "
         f"Data licence: {record.licence}."
     )
     bibtex = (
@@ -177,8 +207,8 @@ def _citations(site: SiteContext, entry: MapEntry, cycle: Cycle, title: str, per
         f"  author       = {{{{{_bibtex(record.maintainers)}}}}},\n"
         f"  note         = {{Cycle of length {cycle.length}; found by {_bibtex(prov.found_by)}, "
         f"{prov.found_on.isoformat()}; data licence {_bibtex(record.licence)}}},\n"
-        f"  url          = {{{_bibtex(permalink)}}},\n"
-        f"  year         = {{{prov.found_on.year}}}\n}}"
+        + (f"  url          = {{{_bibtex(site.permalink(path))}}},\n" if site.base_url is not None else "")
+        + f"  year         = {{{prov.found_on.year}}}\n}}"
     )
     return cite, bibtex
 
@@ -206,11 +236,11 @@ def _members(r: CycleRecord) -> dict[str, object]:
 def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle, kin: _Kin | None) -> Page:
     key = (entry.id, cycle.id)
     r = site.records[key]
-    title = f"{entry.name}: cycle through {r.canonical}"
+    title = f"{entry.name}: cycle through {grouped(r.canonical)}"
     svg_id = f"c-{entry.id}-{cycle.id}"
     # The pretty address (absolute with a base URL); links on the page use index.html.
-    permalink = site.base_url + posixpath.dirname(r.url) + "/"
-    cite, bibtex = _citations(site, entry, cycle, title, permalink)
+    path = posixpath.dirname(r.url) + "/"
+    cite, bibtex = _citations(site, entry, cycle, title, path)
     eq = cycle.equation
     context = {
         "map": entry,
@@ -218,21 +248,23 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle, kin: _Kin | Non
         "record": r,
         **_members(r),
         "export": f"data/maps/{entry.id}.json",
-        "word_svg": word_strip(cycle.canonical_word, entry.modulus, f"Word of {title}", svg_id + "-w"),
+        "word_svg": word_strip(cycle.canonical_word, entry.modulus, f"Word of {title}", svg_id + "-w", entry.branches),
         "plot_svg": orbit_plot(cycle.canonical_members, f"Orbit of {title}", svg_id + "-p"),
         "equation": cycle_equation_mathml(
             entry.modulus, cycle.length, _factors(entry, cycle), eq.offset, eq.target, cycle.canonical
         ),
         "equation_text": _equation_text(entry, cycle),
+        "shortcut": _shortcut_target(entry, cycle),
         "counts_text": counts_text(entry, cycle),
         "length_url": length_url(cycle.length),
         "notes": render_notes(cycle.provenance.notes),
         "references": site.reference_links(cycle.provenance.references),
-        "related": _related(site, kin, cycle.length),
+        "related": _related(site, kin, cycle.length, r.word),
         "marks": site.marks(key),
         "cite": cite,
         "bibtex": bibtex,
-        "permalink": permalink,
+        "permalink": site.permalink(path),
+        "published": site.base_url is not None,
         "history": site.history_view(r.history),
     }
     crumbs = (*MAPS_CRUMBS, Link(entry.name, map_url(entry.id)))

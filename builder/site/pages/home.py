@@ -55,7 +55,8 @@ def _dataset(site: SiteContext) -> dict[str, Any]:
 
 def _citation(site: SiteContext) -> str:
     r = site.record
-    return f"{r.maintainers}. {r.title}, {site.edition.shown}. {site.base_url}. Data licence: {r.licence}."
+    where = site.base_url or "No published address yet"
+    return f"{r.maintainers}. {r.title}, {site.edition.shown}. {where}. Data licence: {r.licence}."
 
 
 def home_pages(site: SiteContext) -> list[Page]:

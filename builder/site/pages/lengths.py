@@ -27,8 +27,13 @@ class LengthRow:
     maps: int
 
 
+def _least(n: int) -> tuple[int, bool]:
+    """The order of a table of cycles by their member of least |n|: by |n|, the positive member first."""
+    return abs(n), n < 0
+
+
 def length_pages(site: SiteContext) -> Iterator[Page]:
-    """The index of lengths, then one page per length (cycles by map, then by least |member|), each made
+    """The index of lengths, then one page per length (cycles by map, then by member of least |n|), each made
     as it is rendered: the rows of all 50,000 cycles are never held at once."""
     by_length: dict[int, list[tuple[str, str]]] = {}
     for key, r in site.records.items():
@@ -41,11 +46,11 @@ def length_pages(site: SiteContext) -> Iterator[Page]:
     yield Page("lengths/index.html", "lengths.html", "Cycles by length", SECTION, {"rows": rows}, HOME_CRUMBS)
     place = {map_id: i for i, map_id in enumerate(site.map_order)}
     for k in sorted(by_length):
-        # Maps in display order (q, then |d|), then cycles by least |member|, positive first.
-        keys = sorted(by_length[k], key=lambda kk: (place[kk[0]], abs(site.cycles[kk].canonical), kk[1]))
-        order = "by map, then least |member|"
+        # Maps in display order (q, then |d|), then cycles by their member of least |n|, positive first.
+        keys = sorted(by_length[k], key=lambda kk: (place[kk[0]], *_least(site.cycles[kk].canonical), kk[1]))
+        order = "by map, then member of least |n|"
         for part, pager in pagers(len(keys), order, partial(length_url, k)):
-            title = f"Cycles of length {k}" + (f", {pager.span}" if pager and pager.current else "")
+            title = f"Cycles of length {k:,}" + (f", {pager.span}" if pager and pager.current else "")
             context = {
                 "length": k,
                 "count": f"{len(keys):,}",

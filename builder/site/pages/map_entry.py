@@ -45,7 +45,7 @@ def _odds_svg(site: SiteContext, entry: MapEntry) -> Markup | None:
     return odds_chart(rows, title, f"odds-{entry.id}")
 
 
-BY_LEAST, BY_LENGTH = "by least |member|", "by length, then least |member|"
+BY_LEAST, BY_LENGTH = "by member of least |n|", "by length, then member of least |n|"
 
 
 def _table_pages(site: SiteContext, map_id: str) -> tuple[list[tuple[str, slice, Pager | None]], list[str]]:
@@ -60,7 +60,7 @@ def _table_pages(site: SiteContext, map_id: str) -> tuple[list[tuple[str, slice,
     least = pagers(len(cycles), BY_LEAST, lambda n: map_table_url(map_id, "least", n), to_length)
     pages: list[tuple[str, slice, Pager | None]] = [("least", rows, pager) for rows, pager in least]
     if len(least) > 1:
-        to_least = (Link("Order the whole map by least |member|", map_url(map_id)),)
+        to_least = (Link("Order the whole map by member of least |n|", map_url(map_id)),)
         length = pagers(len(cycles), BY_LENGTH, lambda n: map_table_url(map_id, "length", n), to_least)
         pages += [("length", rows, pager) for rows, pager in length]
     return pages, by_length
@@ -95,7 +95,7 @@ def map_pages(site: SiteContext, map_id: str, cycles: Sequence[Cycle]) -> list[P
         "history": site.history_view(record.history),
         "cite": (
             f"{entry.name}. {site.record.title}, {site.edition.shown}, map {map_id}, "
-            f"{site.base_url}maps/{map_id}/. Data licence: {site.record.licence}."
+            f"{site.cited_address(f'maps/{map_id}/')}. Data licence: {site.record.licence}."
         ),
     }
     pages = [Page(map_url(map_id), "map.html", entry.name, SECTION, context, MAPS_CRUMBS)]
