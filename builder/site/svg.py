@@ -29,6 +29,7 @@ from html import escape
 
 from markupsafe import Markup
 
+from builder.arith.integers import to_decimal
 from builder.site.numbers import grouped
 
 __all__ = ["odds_chart", "orbit_plot", "word_strip"]
@@ -163,7 +164,7 @@ def _member_text(n: int) -> tuple[str, str]:
     text = grouped(n)
     if len(text) <= 16 or len(text) == 17 and n < 0:  # up to 12 digits, 3 commas and a sign
         return text, text
-    digits = str(n).lstrip("-")
+    digits = to_decimal(abs(n))  # str() refuses integers of over 4,300 digits
     mantissa = f"{'-' if n < 0 else ''}{digits[0]}.{digits[1:4]}"
     exponent = len(digits) - 1
     return (

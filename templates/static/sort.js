@@ -363,7 +363,37 @@
     }
   }
 
+  /**
+   * Give each body cell of a table of class "stack-later" its column's heading as data-label, which the
+   * stylesheet draws before the cell when a phone stacks the rows, then make it "stack" (a long table's
+   * page is smaller without a label in every cell; without script it is not stacked but scrolls).
+   */
+  function labelCells(table) {
+    var heads = table.tHead ? table.tHead.querySelectorAll('th') : [];
+    var labels = [];
+    for (var h = 0; h < heads.length; h++) {
+      labels.push((heads[h].textContent || '').trim());
+    }
+    for (var b = 0; b < table.tBodies.length; b++) {
+      var rows = table.tBodies[b].rows;
+      for (var r = 0; r < rows.length; r++) {
+        var cells = rows[r].cells;
+        for (var c = 0; c < cells.length && c < labels.length; c++) {
+          if (!cells[c].hasAttribute('data-label')) {
+            cells[c].setAttribute('data-label', labels[c]);
+          }
+        }
+      }
+    }
+    table.classList.remove('stack-later');
+    table.classList.add('stack');
+  }
+
   function init(doc) {
+    var later = doc.querySelectorAll('table.stack-later');
+    for (var j = 0; j < later.length; j++) {
+      labelCells(later[j]);
+    }
     var tables = doc.querySelectorAll('table.sortable');
     for (var i = 0; i < tables.length; i++) {
       enhanceTable(tables[i]);

@@ -93,7 +93,7 @@ def save_screenshot(browser: Any, rel: str, width: int, scheme: str) -> None:
     height = browser.execute_script("return document.documentElement.scrollHeight;")
     browser.set_window_size(width, min(max(int(height), 400), SHOT_HEIGHT) + 100)
     SCREENSHOTS.mkdir(parents=True, exist_ok=True)
-    name = re.sub(r"[^a-z0-9]+", "-", rel.removesuffix("index.html").lower()).strip("-") or "home"
+    name = re.sub(r"[^a-z0-9]+", "-", re.sub(r"(index)?\.html", "", rel).lower()).strip("-") or "home"
     shot = SCREENSHOTS / f"{name}-{width}-{scheme}.png"
     assert browser.save_screenshot(str(shot))
     image = read_png(shot.read_bytes())  # PNG specification (W3C / ISO/IEC 15948), through png.py

@@ -266,9 +266,10 @@ def test_the_cycle_through_minus_17(shipped: Site) -> None:
     assert ("2", "11") in powers and ("3", "7") in powers
     fracs = math.find_all("mfrac", recursive=True)
     numerators = [signed_number(f.find_all(recursive=False)[0]) for f in fracs if f.find("mn")]
-    assert numerators and all(n == str(b) for n in numerators)  # B over 2^11 - 3^7, and B over the target
+    # B over 2^11 - 3^7, and B over the target, grouped by commas as every number (builder.site.numbers).
+    assert numerators and all(n == f"{b:,}" for n in numerators)
     last = fracs[-1].find_all(recursive=False)
-    assert [signed_number(last[0]), signed_number(last[1])] == [str(b), str(target)]
+    assert [signed_number(last[0]), signed_number(last[1])] == [f"{b:,}", f"{target:,}"]
     top = math.find("mrow").find_all(recursive=False)
     assert signed_number(top[-1]) == "-17"  # ... = n
 
