@@ -15,18 +15,16 @@ Templates use it as the filter ``grouped`` (builder.site.templating); page code 
 
 from __future__ import annotations
 
-import re
+from collections.abc import Iterable
 
 from builder.arith.integers import to_decimal
 
-__all__ = ["grouped"]
+__all__ = ["grouped", "grouped_decimals"]
 
 # Up to this many digits, ``int`` reads the text well within Python's limit on conversions (4,300
 # digits) and ``format`` groups it in C; longer numbers are grouped by slicing the text.
 _BY_FORMAT = 1000
 _BITS_BY_FORMAT = 3000  # an int of fewer bits has fewer than _BY_FORMAT digits
-
-_decimal = re.compile(r"-?(?:0|[1-9][0-9]*)").fullmatch  # as builder.arith.integers writes them
 
 
 def grouped(value: int | str) -> str:
@@ -35,15 +33,30 @@ def grouped(value: int | str) -> str:
 
     A cycle page lists up to a thousand members, so the usual case is kept short: text of up to three
     characters is returned as it is, and other numbers are grouped by ``format`` in C."""
+    kind = value.__class__  # exact types first: a cycle page asks this for every member it lists
+    if kind is str:
+        text: str = value  # type: ignore[assignment]
+        # ASCII digits alone (str.isdigit takes other digits too), optionally after a minus, no leading zero.
+        digits = text[1:] if text[:1] == "-" else text
+        if not (digits.isascii() and digits.isdigit()) or (digits[0] == "0" and len(digits) > 1):
+            raise ValueError(f"not a decimal integer: {text[:40]!r}")
+        if len(digits) < 4:
+            return text
+        return format(int(text), ",") if len(text) <= _BY_FORMAT else _sliced(text)
+    if kind is int:
+        number: int = value  # type: ignore[assignment]
+        return format(number, ",") if number.bit_length() < _BITS_BY_FORMAT else _sliced(to_decimal(number))
     if isinstance(value, str):
-        if _decimal(value) is None:
-            raise ValueError(f"not a decimal integer: {value[:40]!r}")
-        if len(value) < 4:
-            return value
-        return format(int(value), ",") if len(value) <= _BY_FORMAT else _sliced(value)
+        return grouped(str(value))
     if isinstance(value, int) and not isinstance(value, bool):
-        return format(value, ",") if value.bit_length() < _BITS_BY_FORMAT else _sliced(to_decimal(value))
+        return grouped(int(value))
     raise TypeError(f"not an integer: {value!r}")
+
+
+def grouped_decimals(texts: Iterable[str]) -> list[str]:
+    """``grouped`` of each of ``texts``, decimal text that builder.arith.integers wrote (checked by the caller:
+    a cycle page lists up to a thousand members, and this skips the check of each)."""
+    return [t if len(t) < 4 else format(int(t), ",") if len(t) <= _BY_FORMAT else _sliced(t) for t in texts]
 
 
 def _sliced(text: str) -> str:

@@ -22,7 +22,7 @@ from builder.catalogue.model import Cycle, MapEntry, Provenance
 from builder.catalogue.relations import CycleKey
 from builder.site.markdown import render_notes
 from builder.site.mathml import cycle_equation_mathml
-from builder.site.numbers import grouped
+from builder.site.numbers import grouped, grouped_decimals
 from builder.site.pages.common import Link, Page, PageKind
 from builder.site.pages.context import SiteContext, counts_text
 from builder.site.pages.maps_index import MAPS_CRUMBS, SECTION
@@ -111,7 +111,7 @@ def _member_items(members: tuple[str, ...]) -> Markup:
     """The list items of members, built here rather than item by item in the template (a long cycle
     has thousands); each is checked to be decimal text once, so nothing in it needs escaping."""
     assert _DECIMAL_LINES.fullmatch("\n".join(members)), "members are decimal text"
-    return Markup("".join(f"<li>{grouped(n)}</li>\n" for n in members))
+    return Markup("".join([f"<li>{n}</li>\n" for n in grouped_decimals(members)]))
 
 
 @dataclass(frozen=True, slots=True)
