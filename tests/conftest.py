@@ -10,6 +10,7 @@ Fixture layout (tests/fixtures):
 
 from __future__ import annotations
 
+import os
 import shutil
 import sys
 from collections.abc import Callable, Iterator, Mapping
@@ -78,6 +79,20 @@ def overlay_files(case: str) -> list[str]:
 def expected_output(case: str) -> str:
     text = (BROKEN / case / "expected.txt").read_text(encoding="utf-8")
     return "".join(line for line in text.splitlines(keepends=True) if not line.startswith("#"))
+
+
+NODE = shutil.which("node")  # runs the site's scripts (search.js, sort.js) in the tests that need it
+
+
+@pytest.fixture
+def needs_node() -> None:
+    """The tests that run one of the site's scripts under node: outside CI they skip when node is missing;
+    in CI, whose .ci/run installs Debian's nodejs, a missing node is a failure, so they cannot pass unrun."""
+    if NODE is None:
+        reason = "node is not installed: the site's scripts cannot be run here"
+        if os.environ.get("CI") == "true":
+            pytest.fail(f"CI=true but {reason}", pytrace=False)
+        pytest.skip(reason)
 
 
 @pytest.fixture(autouse=True, scope="session")

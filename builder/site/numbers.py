@@ -31,22 +31,17 @@ def grouped(value: int | str) -> str:
     """``value`` (an int, or decimal text: digits with an optional leading minus) with its digits
     grouped in threes by commas.  Raises ValueError for text that is not a decimal integer.
 
-    A cycle page lists up to a thousand members, so the usual case is kept short: text of up to three
-    characters is returned as it is, and other numbers are grouped by ``format`` in C."""
-    kind = value.__class__  # exact types first: a cycle page asks this for every member it lists
-    if kind is str:
-        text: str = value  # type: ignore[assignment]
+    A cycle page lists up to a thousand members, so the usual case is kept short: exact types are tested
+    first, text of up to three digits is returned as it is, and other numbers are grouped by ``format`` in C."""
+    if type(value) is str:
         # ASCII digits alone (str.isdigit takes other digits too), optionally after a minus, no leading zero.
-        digits = text[1:] if text[:1] == "-" else text
+        digits = value[1:] if value[:1] == "-" else value
         if not (digits.isascii() and digits.isdigit()) or (digits[0] == "0" and len(digits) > 1):
-            raise ValueError(f"not a decimal integer: {text[:40]!r}")
-        if len(digits) < 4:
-            return text
-        return format(int(text), ",") if len(text) <= _BY_FORMAT else _sliced(text)
-    if kind is int:
-        number: int = value  # type: ignore[assignment]
-        return format(number, ",") if number.bit_length() < _BITS_BY_FORMAT else _sliced(to_decimal(number))
-    if isinstance(value, str):
+            raise ValueError(f"not a decimal integer: {value[:40]!r}")
+        return _grouped_text(value)
+    if type(value) is int:
+        return format(value, ",") if value.bit_length() < _BITS_BY_FORMAT else _sliced(to_decimal(value))
+    if isinstance(value, str):  # a subclass of str or int: as its plain value
         return grouped(str(value))
     if isinstance(value, int) and not isinstance(value, bool):
         return grouped(int(value))
@@ -56,7 +51,14 @@ def grouped(value: int | str) -> str:
 def grouped_decimals(texts: Iterable[str]) -> list[str]:
     """``grouped`` of each of ``texts``, decimal text that builder.arith.integers wrote (checked by the caller:
     a cycle page lists up to a thousand members, and this skips the check of each)."""
-    return [t if len(t) < 4 else format(int(t), ",") if len(t) <= _BY_FORMAT else _sliced(t) for t in texts]
+    return [_grouped_text(t) for t in texts]
+
+
+def _grouped_text(text: str) -> str:
+    """Decimal text, grouped: as it is up to three digits, by ``format`` up to _BY_FORMAT characters, else sliced."""
+    if len(text) < 4 or len(text) == 4 and text[0] == "-":
+        return text
+    return format(int(text), ",") if len(text) <= _BY_FORMAT else _sliced(text)
 
 
 def _sliced(text: str) -> str:

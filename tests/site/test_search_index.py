@@ -10,7 +10,6 @@ comes in several parts; and the big demo catalogue of bench/big_catalogue.py at 
 from __future__ import annotations
 
 import json
-import os
 import re
 import shutil
 import subprocess
@@ -23,7 +22,7 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import REPO, BigSite
+from conftest import NODE, REPO, BigSite
 
 from builder.catalogue.limits import NO_RECHECK, Limits
 from builder.catalogue.verify import verify_catalogue
@@ -42,20 +41,6 @@ DRIVER = Path(__file__).with_name("search_driver.js")
 TIGHT = SearchLimits(members=5, shard_bytes=4096, word_bytes=1024, spill_rows=3)
 #: The most a member query may download, every script included (issue 13).
 MEMBER_QUERY_BUDGET = 300 * 1024
-NODE = shutil.which("node")
-
-
-@pytest.fixture
-def needs_node() -> None:
-    """The tests that run the page's script: outside CI they skip when node is missing; in CI, whose
-    .ci/run installs Debian's nodejs, a missing node is a failure, so they cannot pass unrun."""
-    if NODE is None:
-        reason = "node is not installed: the search script cannot be run here"
-        if os.environ.get("CI") == "true":
-            pytest.fail(f"CI=true but {reason}", pytrace=False)
-        pytest.skip(reason)
-
-
 # --- reading an index ------------------------------------------------------------------------------
 
 

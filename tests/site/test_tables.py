@@ -10,14 +10,13 @@ from __future__ import annotations
 
 import json
 import re
-import shutil
 import subprocess
 from collections import Counter
 from pathlib import Path
 
 import pytest
 from bs4 import BeautifulSoup, Tag
-from conftest import REPO
+from conftest import NODE, REPO
 
 from builder.site.build import build_site
 from builder.site.numbers import grouped, grouped_decimals
@@ -28,7 +27,6 @@ BASE_URL = "https://example.org/record/"
 # The five cycles of 3x+1 on the integers, by their member of least |n|: J. C. Lagarias, "The 3x+1 problem
 # and its generalizations", Amer. Math. Monthly 92 (1985), via /work/shared/literature.md (status memory).
 THREE_X_PLUS_ONE = ["0", "1", "-1", "-5", "-17"]
-NODE = shutil.which("node")
 
 
 class Pages(dict[str, BeautifulSoup]):
@@ -217,7 +215,7 @@ def test_tables_are_first_written_in_order_of_least_absolute_value(site: Built) 
     assert values == sorted(values, key=lambda n: (abs(n), n < 0))
 
 
-@pytest.mark.skipif(NODE is None, reason="node is not installed")
+@pytest.mark.usefixtures("needs_node")
 def test_sort_js_orders_by_absolute_value_and_cycles_back_to_the_original_order() -> None:
     # Ordering by absolute value, the positive first on a tie, is arithmetic (common practice, no source);
     # Python's sorted() with that key is the reference for the script's comparison.

@@ -344,10 +344,15 @@ class SiteContext:
         return sorted(found.values(), key=lambda pair: pair[0].order)
 
     def map_rows(self, map_ids: Iterable[str] | None = None) -> list[MapRow]:
+        """The rows of a table of maps.  Its column "Coprime to d" counts, for a map n/2, (qn + d)/2, the cycles
+        whose members are coprime to d: for d = 1 or -1 that is every cycle (coprime_count gives None there,
+        as the map's page says nothing of it); for a map of another form it is None."""
         rows = []
         for map_id in self.map_order if map_ids is None else map_ids:
             entry = self.cat.maps[map_id]
             count = len(self.cat.cycles.get(map_id, ()))
+            form = qx_plus_d(entry)
+            coprime = count if form is not None and abs(form[1]) == 1 else self.coprime_count(map_id)
             rows.append(
                 MapRow(
                     map_url(map_id),
@@ -355,7 +360,7 @@ class SiteContext:
                     entry.summary,
                     entry.modulus,
                     count,
-                    self.coprime_count(map_id),
+                    coprime,
                     self.map_place[map_id],
                 )
             )

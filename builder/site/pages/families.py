@@ -10,7 +10,7 @@ from functools import partial
 
 from builder.site.pages.common import Page, PageKind, pagers
 from builder.site.pages.context import SiteContext
-from builder.site.pages.maps_index import MAPS_CRUMBS, SECTION, map_table_rows
+from builder.site.pages.maps_index import MAPS_CRUMBS, SECTION
 from builder.site.paths import family_url
 
 __all__ = ["KIND"]
@@ -25,7 +25,7 @@ def family_pages(site: SiteContext) -> list[Page]:
             context = {
                 "family": family,
                 "count": f"{len(map_ids):,}",
-                "maps": map_table_rows(site, map_ids[part]),
+                "maps": site.map_rows(map_ids[part]),
                 "pager": pager,
             }
             url = family_url(family.key, 1 + (pager.current if pager else 0))
@@ -37,7 +37,7 @@ def family_pages(site: SiteContext) -> list[Page]:
 
 def family_inputs(site: SiteContext) -> object:
     """What the family pages show: every map's row, family by family."""
-    return [(family, map_table_rows(site, map_ids)) for family, map_ids in site.families()]
+    return [(family, site.map_rows(map_ids)) for family, map_ids in site.families()]
 
 
 KIND = PageKind("families", site_pages=family_pages, site_inputs=family_inputs)
