@@ -21,6 +21,7 @@ __all__ = ["cycle_equation_mathml", "map_definition_mathml", "number"]
 #: Longest number written out in full in an equation; longer ones are abbreviated
 #: (the exports hold every digit).
 FULL_DIGITS = 2000
+_SHORT_BITS = 6000  # a number of fewer bits has fewer than FULL_DIGITS digits (2^6000 < 10^1807)
 
 
 def number(n: int) -> Markup:
@@ -30,11 +31,15 @@ def number(n: int) -> Markup:
 
 def _number(n: int) -> str:
     # The text of number(n), for the formulas made here (a Markup for each number would cost more than it).
-    text = to_decimal(abs(n))
-    if len(text) > FULL_DIGITS:
-        body = f"<mtext>{text[:24]}…{text[-12:]} ({len(text):,} digits)</mtext>"
+    size = -n if n < 0 else n
+    if size.bit_length() < _SHORT_BITS:  # fewer than FULL_DIGITS digits: the usual case, written at once
+        body = f"<mn>{grouped(size)}</mn>"  # as the page writes every number for readers
     else:
-        body = f"<mn>{grouped(text)}</mn>"  # as the page writes every number for readers
+        text = to_decimal(size)
+        if len(text) > FULL_DIGITS:
+            body = f"<mtext>{text[:24]}…{text[-12:]} ({len(text):,} digits)</mtext>"
+        else:
+            body = f"<mn>{grouped(text)}</mn>"
     return f"<mrow><mo>−</mo>{body}</mrow>" if n < 0 else body
 
 

@@ -99,9 +99,10 @@ def _x(step: int, steps: int) -> str:
 
 
 @functools.lru_cache(maxsize=64)
-def _x_positions(steps: int) -> tuple[str, ...]:
-    """The x coordinate of each step 0..steps of an orbit drawn point by point (many cycles share a length)."""
-    return tuple(_x(i, steps) for i in range(steps + 1))
+def _x_commas(steps: int) -> tuple[str, ...]:
+    """The x coordinate of each step 0..steps of an orbit drawn point by point, each followed by the comma
+    before its y (many cycles share a length)."""
+    return tuple(_x(i, steps) + "," for i in range(steps + 1))
 
 
 _PER_TEN = math.log2(10)
@@ -214,14 +215,19 @@ def _marked(sizes: Sequence[int]) -> list[int]:
 
 
 def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> Markup:
-    """The size of each member, step by step, back to the start: a polyline on a log scale, with marked points."""
+    """The size of each member, step by step, back to the start: a polyline on a log scale, with marked points.
+
+    A build draws one for each of 50,000 cycles, so the work per point is kept small: the x coordinates
+    come made for each length, a marked point reuses its point's y, and members of up to 12 digits are
+    written in place."""
     log2 = math.log2
-    sizes = [n if n >= 0 else -n for n in members]
+    sizes = list(map(abs, members))
     # The height of each member: log2 |n| (0 for n = 0 or +-1).
     values = [log2(s) if s > 1 else 0.0 for s in sizes]
     values.append(values[0])
     steps = len(values) - 1
-    if len(values) > MAX_POINTS:
+    reduced = len(values) > MAX_POINTS
+    if reduced:
         # Keep each bucket's extremes, so spikes survive the reduction.
         size = math.ceil(len(values) / (MAX_POINTS // 2))
         points = []
@@ -229,31 +235,37 @@ def orbit_plot(members: Sequence[int], title: str, svg_id: str) -> Markup:
             chunk = values[lo : lo + size]
             points.append((lo, min(chunk)))
             points.append((lo + len(chunk) - 1, max(chunk)))
-        xs = [_x(i, steps) for i, _ in points]
+        xs: Sequence[str] = [_x(i, steps) + "," for i, _ in points]
         heights = [v for _, v in points]
     else:
-        xs, heights = list(_x_positions(steps)), values
+        xs, heights = _x_commas(steps), values
     top = max(values)
-    negative = sum(1 for n in members if n < 0)
-    if negative == len(members):
+    if max(members) < 0:
         y_title, sign = "|n| (log scale): every member is negative", "negative "
-    elif negative:
+    elif min(members) < 0:
         y_title, sign = "|n| (log scale): some members are negative", ""
     else:
         y_title, sign = "n (log scale)", ""
     axis = _log_axis(top)
     span, frame = _orbit_frame(axis, steps, y_title)
     # y = TOP + plot height * (1 - v / span), written out, as the plot's points are many.
-    ys = [f"{TOP + _PLOT_H * (1 - v / span):.1f}" for v in heights]
-    path = " ".join([f"{x},{y}" for x, y in zip(xs, ys, strict=True)])
+    base, scale = TOP + _PLOT_H, _PLOT_H / span
+    ys = [f"{base - v * scale:.1f}" for v in heights]
+    path = " ".join(map(str.__add__, xs, ys))
     marks = []
     parts = _all_mark_parts(steps) if steps <= MARKED else None
     k = len(members)
+    high_point = span * (1 - 40 / _PLOT_H)  # a value above it is written below its point, not above
     for i in _marked(sizes):
-        shown, spoken = _member_text(members[i % k])
+        n = members[i % k]
+        if -(10**12) < n < 10**12:
+            shown = spoken = format(n, ",")
+        else:
+            shown, spoken = _member_text(n)
         head, at, above, below = parts[i] if parts else _mark_parts(i, steps)
-        y = TOP + _PLOT_H * (1 - values[i] / span)
-        marks.append(f"{head}{spoken}{at}{y:.1f}{above if y >= TOP + 40 else below}{shown}</tspan></text></g>")
+        v = values[i]
+        y = ys[i] if not reduced else f"{base - v * scale:.1f}"
+        marks.append(f"{head}{spoken}{at}{y}{above if v <= high_point else below}{shown}</tspan></text></g>")
     high = f"2 to the power {top:.1f}" if top > 0 else "1"
     tens, step, count = axis
     span_text = f"10 to the power {step * count}" if tens else f"{2 ** (step * count):,}"
@@ -281,6 +293,7 @@ def _branch_text(modulus: int, a: int, b: int) -> str:
     return f"({an} {'+' if b > 0 else '−'} {grouped(abs(b))})/{grouped(modulus)}"
 
 
+@functools.lru_cache(maxsize=STRIP_CELLS + 1)
 def _strip_layout(count: int) -> tuple[float, bool]:
     """The width of each of ``count`` cells of a word strip, and whether the residue digits are written."""
     if count * 16 <= LETTERS_AT_MOST:
@@ -339,16 +352,20 @@ def word_strip(
         f'aria-labelledby="{svg_id}-t {svg_id}-d"><title id="{svg_id}-t">{escape(title)}</title>'
         f'<desc id="{svg_id}-d">{escape(desc)}</desc>{drawn}</svg>'
     )
-    keys = []
-    for r in sorted(set(shown)):
-        parity = ("even n" if r == 0 else "odd n") if modulus == 2 else f"n ≡ {r} mod {modulus}"
-        step = f": n ↦ {_branch_text(modulus, *branches[r])}" if r < len(branches) else ""
-        size = ("short" if r == 0 else "tall") if modulus == 2 else f"{r + 1} of {modulus} parts high"
-        keys.append(
-            f'<li><span class="key key-cell c{r % len(PALETTE)}" aria-hidden="true"></span>'
-            f"{r} ({parity}){escape(step)}, {size}</li>"
-        )
-    return Markup(f'{svg}<ul class="chart-key">{"".join(keys)}</ul>')
+    keys = "".join([_key_item(modulus, r, branches[r] if r < len(branches) else None) for r in sorted(set(shown))])
+    return Markup(f'{svg}<ul class="chart-key">{keys}</ul>')
+
+
+@functools.lru_cache(maxsize=1024)  # the maps of a record share a few steps per residue
+def _key_item(modulus: int, r: int, branch: tuple[int, int] | None) -> str:
+    """The word strip's key for residue ``r``: its swatch, its class of n, the step it takes, its height."""
+    parity = ("even n" if r == 0 else "odd n") if modulus == 2 else f"n ≡ {r} mod {modulus}"
+    step = f": n ↦ {_branch_text(modulus, *branch)}" if branch is not None else ""
+    size = ("short" if r == 0 else "tall") if modulus == 2 else f"{r + 1} of {modulus} parts high"
+    return (
+        f'<li><span class="key key-cell c{r % len(PALETTE)}" aria-hidden="true"></span>'
+        f"{r} ({parity}){escape(step)}, {size}</li>"
+    )
 
 
 # --- the odds of a cycle per length -------------------------------------------------------------------
@@ -369,6 +386,7 @@ def _percent(chance: float) -> str:
     return f"{100 * chance:.2f}%"
 
 
+@functools.lru_cache(maxsize=2048)  # maps with the same lengths share most columns (those with no cycles above all)
 def _odds_column(x0: float, slot: float, k: int, chance: float, count: int, most: int) -> str:
     """One length's column of the odds chart, from x0 and ``slot`` wide: its bar (the chance), its diamond
     (``count`` of at most ``most`` on the count axis), and its numbers.  A column shows its numbers on

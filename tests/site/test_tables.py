@@ -19,7 +19,7 @@ from bs4 import BeautifulSoup, Tag
 from conftest import NODE, REPO
 
 from builder.site.build import build_site
-from builder.site.numbers import grouped, grouped_decimals
+from builder.site.numbers import grouped, grouped_ints
 
 SHIPPED = REPO / "catalogue"
 SORT_JS = REPO / "templates" / "static" / "sort.js"
@@ -97,7 +97,7 @@ def test_grouped_writes_what_python_s_own_format_writes(n: int) -> None:
     # (reference library: the Python Library Reference, "Format Specification Mini-Language").
     assert grouped(n) == format(n, ",")
     assert grouped(str(n)) == format(n, ",")
-    assert grouped_decimals([str(n), str(n)]) == [format(n, ",")] * 2  # the unchecked form for a page's members
+    assert grouped_ints([n, -n, n]) == [format(n, ","), format(-n, ","), format(n, ",")]  # a page's members at once
 
 
 def test_grouped_writes_numbers_too_long_for_int_conversion() -> None:
@@ -108,7 +108,7 @@ def test_grouped_writes_numbers_too_long_for_int_conversion() -> None:
     assert text.startswith("-1,000,000,") and text.endswith(",000")  # 9,001 digits: 1 before the first comma
     assert text.replace(",", "") == "-" + digits
     assert all(len(group) == 3 for group in text.split(",")[1:])
-    assert grouped_decimals(["-" + digits]) == [text]
+    assert grouped_ints([7, -(10**9000)]) == ["7", text]  # too long for format: each grouped apart
 
 
 @pytest.mark.parametrize("bad", ["", "-", "1,000", "+5", "1_000", " 12", "١٢", "1e3", "0x10", "007"])

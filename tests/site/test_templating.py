@@ -119,5 +119,7 @@ def test_a_store_not_in_use_compiles_templates_as_they_are_used(monkeypatch: pyt
     store = _Store()
     store.persistent = False  # type: ignore[misc]
     compiled = _compiled(monkeypatch)
-    page_environment(store, "code")
+    env = page_environment(store, "code")
+    assert compiled == [] and store.kept == {}
+    env.globals["site_nav"]("../", "maps")  # the navigation bar, rendered once for a depth and section
     assert compiled == ["_nav.html"] and store.kept == {}

@@ -21,6 +21,7 @@ from builder.catalogue.files import CYCLES_FOLDER
 from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Reference
 from builder.catalogue.relations import Relations, natural_order, qx_plus_d
 from builder.history import Changelog, Edition, NoHistory, RepoHistory
+from builder.site.escaping import escape_output
 from builder.site.numbers import grouped
 from builder.site.pages.common import Link
 from builder.site.paths import family_url, map_url, reference_url
@@ -62,12 +63,12 @@ class CycleRow:
     url: str
     map_name: str
     map_url: str
-    canonical: str
+    canonical: int  # the numbers as integers: the template groups their digits (builder.site.numbers)
     length: int
     counts: str
     counts_key: int  # what the counts column sorts by
-    minimum: str
-    maximum: str
+    minimum: int
+    maximum: int
     marks: tuple[str, ...]
     with_map: bool  # whether the table has a column for the map
     map_place: int  # the map's place in the natural order of maps, which the map column sorts by
@@ -196,6 +197,7 @@ class SiteContext:
         self.map_place = {map_id: place for place, map_id in enumerate(self.map_order)}
         self._made: dict[str, tuple[Hashable, object]] = {}
         self._links: dict[tuple[str, str], Link] = {}
+        self._items: dict[tuple[tuple[str, str], str], str] = {}
         self._sources = sources
         self._root = str(catalogue.root) + os.sep
 
@@ -254,10 +256,21 @@ class SiteContext:
             link = self._links[key] = self._link(key, "")
         return link
 
+    def cycle_item(self, key: tuple[str, str], root: str) -> str:
+        """The list item of a link to the cycle without a note, as HTML for a page ``root`` away from the site's
+        root: made once for each cycle and root, like the link."""
+        item = self._items.get((key, root))
+        if item is None:
+            link = self.cycle_link(key)
+            item = self._items[key, root] = (
+                f'<li><a href="{root}{escape_output(link.url)}">{escape_output(link.label)}</a></li>'
+            )
+        return item
+
     def _link(self, key: tuple[str, str], note: str) -> Link:
         record = self.records[key]
         name = self.cat.maps[key[0]].name
-        return Link(f"{name}: cycle through {grouped(record.canonical)}", record.url, note)
+        return Link(f"{name}: cycle through {grouped(record.cycle.canonical)}", record.url, note)
 
     def reference_links(self, keys: Iterable[str]) -> list[ReferenceLink]:
         out = []
@@ -298,17 +311,18 @@ class SiteContext:
         for key in keys:
             r = self.records[key]
             entry = self.cat.maps[key[0]]
+            cycle = r.cycle
             rows.append(
                 CycleRow(
                     r.url,
                     entry.name,
                     map_url(entry.id),
-                    r.canonical,
+                    cycle.canonical,
                     r.length,
-                    counts_text(entry, self.cycles[key]),
+                    counts_text(entry, cycle),
                     r.residue_counts[1] if entry.modulus == 2 else r.length,
-                    r.minimum,
-                    r.maximum,
+                    cycle.minimum,
+                    cycle.maximum,
                     self.marks(key),
                     with_map,
                     self.map_place[entry.id],

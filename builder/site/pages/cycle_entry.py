@@ -9,7 +9,6 @@ from __future__ import annotations
 import functools
 import operator
 import posixpath
-import re
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, fields
 from urllib.parse import quote
@@ -20,9 +19,10 @@ from builder.arith.dynamics import standard_form
 from builder.arith.integers import show, to_decimal
 from builder.catalogue.model import Cycle, MapEntry, Provenance
 from builder.catalogue.relations import CycleKey
+from builder.site.escaping import escape_output
 from builder.site.markdown import render_notes
 from builder.site.mathml import cycle_equation_mathml
-from builder.site.numbers import grouped, grouped_decimals
+from builder.site.numbers import grouped, grouped_ints
 from builder.site.pages.common import Link, Page, PageKind
 from builder.site.pages.context import SiteContext, counts_text
 from builder.site.pages.maps_index import MAPS_CRUMBS, SECTION
@@ -38,14 +38,29 @@ HEAD_MEMBERS, TAIL_MEMBERS = 500, 100
 WORD_ON_PAGE = 4000
 SAME_WORD_SHOWN = 12
 SEARCHED_WORD = 400  # longest word a link searches for (its address stays short); longer ones link their length
+#: The way back to the site's root from a cycle's page (maps/MAP/CYCLE/index.html), which its links start with.
+CYCLE_ROOT = "../../../"
 
 
 @dataclass(frozen=True, slots=True)
 class RelatedGroup:
-    """Cycles related to this one in one way (its mirror, scaled copies, the same word elsewhere)."""
+    """Cycles related to this one in one way (its mirror, scaled copies, the same word elsewhere): the kind,
+    and the list items of its links (built here rather than link by link in the template: a page links up to
+    fifteen cycles, and as a loop of the template they took a tenth of the time a cycle page takes)."""
 
     kind: str
-    links: list[Link]
+    items: Markup
+
+
+def _items(links: Sequence[Link], root: str) -> str:
+    """The list items of ``links`` on a page ``root`` away from the site's root, each text escaped."""
+    return "".join(
+        [
+            f'<li><a href="{root}{escape_output(link.url)}">{escape_output(link.label)}</a>'
+            + (f" ({escape_output(link.note)})</li>" if link.note else "</li>")
+            for link in links
+        ]
+    )
 
 
 def _factors(entry: MapEntry, cycle: Cycle) -> list[tuple[int, int]]:
@@ -103,15 +118,12 @@ def _bibtex(text: str) -> str:
     return text.translate(_BIBTEX)
 
 
-# Members are decimal text from builder.arith.integers: digits with an optional minus sign.
-_DECIMAL_LINES = re.compile(r"[-0-9\n]*")
-
-
-def _member_items(members: tuple[str, ...]) -> Markup:
+def _member_items(members: Sequence[int]) -> Markup:
     """The list items of members, built here rather than item by item in the template (a long cycle
-    has thousands); each is checked to be decimal text once, so nothing in it needs escaping."""
-    assert _DECIMAL_LINES.fullmatch("\n".join(members)), "members are decimal text"
-    return Markup("".join([f"<li>{n}</li>\n" for n in grouped_decimals(members)]))
+    has thousands): grouped integers, digits, commas and minus signs, with nothing to escape."""
+    if not members:
+        return Markup("")
+    return Markup("<li>" + "</li>\n<li>".join(grouped_ints(members)) + "</li>\n")
 
 
 @dataclass(frozen=True, slots=True)
@@ -157,25 +169,30 @@ def _related(site: SiteContext, kin: _Kin | None, length: int, word: str) -> lis
     related: list[RelatedGroup] = []
     if kin is None:
         return related
+
+    def group(kind: str, items: str) -> None:
+        related.append(RelatedGroup(kind, Markup(items)))  # every text escaped by _items or cycle_item
+
     if kin.mirror is not None:
-        related.append(RelatedGroup("Mirror", [site.cycle_link(kin.mirror, "the negated cycle of the mirror map")]))
+        group("Mirror", _items([site.cycle_link(kin.mirror, "the negated cycle of the mirror map")], CYCLE_ROOT))
     if kin.scaled is not None:
         factor, base = kin.scaled
-        related.append(RelatedGroup("Scaled copy of", [site.cycle_link(base, f"times {to_decimal(factor)}")]))
+        group("Scaled copy of", _items([site.cycle_link(base, f"times {to_decimal(factor)}")], CYCLE_ROOT))
     if kin.copies:
         links = [site.cycle_link(copy, f"times {to_decimal(factor)}") for factor, copy in kin.copies]
-        related.append(RelatedGroup("Scaled copies", links))
+        group("Scaled copies", _items(links, CYCLE_ROOT))
     if kin.same:
-        links = [site.cycle_link(k) for k in kin.same]
+        items = "".join([site.cycle_item(k, CYCLE_ROOT) for k in kin.same])
         if kin.more > 0:
             # The search for the whole word at this length lists exactly the cycles whose word is one of its
             # rotations (search.js: a fragment may run round the word), this one and the listed ones included.
             if len(word) <= SEARCHED_WORD:
                 search = f"search/index.html?length={length}&word={quote(word, safe=',')}"
-                links.append(Link(f"{grouped(kin.more)} more: every cycle with this word, in the search", search))
+                more = Link(f"{grouped(kin.more)} more: every cycle with this word, in the search", search)
             else:
-                links.append(Link(f"Every cycle of length {grouped(length)}, of any word", length_url(length)))
-        related.append(RelatedGroup("Same word in other maps", links))
+                more = Link(f"Every cycle of length {grouped(length)}, of any word", length_url(length))
+            items += _items([more], CYCLE_ROOT)
+        group("Same word in other maps", items)
     return related
 
 
@@ -213,10 +230,10 @@ def _citations(site: SiteContext, entry: MapEntry, cycle: Cycle, title: str, pat
     return cite, bibtex
 
 
-def _members(r: CycleRecord) -> dict[str, object]:
-    """The members the page lists: all of them, or the first and the last with a count of those left out."""
-    members = r.members
-    tail: tuple[str, ...] = ()
+def _members(r: CycleRecord, members: tuple[int, ...]) -> dict[str, object]:
+    """The members the page lists (``members``, from the canonical one): all of them, or the first and the
+    last with a count of those left out."""
+    tail: tuple[int, ...] = ()
     if len(members) <= MEMBERS_ON_PAGE:
         head, hidden = members, 0
     else:
@@ -236,20 +253,22 @@ def _members(r: CycleRecord) -> dict[str, object]:
 def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle, kin: _Kin | None) -> Page:
     key = (entry.id, cycle.id)
     r = site.records[key]
-    title = f"{entry.name}: cycle through {grouped(r.canonical)}"
+    title = f"{entry.name}: cycle through {grouped(cycle.canonical)}"
     svg_id = f"c-{entry.id}-{cycle.id}"
     # The pretty address (absolute with a base URL); links on the page use index.html.
     path = posixpath.dirname(r.url) + "/"
     cite, bibtex = _citations(site, entry, cycle, title, path)
     eq = cycle.equation
+    members = cycle.canonical_members
     context = {
         "map": entry,
         "map_url": map_url(entry.id),
         "record": r,
-        **_members(r),
+        "cycle": cycle,  # its numbers as integers, which the template groups (record has them as decimal text)
+        **_members(r, members),
         "export": f"data/maps/{entry.id}.json",
         "word_svg": word_strip(cycle.canonical_word, entry.modulus, f"Word of {title}", svg_id + "-w", entry.branches),
-        "plot_svg": orbit_plot(cycle.canonical_members, f"Orbit of {title}", svg_id + "-p"),
+        "plot_svg": orbit_plot(members, f"Orbit of {title}", svg_id + "-p"),
         "equation": cycle_equation_mathml(
             entry.modulus, cycle.length, _factors(entry, cycle), eq.offset, eq.target, cycle.canonical
         ),
@@ -268,7 +287,9 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle, kin: _Kin | Non
         "history": site.history_view(r.history),
     }
     crumbs = (*MAPS_CRUMBS, Link(entry.name, map_url(entry.id)))
-    return Page(cycle_url(entry.id, cycle.id), "cycle.html", title, SECTION, context, crumbs, in_site_map=False)
+    page = Page(cycle_url(entry.id, cycle.id), "cycle.html", title, SECTION, context, crumbs, in_site_map=False)
+    assert page.root == CYCLE_ROOT, "every cycle page is as deep as CYCLE_ROOT says"
+    return page
 
 
 def cycle_pages(site: SiteContext, map_id: str, cycles: Sequence[Cycle]) -> Iterator[Page]:
