@@ -250,7 +250,7 @@ def _members(r: CycleRecord, members: tuple[int, ...]) -> dict[str, object]:
     }
 
 
-def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle, kin: _Kin | None) -> Page:
+def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle, kin: _Kin | None, crumbs: tuple[Link, ...]) -> Page:
     key = (entry.id, cycle.id)
     r = site.records[key]
     title = f"{entry.name}: cycle through {grouped(cycle.canonical)}"
@@ -286,7 +286,6 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle, kin: _Kin | Non
         "published": site.base_url is not None,
         "history": site.history_view(r.history),
     }
-    crumbs = (*MAPS_CRUMBS, Link(entry.name, map_url(entry.id)))
     page = Page(cycle_url(entry.id, cycle.id), "cycle.html", title, SECTION, context, crumbs, in_site_map=False)
     assert page.root == CYCLE_ROOT, "every cycle page is as deep as CYCLE_ROOT says"
     return page
@@ -295,7 +294,8 @@ def cycle_page(site: SiteContext, entry: MapEntry, cycle: Cycle, kin: _Kin | Non
 def cycle_pages(site: SiteContext, map_id: str, cycles: Sequence[Cycle]) -> Iterator[Page]:
     entry = site.cat.maps[map_id]
     kin = _kin_of(site, map_id, cycles)
-    return (cycle_page(site, entry, cycle, kin[cycle.id]) for cycle in cycles)
+    crumbs = (*MAPS_CRUMBS, Link(entry.name, map_url(entry.id)))  # the same on every cycle page of the map
+    return (cycle_page(site, entry, cycle, kin[cycle.id], crumbs) for cycle in cycles)
 
 
 #: Every field of a cycle's provenance, read as one tuple (in C; as a dataclass, a digest reads it in Python).
