@@ -386,7 +386,7 @@ def _percent(chance: float) -> str:
     return f"{100 * chance:.2f}%"
 
 
-@functools.lru_cache(maxsize=2048)  # maps with the same lengths share most columns (those with no cycles above all)
+@functools.lru_cache(maxsize=1024)  # maps with the same lengths share most columns (those with no cycles above all)
 def _odds_column(x0: float, slot: float, k: int, chance: float, count: int, most: int) -> str:
     """One length's column of the odds chart, from x0 and ``slot`` wide: its bar (the chance), its diamond
     (``count`` of at most ``most`` on the count axis), and its numbers.  A column shows its numbers on

@@ -21,7 +21,6 @@ from builder.catalogue.files import CYCLES_FOLDER
 from builder.catalogue.model import Catalogue, Cycle, MapEntry, Record, Reference
 from builder.catalogue.relations import Relations, natural_order, qx_plus_d
 from builder.history import Changelog, Edition, NoHistory, RepoHistory
-from builder.site.escaping import escape_output
 from builder.site.numbers import grouped
 from builder.site.pages.common import Link
 from builder.site.paths import family_url, map_url, reference_url
@@ -196,7 +195,6 @@ class SiteContext:
         self.map_place = {map_id: place for place, map_id in enumerate(self.map_order)}
         self._made: dict[str, tuple[Hashable, object]] = {}
         self._links: dict[tuple[str, str], Link] = {}
-        self._items: dict[tuple[tuple[str, str], str], str] = {}
         self._sources = sources
         self._root = str(catalogue.root) + os.sep
 
@@ -254,17 +252,6 @@ class SiteContext:
         if link is None:
             link = self._links[key] = self._link(key, "")
         return link
-
-    def cycle_item(self, key: tuple[str, str], root: str) -> str:
-        """The list item of a link to the cycle without a note, as HTML for a page ``root`` away from the site's
-        root: made once for each cycle and root, like the link."""
-        item = self._items.get((key, root))
-        if item is None:
-            link = self.cycle_link(key)
-            item = self._items[key, root] = (
-                f'<li><a href="{root}{escape_output(link.url)}">{escape_output(link.label)}</a></li>'
-            )
-        return item
 
     def _link(self, key: tuple[str, str], note: str) -> Link:
         record = self.records[key]

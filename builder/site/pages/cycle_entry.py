@@ -171,7 +171,7 @@ def _related(site: SiteContext, kin: _Kin | None, length: int, word: str) -> lis
         return related
 
     def group(kind: str, items: str) -> None:
-        related.append(RelatedGroup(kind, Markup(items)))  # every text escaped by _items or cycle_item
+        related.append(RelatedGroup(kind, Markup(items)))  # every text escaped by _items
 
     if kin.mirror is not None:
         group("Mirror", _items([site.cycle_link(kin.mirror, "the negated cycle of the mirror map")], CYCLE_ROOT))
@@ -182,7 +182,7 @@ def _related(site: SiteContext, kin: _Kin | None, length: int, word: str) -> lis
         links = [site.cycle_link(copy, f"times {to_decimal(factor)}") for factor, copy in kin.copies]
         group("Scaled copies", _items(links, CYCLE_ROOT))
     if kin.same:
-        items = "".join([site.cycle_item(k, CYCLE_ROOT) for k in kin.same])
+        items = _items([site.cycle_link(k) for k in kin.same], CYCLE_ROOT)
         if kin.more > 0:
             # The search for the whole word at this length lists exactly the cycles whose word is one of its
             # rotations (search.js: a fragment may run round the word), this one and the listed ones included.
