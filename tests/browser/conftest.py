@@ -5,8 +5,8 @@ Selenium. Pages are opened from disk (file:// addresses), as a reader who downlo
 open them, so nothing here starts a server and the browser gets no flag that loosens file access.
 
 Where no browser can be had (Selenium not installed, ``chromium`` or ``chromedriver`` not on PATH,
-or the browser not starting) every test here skips with that reason; when the environment variable
-CI is "true" the same reason is a failure, so CI cannot pass without running these tests.
+or the browser not starting) every test here fails with that reason: no test passes unrun, and
+``.ci/run`` installs the browser and its driver.
 
 What other browser tests can reuse:
 
@@ -18,7 +18,6 @@ What other browser tests can reuse:
 
 from __future__ import annotations
 
-import os
 import shutil
 from collections.abc import Callable, Iterator
 from pathlib import Path
@@ -50,16 +49,9 @@ CHROMIUM_FLAGS = (
 SiteOf = Callable[..., Path]
 
 
-def in_ci() -> bool:
-    """CI sets CI=true (common practice, no source); there a missing browser fails the tests."""
-    return os.environ.get("CI") == "true"
-
-
 def no_browser(reason: str) -> NoReturn:
-    """Skip with the reason outside CI; fail with it in CI."""
-    if in_ci():
-        pytest.fail(f"CI=true but the browser tests cannot run: {reason}", pytrace=False)
-    pytest.skip(reason)
+    """Fail with the reason: the browser tests never pass unrun (.ci/run installs what they need)."""
+    pytest.fail(f"the browser tests cannot run: {reason} (.ci/run installs Chromium and its driver)", pytrace=False)
 
 
 def start_chromium() -> Any:
@@ -111,7 +103,7 @@ def browser(chromium_session: Any) -> Any:
 def site_of(tmp_path_factory: pytest.TempPathFactory, chromium_session: Any) -> SiteOf:
     """``site_of(catalogue, limits=None)``: the folder of that catalogue's site, built once per session.
 
-    It asks for the browser first, so that without one the tests skip before any site is built.
+    It asks for the browser first, so that without one the tests fail before any site is built.
     """
     built: dict[tuple[Path, Limits | None], Path] = {}
 

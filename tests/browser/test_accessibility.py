@@ -5,7 +5,7 @@ accessibility engine: its rules test the WCAG 2 success criteria and common best
 loaded into each page as the page is opened from disk, and ``axe.run`` must find no violation at all, in
 the light and the dark colour scheme (the stylesheet has both: prefers-color-scheme, Media Queries Level 5).
 
-Without the package (``npm ci --prefix tests/browser``) the tests skip saying so; under CI=true they fail.
+Without the package (``npm ci --prefix tests/browser``) the tests fail, saying what to install.
 
 While each page is open, a screenshot of it (the whole page, up to SHOT_HEIGHT px) is saved into SCREENSHOTS
 (``screenshots/`` at the top of the repository, or the folder $PERIPLUS_SCREENSHOTS names), for a reviewer
