@@ -115,8 +115,8 @@ class HistoryRecord:
 class CycleRecord(NamedTuple):
     """One verified cycle: its members and word read from the canonical member, its equation, provenance.
 
-    The numbers a page shows once or twice (the least and greatest member, A, B, the target, the start)
-    and the address are written out when asked for, not kept: a build holds 50,000 records, and every
+    The start and the address are written out when asked for, not kept (pages read the other numbers as
+    integers from ``cycle``, and group their digits): a build holds 50,000 records, and every
     worker process that reads them copies the memory they fill.  A named tuple, made in C: a build
     makes one per cycle.
     """
@@ -137,36 +137,13 @@ class CycleRecord(NamedTuple):
     @property
     def members(self) -> tuple[str, ...]:
         """The members from the canonical member, in the order the map visits them: written out when
-        asked for (they are most of a record's size, and a build needs them for one page and one file)."""
+        asked for (they are most of a record's size, and a build needs them as text for the data files alone)."""
         return decimals(self.cycle.canonical_members)
 
     @property
     def url(self) -> str:
         """Its page, relative to the site root."""
         return cycle_url(self.map_id, self.id)
-
-    @property
-    def minimum(self) -> str:
-        return to_decimal(self.cycle.minimum)
-
-    @property
-    def maximum(self) -> str:
-        return to_decimal(self.cycle.maximum)
-
-    @property
-    def multiplier(self) -> str:
-        """A in the cycle equation."""
-        return to_decimal(self.cycle.equation.multiplier)
-
-    @property
-    def offset(self) -> str:
-        """B in the cycle equation."""
-        return to_decimal(self.cycle.equation.offset)
-
-    @property
-    def target(self) -> str:
-        """m^k - A."""
-        return to_decimal(self.cycle.equation.target)
 
     @property
     def start(self) -> str:

@@ -161,10 +161,8 @@ def _orbit_frame(axis: tuple[bool, int, int], steps: int, y_title: str) -> tuple
 
 
 def _member_text(n: int) -> tuple[str, str]:
-    """A member as the page writes it (builder.site.numbers), and as spoken; over 12 digits, to four figures."""
-    if -(10**12) < n < 10**12:  # up to 12 digits: grouped() in short
-        text = format(n, ",")
-        return text, text
+    """A member as the page writes it (builder.site.numbers), and as spoken; over 12 digits, to four figures.
+    (orbit_plot writes a member of up to 12 digits itself, with ``format``, as grouped() does.)"""
     text = grouped(n)
     if len(text) <= 16 or len(text) == 17 and n < 0:  # up to 12 digits, 3 commas and a sign
         return text, text

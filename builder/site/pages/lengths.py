@@ -44,9 +44,9 @@ def length_pages(site: SiteContext) -> Iterator[Page]:
         for k, keys in sorted(by_length.items())
     ]
     yield Page("lengths/index.html", "lengths.html", "Cycles by length", SECTION, {"rows": rows}, HOME_CRUMBS)
+    place = site.map_place
     for k in sorted(by_length):
         # Maps in natural order, then cycles by their member of least |n|, positive first.
-        place = site.map_place
         keys = sorted(by_length[k], key=lambda kk: (place[kk[0]], *_least(site.cycles[kk].canonical), kk[1]))
         order = "by map, then member of least |n|"
         for part, pager in pagers(len(keys), order, partial(length_url, k)):
