@@ -137,8 +137,10 @@ def settle(mapping: AffineMap, start: int, max_steps: int, max_bits: int, max_wo
     return settle_counted(mapping, start, max_steps, max_bits, max_work)[0]
 
 
-def settle_counted(mapping: AffineMap, start: int, max_steps: int, max_bits: int, max_work: int) -> tuple[Fate, int]:
-    """``settle``, with the work it spent in bit-operations."""
+def settle_counted(
+    mapping: AffineMap, start: int, max_steps: int, max_bits: int, max_work: int
+) -> tuple[Fate, int, int]:
+    """``settle``, with the work it spent in bit-operations and the step of its event when that is (a) or (b), else 0."""
     m = mapping.modulus
     br = mapping.branches
     if start > 0:
@@ -167,25 +169,25 @@ def settle_counted(mapping: AffineMap, start: int, max_steps: int, max_bits: int
         work += least if bits <= floor else cost(bits)
         if step <= max_steps:
             if n == start:
-                return cycle_at(mapping, start, step), work
+                return cycle_at(mapping, start, step), work, step
             if lo < n < hi:
-                return None, work
+                return None, work, step
             if bits > max_bits:
-                return Unresolved(step, "magnitude", bits), work
+                return Unresolved(step, "magnitude", bits), work, 0
             if work > max_work:
-                return Unresolved(step, "work", bits), work
+                return Unresolved(step, "work", bits), work, 0
             if step == max_steps:
                 last = n
         elif n == start or lo < n < hi or bits > max_bits:
             # Not a value of a cycle met within max_steps steps: no such cycle.
             break
         elif work > max_work:
-            return Unresolved(step, "work", bits), work
+            return Unresolved(step, "work", bits), work, 0
         if n == tortoise:
             period = step - tortoise_at
             mu, entry = cycle_entry(mapping, start, period)
             if mu + period <= max_steps:
-                return _rotated(mapping, entry, period), work
+                return _rotated(mapping, entry, period), work, 0
             break
         if step == power:
             tortoise, tortoise_at = n, step
@@ -194,7 +196,7 @@ def settle_counted(mapping: AffineMap, start: int, max_steps: int, max_bits: int
             big = True
             n = gmpy2.mpz(n)
             br = tuple((gmpy2.mpz(a), gmpy2.mpz(b)) for a, b in br)
-    return Unresolved(max_steps, "steps", int(last).bit_length()), work
+    return Unresolved(max_steps, "steps", int(last).bit_length()), work, 0
 
 
 @dataclass(slots=True)
@@ -208,7 +210,10 @@ class HuntResult:
     for each.  ``work`` is what deciding the range cost, in bit-operations;
     ``stopped_at`` is, when a budget for the whole range ran out first, the
     least magnitude left undecided (the result then holds for low .. stopped_at - 1,
-    and lists cycles met beyond).  Neither takes part in comparisons.
+    and lists cycles met beyond).  ``steps`` is the range's total stopping time: the sum, over its
+    starts decided by event (a) or (b), of the step of that event; a function of the definition
+    alone (not of the engine, the chunks or the sieve), so hunts of one range by different
+    machines can be compared by it.  None of the three takes part in comparisons.
     """
 
     bound: int
@@ -218,6 +223,7 @@ class HuntResult:
     reasons: dict[int, str] = field(default_factory=dict)
     work: int = field(default=0, compare=False)
     stopped_at: int | None = field(default=None, compare=False)
+    steps: int = field(default=0, compare=False)
 
 
 def hunt_result(low: int, high: int, cycles: dict[int, CycleFound], reasons: dict[int, str]) -> HuntResult:
@@ -242,24 +248,27 @@ def settle_all(
     cycles: dict[int, CycleFound],
     reasons: dict[int, str],
     budget: int | None = None,
-) -> tuple[int, int | None]:
+) -> tuple[int, int | None, int]:
     """Settle each start in turn, adding the cycles found to ``cycles`` and the unresolved starts to ``reasons``.
 
-    ``limits`` are (max_steps, max_bits, max_work).  Returns the work spent and, when ``budget`` (a
-    bound on the work of them all) ran out first, the start that was not settled.
+    ``limits`` are (max_steps, max_bits, max_work).  Returns the work spent, the start that was not
+    settled when ``budget`` (a bound on the work of them all) ran out first, else None, and the
+    stopping time of the starts settled (see HuntResult.steps).
     """
     max_steps, max_bits, max_work = limits
     spent = 0
+    total = 0
     for s in starts:
         if budget is not None and spent >= budget:
-            return spent, s
-        fate, work = settle_counted(mapping, s, max_steps, max_bits, max_work)
+            return spent, s, total
+        fate, work, steps = settle_counted(mapping, s, max_steps, max_bits, max_work)
         spent += work
+        total += steps
         if isinstance(fate, CycleFound):
             cycles.setdefault(fate.members[0], fate)
         elif isinstance(fate, Unresolved):
             reasons[s] = fate.reason
-    return spent, None
+    return spent, None, total
 
 
 def hunt(
@@ -280,9 +289,10 @@ def hunt(
         raise ValueError(f"expected 0 <= low <= bound + 1, got low={low}, bound={bound}")
     cycles: dict[int, CycleFound] = {}
     reasons: dict[int, str] = {}
-    work, _ = settle_all(mapping, starts_of(low, bound), (max_steps, max_bits, max_work), cycles, reasons)
+    work, _, steps = settle_all(mapping, starts_of(low, bound), (max_steps, max_bits, max_work), cycles, reasons)
     result = hunt_result(low, bound, cycles, reasons)
     result.work = work
+    result.steps = steps
     return result
 
 
@@ -301,18 +311,26 @@ def merge_results(parts: Iterable[HuntResult]) -> list[HuntResult]:
     low, high = ordered[0].low, ordered[0].low - 1
     cycles: dict[int, CycleFound] = {}
     reasons: dict[int, str] = {}
+    steps = 0
+
+    def piece() -> HuntResult:
+        result = hunt_result(low, high, cycles, reasons)
+        result.steps = steps
+        return result
+
     for part in ordered:
         if part.low <= high:
             raise ValueError(f"magnitude ranges {low}..{high} and {part.low}..{part.bound} overlap")
         if part.low > high + 1:
-            pieces.append(hunt_result(low, high, cycles, reasons))
-            cycles, reasons = {}, {}
+            pieces.append(piece())
+            cycles, reasons, steps = {}, {}, 0
             low = part.low
         high = part.bound
+        steps += part.steps
         for c, cycle in part.cycles.items():
             if cycles.setdefault(c, cycle) != cycle:
                 raise ValueError(f"two parts disagree about the cycle through {c}")
         for s in part.unresolved:
             reasons[s] = part.reasons.get(s, "steps")
-    pieces.append(hunt_result(low, high, cycles, reasons))
+    pieces.append(piece())
     return pieces

@@ -106,9 +106,10 @@ def _as_reference(result: HuntResult) -> tuple[dict[int, tuple[int, ...]], dict[
 
 LIMITS = [(1, 64), (7, 64), (40, 20), (300, 60), (2000, 100), (5000, 300)]
 ENGINE_SETTINGS = [
-    {},  # the defaults (tail lanes go to the exact path)
-    {"batch": 16, "lane_steps": 9, "tail": 0},  # tiny batches, early hand-off
-    {"batch": 128, "lane_steps": 100_000, "tail": 0},  # lanes stay vectorised as long as allowed
+    {},  # the defaults
+    {"batch": 16, "lane_steps": 9},  # tiny batches, early hand-off
+    {"batch": 128, "lane_steps": 100_000},  # starts stay in the kernel as long as allowed
+    {"sieve": False},  # every start followed (builder.search.kernel: the sieve changes no fate)
 ]
 
 
@@ -126,7 +127,9 @@ def test_engines_agree_with_the_reference_start_by_start(name: str, max_steps: i
     for settings in ENGINE_SETTINGS:
         got = _fastiter.hunt_range(mapping, 0, high, max_steps, max_bits, **settings)  # type: ignore[arg-type]
         assert _as_reference(got) == expected, settings
-        assert got == hunt(mapping, high, max_steps, max_bits)
+        reference = hunt(mapping, high, max_steps, max_bits)
+        assert got == reference
+        assert got.steps == reference.steps, settings  # the total stopping time is the definition's
 
 
 @pytest.mark.parametrize("name", ["3x+5", "3x-11", "mod-3", "-3x+1"])
@@ -137,7 +140,7 @@ def test_cycle_detection_is_exact_at_every_step_limit(name: str) -> None:
     for max_steps in range(0, 60):
         expected = _reference_hunt(mapping, 0, 40, max_steps, 64)
         assert _as_reference(hunt(mapping, 40, max_steps, 64)) == expected, max_steps
-        got = _fastiter.hunt_range(mapping, 0, 40, max_steps, 64, batch=8, lane_steps=5, tail=0)
+        got = _fastiter.hunt_range(mapping, 0, 40, max_steps, 64, batch=8, lane_steps=5)
         assert _as_reference(got) == expected, max_steps
 
 
@@ -150,7 +153,7 @@ def test_engines_agree_near_the_int64_limit(name: str) -> None:
     for centre in (1 << 60, bound):
         low, high = centre - 12, centre + 12
         expected = _reference_hunt(mapping, low, high, 200, 200)
-        got = _fastiter.hunt_range(mapping, low, high, 200, 200, batch=8, tail=0)
+        got = _fastiter.hunt_range(mapping, low, high, 200, 200, batch=8)
         assert _as_reference(got) == expected
         assert got == hunt(mapping, high, 200, 200, low=low)
 
@@ -160,7 +163,7 @@ def test_maps_with_constants_too_large_for_int64_are_hunted_exactly() -> None:
     for d in ((1 << 62) + 1, (1 << 61) + 1, (1 << 1500) - 3):
         mapping = qx_plus_d(3, d)
         expected = _reference_hunt(mapping, 0, 30, 3000, 1600)
-        assert _as_reference(_fastiter.hunt_range(mapping, 0, 30, 3000, 1600, tail=0)) == expected
+        assert _as_reference(_fastiter.hunt_range(mapping, 0, 30, 3000, 1600)) == expected
 
 
 def test_the_vectorised_path_decides_ordinary_starts(monkeypatch: pytest.MonkeyPatch) -> None:
@@ -175,7 +178,7 @@ def test_the_vectorised_path_decides_ordinary_starts(monkeypatch: pytest.MonkeyP
         return real(mapping, start, max_steps, max_bits)
 
     monkeypatch.setattr(definition, "settle", counting)
-    result = _fastiter.hunt_range(MAPS["3x+1"], 0, 5000, 100_000, 4096, tail=0)
+    result = _fastiter.hunt_range(MAPS["3x+1"], 0, 5000, 100_000, 4096)
     assert calls == []
     assert list(result.cycles) == [0, 1, -1, -5, -17]
     assert result.unresolved == []
@@ -184,7 +187,7 @@ def test_the_vectorised_path_decides_ordinary_starts(monkeypatch: pytest.MonkeyP
 def test_a_start_reaching_an_unresolved_start_is_not_listed() -> None:
     # Common practice, no source: under 5x+1, 1 -> 3 -> 8 -> 4 -> 2 -> 1, so with 3 steps 1 is
     # unresolved while 2 -> 1 falls below 2 at once and is not listed.
-    result = _fastiter.hunt_range(MAPS["5x+1"], 0, 2, 3, 64, tail=0)
+    result = _fastiter.hunt_range(MAPS["5x+1"], 0, 2, 3, 64)
     assert 1 in result.unresolved
     assert 2 not in result.unresolved
 
