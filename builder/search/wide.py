@@ -18,8 +18,8 @@ from the start.  So a start decided here has the fate the definition gives it.
 
 The numbers are sign and magnitude, the magnitude in 32-bit limbs held in int64 (a product of a
 limb and a multiplier below 2^31, plus a carry, stays below 2^63).  A step computes a_r v + b_r
-and divides it exactly by m (the map is well defined, so m divides it): a shift when m is a power
-of two, else long division by m < 2^31 from the top limb.
+and divides it exactly by m (the map is well defined, so m divides it): a shift by the power of
+two in m, then exact division by its odd part, multiplying by that part's inverse mod 2^32.
 """
 
 from __future__ import annotations
@@ -54,20 +54,37 @@ def follow(mapping: AffineMap, escaped: I64, max_steps: int, max_work: int, max_
     """
     assert follows(mapping, max_bits)
     m = mapping.modulus
-    shift = m.bit_length() - 1 if m & (m - 1) == 0 else -1
+    shift = (m & -m).bit_length() - 1  # m = 2^shift * odd
+    odd = m >> shift
+    inverse = pow(odd, -1, 1 << _LIMB)
+    powers = np.array([pow(2, 16 * j, m) for j in range(2 * (max_bits // _LIMB + 3))], dtype=np.int64)
     mult = np.array([a for a, _ in mapping.branches], dtype=np.int64)
     incr = np.array([b for _, b in mapping.branches], dtype=np.int64)
     cap = min(max_steps, max_work // mapping.cost.least)
     decided = np.zeros(len(escaped), dtype=np.bool_)
     if len(escaped):
-        _follow(m, shift, mult, incr, escaped, cap, max_bits, decided)
+        _follow(m, shift, odd, inverse, powers, mult, incr, escaped, cap, max_bits, decided)
     return decided
 
 
 @njit(cache=True, nogil=True)
-def _follow(m: int, shift: int, mult: I64, incr: I64, escaped: I64, cap: int, max_bits: int, decided: npt.NDArray[np.bool_]) -> None:
+def _follow(
+    m: int,
+    shift: int,
+    odd: int,
+    inverse: int,
+    powers: I64,
+    mult: I64,
+    incr: I64,
+    escaped: I64,
+    cap: int,
+    max_bits: int,
+    decided: npt.NDArray[np.bool_],
+) -> None:
     # kept whole: the compiler sees the limb loops at once; the module docstring states what is decided.
     size = max_bits // _LIMB + 3
+    inverse_low = inverse & 0xFFFF  # products of a limb and 16 bits stay below 2^48
+    inverse_high = inverse >> 16
     limbs = np.zeros(size, dtype=np.int64)
     for row in range(escaped.shape[0]):
         k = escaped[row, 1]
@@ -84,12 +101,14 @@ def _follow(m: int, shift: int, mult: I64, incr: I64, escaped: I64, cap: int, ma
         used = 2 if limbs[1] else 1
         while k < cap:
             # the residue of the value mod m
-            if shift >= 0:
+            if odd == 1:
                 low = limbs[0] & (m - 1)
             else:
+                # sum of 16-bit halves times 2^(16 j) mod m: each term below 2^47, the sum below 2^56
                 low = 0
-                for i in range(used - 1, -1, -1):
-                    low = ((low << _LIMB) + limbs[i]) % m
+                for i in range(used):
+                    low += (limbs[i] & 0xFFFF) * powers[2 * i] + (limbs[i] >> 16) * powers[2 * i + 1]
+                low %= m
             r = low if sign > 0 or low == 0 else m - low
             a = mult[r]
             b = incr[r]
@@ -127,26 +146,34 @@ def _follow(m: int, shift: int, mult: I64, incr: I64, escaped: I64, cap: int, ma
                             limbs[i] = t
                             borrow = 0
                         i += 1
-            # / m, exactly
-            if shift >= 0:
-                if shift:
-                    for i in range(used):
-                        upper = limbs[i + 1] if i + 1 < used else 0
-                        limbs[i] = (limbs[i] >> shift) | ((upper << (_LIMB - shift)) & _MASK)
-            else:
-                rem = 0
-                for i in range(used - 1, -1, -1):
-                    t = (rem << _LIMB) + limbs[i]
-                    limbs[i] = t // m
-                    rem = t % m
+            # / m, exactly: a shift by the power of two in m, then the odd part by its inverse mod 2^32
+            # (exact division from the low limb up, T. Jebelean, Inform. Process. Lett. 46 (1993) 49-52;
+            # from memory): each quotient limb is (limb - borrow) * odd^-1 mod 2^32.
+            if shift:
+                for i in range(used):
+                    upper = limbs[i + 1] if i + 1 < used else 0
+                    limbs[i] = (limbs[i] >> shift) | ((upper << (_LIMB - shift)) & _MASK)
+            if odd > 1:
+                borrow = 0
+                for i in range(used):
+                    t = limbs[i] - borrow
+                    borrow = 0
+                    if t < 0:
+                        t += 1 << _LIMB
+                        borrow = 1
+                    digit = (t * inverse_low + (((t * inverse_high) & 0xFFFF) << 16)) & _MASK
+                    limbs[i] = digit
+                    borrow += (digit * odd) >> _LIMB
             while used > 1 and limbs[used - 1] == 0:
                 used -= 1
             k += 1
             top = limbs[used - 1]
             bits = (used - 1) * _LIMB
-            while top:
-                bits += 1
-                top >>= 1
+            for width in (16, 8, 4, 2, 1):  # the bit length of the top limb, by halves
+                if top >> width:
+                    top >>= width
+                    bits += width
+            bits += top  # top is now 0 or 1
             if bits > max_bits:
                 decided[row] = True
                 break
