@@ -21,16 +21,23 @@ size, the step threshold and the sieve.
 from __future__ import annotations
 
 import itertools
+import sys
+from collections.abc import Iterator
 
 from builder.arith.dynamics import DEFAULT_MAX_WORK, AffineMap, CycleFound
+from builder.search.batch import Decided, decide_in_batches
 from builder.search.definition import HuntResult, cycle_at, hunt_result, order_key, settle_all, starts_of
-from builder.search.kernel import decide
-from builder.search.wide import follow, follows
 
 __all__ = ["hunt_range", "int64_bound"]
 
-#: Magnitudes per call of the kernel (its output buffers hold two int64 per start).
+#: Magnitudes per call of the kernel (its output buffers hold a few int64 per start), and per numpy batch.
 DEFAULT_BATCH = 1 << 18
+NUMPY_BATCH = 1 << 15
+#: Ranges of at least this many magnitudes go to the compiled kernel (when numba is not loaded yet: a
+#: smaller range is decided sooner by numpy than numba starts, and numba costs each process ~130 MB).
+COMPILED_FROM = 1 << 16
+#: Orbits past int64 go to the compiled follower (builder.search.wide) from this many in one range.
+WIDE_FROM = 32
 DEFAULT_LANE_STEPS = 4096
 # Starts up to this magnitude go to the kernel (2 |s| must fit in int64 with room).
 _KERNEL_STARTS = 1 << 60
@@ -61,9 +68,10 @@ def hunt_range(
     max_work: int = DEFAULT_MAX_WORK,
     *,
     budget: int | None = None,
-    batch: int = DEFAULT_BATCH,
+    batch: int | None = None,
     lane_steps: int = DEFAULT_LANE_STEPS,
     sieve: bool = True,
+    compiled: bool | None = None,
 ) -> HuntResult:
     """Decide every start with low <= |n| <= high; the same result as definition.hunt(mapping, high, ..., low=low).
 
@@ -72,8 +80,9 @@ def hunt_range(
     ``stopped_at`` is then the least magnitude left undecided.  The kernel's pass is bounded by
     the range and ``lane_steps`` alone; its step is counted as what its arithmetic costs, a
     64-bit word and the map's constants, without the interpreter's floor that exact steps pay.
-    ``batch`` magnitudes go to each call of the kernel; ``sieve`` False follows every start
-    (for tests: the results are the same).
+    ``batch`` magnitudes go to each call of the kernel or batch of numpy; ``sieve`` False follows every
+    start; ``compiled`` chooses the kernel (True) or numpy (False) over the rule of COMPILED_FROM.  None of
+    these changes the result (tests/search).
     """
     if not 0 <= low <= high + 1:
         raise ValueError(f"expected 0 <= low <= high + 1, got {low}, {high}")
@@ -88,26 +97,29 @@ def hunt_range(
     kernel_top = min(high, limit, _KERNEL_STARTS)
     steps = min(max_steps, lane_steps, max_work // mapping.cost.least)
     if steps >= 1 and limit >= 1 and low <= kernel_top:
+        if compiled is None:
+            compiled = kernel_top - low + 1 >= COMPILED_FROM or "numba" in sys.modules
+        size = batch or (DEFAULT_BATCH if compiled else NUMPY_BATCH)
         taken = 0
+        escapes: list[Decided] = []
         lo = low
         while lo <= kernel_top:
-            hi = min(kernel_top, lo + max(1, batch) - 1)
-            decided = decide(mapping, lo, hi, steps, limit, magnitude_limit, sieve)
+            hi = min(kernel_top, lo + max(1, size) - 1)
+            decided = _decide(mapping, lo, hi, (steps, limit, magnitude_limit), sieve, compiled)
             for start, length in decided.returned:
                 cycles.setdefault(start, cycle_at(mapping, start, length))
             for start in decided.magnitude:
                 reasons[start] = "magnitude"
             exact += decided.exact
-            escaped = decided.escaped
-            if len(escaped) and follows(mapping, max_bits):
-                wide = follow(mapping, escaped, max_steps, max_work, max_bits)
-                for start in escaped[wide, 0].tolist():
-                    reasons[start] = "magnitude"
-                escaped = escaped[~wide]
-            exact += escaped[:, 0].tolist()
+            escapes.append(decided)
             stopping += decided.stopping
             taken += decided.kernel_steps
             lo = hi + 1
+        for start, reason in _follow_escapes(mapping, escapes, (max_steps, max_work, max_bits), compiled):
+            if reason:
+                reasons[start] = reason
+            else:
+                exact.append(start)
         first_exact = kernel_top + 1
         work = taken * (64 + mapping.cost.constant_bits) * mapping.cost.weight
     else:
@@ -126,3 +138,37 @@ def hunt_range(
         result.unresolved = [s for s in result.unresolved if abs(s) < result.stopped_at]
         result.reasons = {s: result.reasons[s] for s in result.unresolved}
     return result
+
+
+def _decide(
+    mapping: AffineMap, lo: int, hi: int, bounds: tuple[int, int, int], sieve: bool, compiled: bool
+) -> Decided:
+    steps, limit, magnitude_limit = bounds
+    if compiled:
+        from builder.search.kernel import decide  # numba, loaded only when a hunt needs it
+
+        return decide(mapping, lo, hi, steps, limit, magnitude_limit, sieve)
+    return decide_in_batches(mapping, lo, hi, steps, limit, magnitude_limit)
+
+
+def _follow_escapes(
+    mapping: AffineMap, escapes: list[Decided], limits: tuple[int, int, int], compiled: bool
+) -> Iterator[tuple[int, str]]:
+    """The starts whose orbits passed int64: ("magnitude") when the multi-word follower decides them by (m),
+    else ("") for the exact path."""
+    max_steps, max_work, max_bits = limits
+    rows = [d.escaped for d in escapes if len(d.escaped)]
+    count = sum(len(r) for r in rows)
+    if not count:
+        return
+    if compiled or count >= WIDE_FROM:
+        from builder.search.wide import follow, follows  # numba, loaded only when it pays
+
+        if follows(mapping, max_bits):
+            for escaped in rows:
+                marked = follow(mapping, escaped, max_steps, max_work, max_bits)
+                pairs = zip(escaped[:, 0].tolist(), marked.tolist(), strict=True)
+                yield from ((s, "magnitude" if m else "") for s, m in pairs)
+            return
+    for escaped in rows:
+        yield from ((s, "") for s in escaped[:, 0].tolist())

@@ -58,14 +58,15 @@ import numpy.typing as npt
 from numba import njit
 
 from builder.arith.dynamics import AffineMap
+from builder.search.batch import Decided
 
-__all__ = ["Decided", "Sieve", "decide", "sieve_applies", "sieve_of"]
+__all__ = ["Sieve", "Tables", "decide", "sieve_applies", "sieve_depth", "sieve_of", "step_of", "tables"]
 
 I64 = npt.NDArray[np.int64]
 
 #: The deepest sieve: 2^16 classes, three tables of 512 KiB.
 SIEVE_DEPTH = 16
-_HALVING, _POWER_OF_TWO, _GENERAL = 0, 1, 2
+HALVING, POWER_OF_TWO, GENERAL = 0, 1, 2
 
 
 @dataclass(frozen=True, slots=True)
@@ -80,15 +81,20 @@ class Sieve:
     growth: tuple[int, int]
 
 
+def sieve_depth(high: int) -> int:
+    """The sieve's depth for magnitudes up to ``high``: 2^depth classes, about high / 16 of them (4 to 16)."""
+    return max(4, min(SIEVE_DEPTH, high.bit_length() - 4))
+
+
 @functools.lru_cache(maxsize=64)
-def sieve_of(mapping: AffineMap) -> Sieve | None:
-    """The sieve of a map n/2, (q n + d)/2 with q, d odd (None for other maps, or constants too large)."""
+def sieve_of(mapping: AffineMap, depth: int = SIEVE_DEPTH) -> Sieve | None:
+    """The sieve of depth at most ``depth`` of a map n/2, (q n + d)/2 with q, d odd (None for other maps, or
+    constants too large)."""
     if mapping.modulus != 2 or mapping.branches[0] != (1, 0):
         return None
     q, d = mapping.branches[1]
     if q % 2 == 0 or d % 2 == 0 or q < 3:
         return None
-    depth = SIEVE_DEPTH
     # |C_i| <= |d| (q^i - 2^i)/(q - 2) < |d| q^i, and |A_i r| < q^i 2^j: all below 2^62 at this depth.
     while depth >= 4 and (abs(d) + (1 << depth)) * q**depth >= 1 << 61:
         depth -= 1
@@ -113,19 +119,23 @@ def sieve_applies(sieve: Sieve, high: int, steps: int, limit: int) -> bool:
     return sieve.depth <= steps and ratio * high + offset <= limit
 
 
-@dataclass(frozen=True, slots=True)
-class Decided:
-    """What ``decide`` took from a range: cycles (start, length) of event (a), starts of event (m), starts
-    left to the exact path (in start order), starts whose orbit passed the int64 bound (rows: start,
-    step, value at that step; in start order), the stopping time of the starts decided by (a) or (b),
-    and the steps the kernel took."""
+Tables = tuple[int, int, int, I64, I64, int, int]
 
-    returned: list[tuple[int, int]]
-    magnitude: list[int]
-    exact: list[int]
-    escaped: I64
-    stopping: int
-    kernel_steps: int
+
+def tables(mapping: AffineMap) -> Tables:
+    """What ``step_of`` needs: the kind of map (HALVING: n/2, (a1 n + b1)/2; POWER_OF_TWO: m = 2^shift;
+    GENERAL), m, shift, the multipliers and increments by residue, a1 and b1."""
+    m = mapping.modulus
+    a1, b1 = mapping.branches[1] if m == 2 else (0, 0)
+    if m == 2 and mapping.branches[0] == (1, 0):
+        kind, shift = HALVING, 1
+    elif m & (m - 1) == 0:
+        kind, shift = POWER_OF_TWO, m.bit_length() - 1
+    else:
+        kind, shift = GENERAL, 0
+    mult = np.array([a for a, _ in mapping.branches], dtype=np.int64)
+    incr = np.array([b for _, b in mapping.branches], dtype=np.int64)
+    return kind, m, shift, mult, incr, a1, b1
 
 
 def decide(
@@ -137,17 +147,8 @@ def decide(
     ``magnitude_limit`` = 2^max_bits - 1, else ``magnitude_limit`` is 0); high <= limit.
     """
     assert 0 <= low <= high <= limit < 1 << 62
-    m = mapping.modulus
-    a1, b1 = mapping.branches[1] if m == 2 else (0, 0)
-    if m == 2 and mapping.branches[0] == (1, 0):
-        kind, shift = _HALVING, 1
-    elif m & (m - 1) == 0:
-        kind, shift = _POWER_OF_TWO, m.bit_length() - 1
-    else:
-        kind, shift = _GENERAL, 0
-    mult = np.array([a for a, _ in mapping.branches], dtype=np.int64)
-    incr = np.array([b for _, b in mapping.branches], dtype=np.int64)
-    sieve = sieve_of(mapping) if use_sieve else None
+    kind, m, shift, mult, incr, a1, b1 = tables(mapping)
+    sieve = sieve_of(mapping, sieve_depth(high)) if use_sieve else None
     if sieve is not None and not sieve_applies(sieve, high, steps, limit):
         sieve = None
     size = 2 * (high - low + 1)
@@ -217,6 +218,20 @@ def _sieve_tables(q: int, d: int, depth: int) -> tuple[I64, I64, I64, I64]:
     return step, threshold, ratio, offset
 
 
+@njit(cache=True, nogil=True, inline="always")
+def step_of(kind: int, m: int, shift: int, mult: I64, incr: I64, a1: int, b1: int, n: int) -> int:
+    """T(n) in int64, for |n| within the overflow bound (``kind``, ``shift``, ``a1``, ``b1``: see ``tables``)."""
+    if kind == HALVING:
+        if n & 1:
+            return (a1 * n + b1) >> 1
+        return n >> 1
+    if kind == POWER_OF_TWO:
+        r = n & (m - 1)
+        return int((mult[r] * n + incr[r]) >> shift)
+    r = n % m
+    return int((mult[r] * n + incr[r]) // m)
+
+
 @njit(cache=True, nogil=True)
 def _run(
     kind: int,
@@ -268,17 +283,7 @@ def _run(
         power = 1
         k = 0
         while True:
-            if kind == _HALVING:
-                if n & 1:
-                    n = (a1 * n + b1) >> 1
-                else:
-                    n >>= 1
-            elif kind == _POWER_OF_TWO:
-                r = n & (m - 1)
-                n = (mult[r] * n + incr[r]) >> shift
-            else:
-                r = n % m
-                n = (mult[r] * n + incr[r]) // m
+            n = step_of(kind, m, shift, mult, incr, a1, b1, n)
             k += 1
             if n == s:
                 if 2 * n_found < found.size:

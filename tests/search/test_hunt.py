@@ -107,9 +107,11 @@ def _as_reference(result: HuntResult) -> tuple[dict[int, tuple[int, ...]], dict[
 LIMITS = [(1, 64), (7, 64), (40, 20), (300, 60), (2000, 100), (5000, 300)]
 ENGINE_SETTINGS = [
     {},  # the defaults
-    {"batch": 16, "lane_steps": 9},  # tiny batches, early hand-off
-    {"batch": 128, "lane_steps": 100_000},  # starts stay in the kernel as long as allowed
-    {"sieve": False},  # every start followed (builder.search.kernel: the sieve changes no fate)
+    {"batch": 16, "lane_steps": 9, "compiled": True},  # tiny batches, early hand-off
+    {"batch": 16, "lane_steps": 9, "compiled": False},
+    {"batch": 128, "lane_steps": 100_000, "compiled": True},  # starts stay in the kernel as long as allowed
+    {"batch": 128, "lane_steps": 100_000, "compiled": False},
+    {"sieve": False, "compiled": True},  # every start followed (builder.search.kernel: the sieve changes no fate)
 ]
 
 

@@ -85,13 +85,13 @@ def test_the_sieve_is_refused_where_values_could_leave_int64() -> None:
 def test_sieved_and_unsieved_hunts_equal_the_definition(
     q: int, d: int, low: int, span: int, max_steps: int, max_bits: int
 ) -> None:
-    # The rule checked: hunt_range decides every start as builder.search.definition does, with the
-    # sieve or without it, and its total stopping time (HuntResult.steps) is the definition's.
+    # The rule checked: hunt_range decides every start as builder.search.definition does, in the
+    # compiled kernel with its sieve or without it, or with numpy, and its total stopping time (HuntResult.steps) is the definition's.
     mapping = shortcut(q, d)
     high = low + span
     reference = hunt(mapping, high, max_steps, max_bits, low=low)
-    for sieve in (True, False):
-        got = hunt_range(mapping, low, high, max_steps, max_bits, sieve=sieve, batch=257)
+    for sieve, compiled in ((True, True), (False, True), (True, False)):
+        got = hunt_range(mapping, low, high, max_steps, max_bits, sieve=sieve, batch=257, compiled=compiled)
         assert got == reference
         assert got.steps == reference.steps
 
@@ -138,3 +138,22 @@ def test_the_follower_decides_the_divergent_orbits_of_5x_plus_1() -> None:
     starts = {int(s) for s, m in zip(decided.escaped[:, 0].tolist(), marked.tolist(), strict=True) if m}
     assert {7, 9, -9} <= starts
     assert hunt_range(mapping, 0, 50, 10_000, 512) == hunt(mapping, 50, 10_000, 512)
+
+
+def test_a_small_hunt_does_without_numba() -> None:
+    # numba's compiler costs every process that loads it about 130 MB and a second of CPU (measured with
+    # bench/hunt_speed.py); a build's coverage rechecks of small bounds must not pay it (common practice,
+    # no source: load a heavy dependency only where it pays).
+    import subprocess
+    import sys
+
+    probe = (
+        "import sys\n"
+        "from builder.arith.dynamics import AffineMap\n"
+        "from builder.search.engine import hunt_range\n"
+        "hunt_range(AffineMap(2, ((1, 0), (3, 5))), 0, 1000, 10_000, 512)\n"
+        "assert 'numba' not in sys.modules\n"
+        "hunt_range(AffineMap(2, ((1, 0), (3, 5))), 0, 70_000, 10_000, 512)\n"
+        "assert 'numba' in sys.modules\n"
+    )
+    subprocess.run([sys.executable, "-c", probe], check=True)
