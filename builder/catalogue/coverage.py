@@ -9,6 +9,11 @@ where the map's work budget ran out, and the part beyond a start that the capped
 unresolved but the claim does not list (it may resolve within the claim's larger limits, or be a
 cycle's least member).  The recheck's limits are the claim's own, capped by the verification's:
 a claim cannot make verification follow orbits further than its command allows.
+
+A claim's basins (where each start up to the bound ends) name cycles: one whose least |member| is
+within the bound must be listed, always checked.  When the whole claim is searched again, the basins
+are counted again too (builder.search.basins, from the recheck's unresolved starts) and must be the
+claim's; the count is kept in the memo beside the search, under a key of its own.
 """
 
 from __future__ import annotations
@@ -24,7 +29,7 @@ from builder.arith.dynamics import AffineMap, default_max_bits
 from builder.arith.integers import show
 from builder.catalogue.cache import VerifyCache, definition_digest
 from builder.catalogue.limits import Limits
-from builder.catalogue.model import Coverage, Cycle, MapEntry, Recheck
+from builder.catalogue.model import Basin, Basins, Coverage, Cycle, MapEntry, Recheck
 from builder.catalogue.reader import label
 from builder.errors import KeyPath, Position, Problem, Severity
 from builder.search.definition import HuntResult
@@ -32,6 +37,7 @@ from builder.search.definition import HuntResult
 __all__ = ["SearchMemo", "recheck_coverage", "search_coverage", "searched", "searches_ahead"]
 
 Finding = tuple[str, str, Severity]  # message, code, severity
+Placed = tuple[KeyPath, str, str, Severity]  # a finding at a key path within the claim
 
 
 class SearchMemo(Protocol):
@@ -61,16 +67,31 @@ def recheck_coverage(
     searches: dict[tuple[int, int, int], HuntResult] = {}  # claims of one map often search the same starts
     budget = limits.map_work
     for i, claim in enumerate(entry.coverage):
-        if limits.recheck_up_to < 0:
-            checked.append(claim)
-            continue
-        findings, recheck = _recheck(entry, claim, cycles, limits, (budget, searches, memo), label(("coverage", i)))
-        budget -= recheck[1]
-        if findings:
-            at = where(("coverage", i))
-            problems.extend(Problem(at, message, code, severity) for message, code, severity in findings)
-        checked.append(replace(claim, recheck=recheck[0]))
+        placed = _listed_basins(claim, cycles)
+        if limits.recheck_up_to >= 0:
+            state = (budget, searches, memo)
+            findings, counted, recheck = _recheck(entry, claim, cycles, limits, state, label(("coverage", i)))
+            budget -= recheck[1]
+            if findings:
+                at = where(("coverage", i))
+                problems.extend(Problem(at, message, code, severity) for message, code, severity in findings)
+            placed += counted
+            claim = replace(claim, recheck=recheck[0])
+        for suffix, message, code, severity in placed:
+            key_path: KeyPath = ("coverage", i, *suffix)
+            problems.append(Problem(_nearest(where, key_path), label(key_path) + message, code, severity))
+        checked.append(claim)
     return replace(entry, coverage=tuple(checked))
+
+
+def _nearest(where: Callable[[KeyPath], Position], key_path: KeyPath) -> Position:
+    """The position of ``key_path``, or of its nearest enclosing value whose position the file's entry keeps
+    (it keeps those of fields and of the items of a list, not of what lies inside a claim's list)."""
+    for end in range(len(key_path), 0, -1):
+        at = where(key_path[:end])
+        if at.line:
+            return Position(at.file, at.line, at.column, key_path)
+    return where(key_path)
 
 
 def _capped(entry: MapEntry, claim: Coverage, limits: Limits, label: str) -> tuple[int, int, list[Finding]]:
@@ -98,9 +119,9 @@ def _recheck(
     limits: Limits,
     budget: tuple[int, dict[tuple[int, int, int], HuntResult], SearchMemo],
     label: str,
-) -> tuple[list[Finding], tuple[Recheck, int]]:
-    """Search the claim again (or reuse an equal search of the same map); return the findings, and what
-    was checked with the work it took."""
+) -> tuple[list[Finding], list[Placed], tuple[Recheck, int]]:
+    """Search the claim again (or reuse an equal search of the same map); return the findings, those about
+    its basins (counted again when the whole claim was searched), and what was checked with the work it took."""
     max_steps, max_bits, findings = _capped(entry, claim, limits, label)
     capped = (max_steps, max_bits) != (claim.max_steps, claim.max_bits)
     top = min(claim.bound, limits.recheck_up_to)
@@ -136,13 +157,82 @@ def _recheck(
         stopped_by = "work" if result.reasons[undecided[0]] == "work" else "limits"
     findings += _findings(entry, claim, result, top, cycles, label)
     recheck = Recheck(top, max_steps, max_bits, limits.max_work, stopped_by)
-    return findings, (recheck, work)
+    counted: list[Placed] = []
+    if claim.basins is not None and top >= claim.bound:
+        key = _search_key(entry.dynamics, top, max_steps, max_bits, limits.max_work, max(left, 0), "basins")
+        counted = _compare_basins(claim.basins, _counted(entry.dynamics, result, recheck, key, memo))
+    return findings, counted, (recheck, work)
 
 
-def _search_key(mapping: AffineMap, top: int, max_steps: int, max_bits: int, max_work: int, budget: int) -> bytes:
-    """What decides a search's result: the map's definition, the range 0..top, the limits and the work budget."""
+def _search_key(
+    mapping: AffineMap, top: int, max_steps: int, max_bits: int, max_work: int, budget: int, what: str = "search"
+) -> bytes:
+    """What decides a search's result: the map's definition, the range 0..top, the limits and the work budget;
+    ``what`` tells the search itself from what is counted from it (its basins)."""
     text = f"{definition_digest(mapping)}:{top}:{max_steps}:{max_bits}:{max_work}:{budget}"
+    if what != "search":  # a search's key as it always was: the searches kept stay valid
+        text += f":{what}"
     return hashlib.sha256(text.encode()).digest()
+
+
+def _counted(mapping: AffineMap, result: HuntResult, recheck: Recheck, key: bytes, memo: SearchMemo) -> Basins:
+    """The basins of every start up to ``recheck.up_to`` under its limits, counted from the search ``result``
+    of that range (its unresolved starts), or as ``memo`` keeps them under ``key``."""
+    kept = memo.search(key)
+    if isinstance(kept, Basins):
+        return kept
+    from builder.search.basins import basins  # with numba: only where basins are counted
+
+    found = basins(mapping, recheck.up_to, recheck.max_steps, recheck.max_bits, recheck.max_work, result.unresolved)
+    counted = Basins(tuple(Basin(b.cycle, b.starts, b.first) for b in found.basins), found.unknown)
+    memo.keep_search(key, counted)
+    return counted
+
+
+def _basin_text(basin: Basin | None) -> str:
+    if basin is None:
+        return "none"
+    return f"{basin.starts:,} start{'' if basin.starts == 1 else 's'} from {show(basin.first)}"
+
+
+def _compare_basins(claimed: Basins, counted: Basins) -> list[Placed]:
+    """The first basin the claim states otherwise than the count (the claim's word, then the search's), or
+    its unknown count; nothing when they agree."""
+    index = {b.cycle: i for i, b in enumerate(claimed.basins)}
+    found = {b.cycle for b in counted.basins}
+    pairs: list[tuple[int | None, Basin | None]] = [(index.get(b.cycle), b) for b in counted.basins]
+    pairs += [(i, None) for i, b in enumerate(claimed.basins) if b.cycle not in found]
+    for i, basin in pairs:
+        own = None if i is None else claimed.basins[i]
+        if own != basin:
+            cycle = own.cycle if own is not None else basin.cycle if basin is not None else 0
+            message = (
+                f"expected {_basin_text(own)} ending in the cycle through {show(cycle)}, "
+                f"got {_basin_text(basin)} (counted again from the search)"
+            )
+            return [(("basins",) if i is None else ("basins", i), message, "coverage-basins-differ", Severity.ERROR)]
+    if claimed.unknown != counted.unknown:
+        message = (
+            f"expected {claimed.unknown:,} starts ending in no known cycle, got {counted.unknown:,} "
+            "(counted again from the search)"
+        )
+        return [(("unknown",), message, "coverage-basins-differ", Severity.ERROR)]
+    return []
+
+
+def _listed_basins(claim: Coverage, cycles: Mapping[int, Cycle]) -> list[Placed]:
+    """Each cycle of the claim's basins whose least |member| is within the bound must be catalogued."""
+    if claim.basins is None:
+        return []
+    placed: list[Placed] = []
+    for i, basin in enumerate(claim.basins.basins):
+        if abs(basin.cycle) <= claim.bound and basin.cycle not in cycles:
+            message = (
+                f"expected a listed cycle's least |member|, or one beyond the bound {show(claim.bound)}, "
+                f"got {show(basin.cycle)}, which no cycle entry of the map has"
+            )
+            placed.append((("basins", i, "cycle"), message, "coverage-basin-unlisted", Severity.ERROR))
+    return placed
 
 
 def _findings(
@@ -187,7 +277,7 @@ class _Probe:
 
     def search(self, key: bytes) -> Any | None:
         kept = self.memo.search(key)
-        if not isinstance(kept, HuntResult):  # none, or not one this program keeps: searched again
+        if not isinstance(kept, HuntResult | Basins):  # none, or not one this program keeps: searched again
             raise _Missing
         return kept
 

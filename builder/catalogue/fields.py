@@ -20,6 +20,8 @@ from enum import StrEnum, auto
 from typing import Any
 
 __all__ = [
+    "BASIN",
+    "BASIN_LIMIT",
     "BRANCH",
     "COVERAGE",
     "COVERAGE_KINDS",
@@ -48,6 +50,9 @@ __all__ = [
 ]
 
 COVERAGE_KINDS = ("all-starts",)
+#: The largest bound a claim may give basins for: builder.search.basins.BASIN_LIMIT (2^22), which counts them in
+#: memory, written here too so that reading a map file needs no numerical library (tests/catalogue check both agree).
+BASIN_LIMIT = 1 << 22
 #: One-line text (names, summaries, titles...) is shown on many pages; a real record stays far below this.
 LINE_MAX_CHARACTERS = 1_000
 #: Every branch is shown on the map's page; a real record stays far below this.
@@ -189,6 +194,12 @@ def _claim_limit(name: str, what: str) -> Field:
     return Field(name, schema, f"{what} (at most 2^53 - 1)", True, reads=Reads.INTEGER)
 
 
+BASIN = Shape("a basin", (
+    Field("cycle", {"type": "integer"}, "the cycle's least \\|member\\| (the positive one on a tie)", True, reads=Reads.INTEGER),
+    Field("starts", {"type": "integer", "minimum": 1}, "how many starts with \\|n\\| <= bound end in the cycle", True, reads=Reads.INTEGER),
+    Field("first", {"type": "integer"}, "the first of them in the order 0, 1, -1, 2, -2, ...", True, reads=Reads.INTEGER),
+))  # fmt: skip
+
 COVERAGE = Shape("a coverage record", (
     Field("kind", {"enum": list(COVERAGE_KINDS)}, "`all-starts`: every start n with \\|n\\| <= bound was followed", True, reads=Reads.TEXT),
     Field("bound", {"type": "integer", "minimum": 0}, "the largest \\|start\\| covered", True, reads=Reads.INTEGER),
@@ -199,6 +210,17 @@ COVERAGE = Shape("a coverage record", (
     Field(
         "unresolved", {"type": "array", "items": {"type": "integer"}},
         "every start whose orbit was not resolved within the limits (none when left out)", reads=Reads.INTEGERS,
+    ),
+    Field(
+        "basins", {"type": "array", "items": BASIN.schema()},
+        f"for a bound up to 2^22 ({BASIN_LIMIT:,}): for each cycle the starts end in, `{{cycle, starts, first}}` "
+        "(fields below); each cycle with least \\|member\\| up to the bound must be listed in the catalogue",
+    ),
+    Field(
+        "unknown", {"type": "integer", "minimum": 0},
+        "with `basins`: how many starts end in no known cycle (the unresolved ones and those whose orbits reach one; "
+        "0 when left out). The basins' `starts` and `unknown` add up to 2 bound + 1",
+        reads=Reads.INTEGER,
     ),
 ))  # fmt: skip
 
@@ -281,6 +303,7 @@ SHAPES: Mapping[str, Shape] = {
     "map": MAP,
     "branch": BRANCH,
     "coverage": COVERAGE,
+    "basin": BASIN,
     "cycle": CYCLE,
     "provenance": PROVENANCE,
     "reference": REFERENCE,

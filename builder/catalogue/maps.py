@@ -3,12 +3,13 @@
 from __future__ import annotations
 
 from collections.abc import Collection
+from typing import Any
 
 from builder.arith.dynamics import AffineMap, branch_defects
 from builder.arith.integers import show
-from builder.catalogue.fields import BRANCH, COVERAGE, COVERAGE_KINDS, MAP, MAX_LIMIT, MAX_MODULUS
+from builder.catalogue.fields import BASIN, BASIN_LIMIT, BRANCH, COVERAGE, COVERAGE_KINDS, MAP, MAX_LIMIT, MAX_MODULUS
 from builder.catalogue.files import RawFile
-from builder.catalogue.model import Coverage, MapEntry
+from builder.catalogue.model import Basin, Basins, Coverage, MapEntry
 from builder.catalogue.nodes import Node, SequenceNode
 from builder.catalogue.reader import EntryReader, describe, open_entry, short
 from builder.errors import KeyPath, Problem
@@ -123,4 +124,79 @@ def _coverage(doc: EntryReader, node: Node, key_path: KeyPath) -> Coverage | Non
         return None
     found_on, method, unresolved = v["found_on"], v["method"], v.get("unresolved", [])
     assert kind is not None and found_on is not None and method is not None and unresolved is not None
-    return Coverage(kind, v["bound"], found_on, method, v["max_steps"], v["max_bits"], tuple(unresolved))
+    basins = _basins(doc, f, v, key_path) if "basins" in f or "unknown" in f else None
+    if len(doc.problems) > before:
+        return None
+    return Coverage(kind, v["bound"], found_on, method, v["max_steps"], v["max_bits"], tuple(unresolved), basins=basins)
+
+
+def _basins(doc: EntryReader, f: dict[str, Node], v: dict[str, Any], key_path: KeyPath) -> Basins | None:
+    """A claim's basins and unknown count, with the rules that need no search: each cycle and each first
+    start once, first starts within the bound (a cycle's own member among its starts), and the counts
+    adding up to every start up to the bound."""
+    bound: int = v["bound"]
+    before = len(doc.problems)
+    if "basins" not in f:
+        doc.error(f["unknown"], key_path + ("unknown",), "expected unknown only beside basins, got it without basins")
+        return None
+    path = key_path + ("basins",)
+    if bound > BASIN_LIMIT:
+        message = f"expected basins only for a bound up to {BASIN_LIMIT:,}, got them for the bound {show(bound)}"
+        doc.error(f["basins"], path, message, "basins-bound-too-large")
+        return None
+    listed = doc.listing(f["basins"], path, lambda n, p: _basin(doc, n, p, bound))
+    unknown = v.get("unknown", 0)
+    if listed is None or unknown is None:
+        return None
+    cycles: dict[int, int] = {}
+    firsts: dict[int, int] = {}
+    for i, basin in enumerate(listed):
+        item = f["basins"].items[i] if isinstance(f["basins"], SequenceNode) else None
+        if basin.cycle in cycles:
+            got = f"a second basin of the cycle through {show(basin.cycle)} (the first is item {cycles[basin.cycle]})"
+            doc.error(item, path + (i,), f"expected each cycle once, got {got}")
+        elif basin.first in firsts:
+            got = f"{show(basin.first)} as the first start of item {firsts[basin.first]} too"
+            doc.error(item, path + (i, "first"), f"expected each start in one basin, got {got}")
+        cycles.setdefault(basin.cycle, i)
+        firsts.setdefault(basin.first, i)
+    # A listed unresolved start ends in no known cycle, so unknown counts it; then every start is counted once.
+    within = sum(1 for s in set(v.get("unresolved") or ()) if abs(s) <= bound)
+    total = sum(b.starts for b in listed) + unknown
+    if len(doc.problems) > before:
+        return None
+    if unknown < within:
+        kind = "a count of at least 0" if within == 0 else f"at least {within:,} (the unresolved starts listed)"
+        doc.error(f.get("unknown", f["basins"]), key_path + ("unknown",), f"expected {kind}, got {show(unknown)}")
+    elif total != 2 * bound + 1:
+        message = f"expected the basins' starts and unknown to add up to 2 bound + 1 = {2 * bound + 1:,}, got {total:,}"
+        doc.error(f["basins"], path, message, "basins-count")
+    return None if len(doc.problems) > before else Basins(tuple(listed), unknown)
+
+
+def _basin(doc: EntryReader, node: Node, path: KeyPath, bound: int) -> Basin | None:
+    before = len(doc.problems)
+    f = doc.fields(node, path, BASIN)
+    if f is None or len(doc.problems) > before:
+        return None
+    v = doc.values(f, BASIN, path)
+    cycle, starts, first = v["cycle"], v["starts"], v["first"]
+    if cycle is None or starts is None or first is None:
+        return None
+    if starts < 1:
+        doc.error(f["starts"], path + ("starts",), f"expected a positive count of starts, got {show(starts)}")
+    elif abs(first) > bound:
+        message = f"expected a start with |n| <= {show(bound)} (the bound), got {show(first)}"
+        doc.error(f["first"], path + ("first",), message)
+    elif abs(cycle) <= bound and start_index(first) > start_index(cycle):
+        message = (
+            f"expected a start no later than {show(cycle)} in the order 0, 1, -1, 2, -2, ... (the cycle's own "
+            f"member ends in it), got {show(first)}"
+        )
+        doc.error(f["first"], path + ("first",), message)
+    return None if len(doc.problems) > before else Basin(cycle, starts, first)
+
+
+def start_index(s: int) -> int:
+    """The place of a start in the order 0, 1, -1, 2, -2, ... (builder.search.basins.start_index)."""
+    return 2 * s - 1 if s > 0 else -2 * s

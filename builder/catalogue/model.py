@@ -20,6 +20,8 @@ from builder.errors import Problem, Severity
 
 __all__ = [
     "PLACEHOLDER",
+    "Basin",
+    "Basins",
     "Catalogue",
     "Coverage",
     "Recheck",
@@ -99,13 +101,34 @@ class Recheck:
 
 
 @dataclass(frozen=True, slots=True)
+class Basin:
+    """The starts up to a claim's bound whose orbits end in one cycle: ``cycle`` is its canonical member,
+    ``starts`` how many they are, ``first`` the first of them in the order 0, 1, -1, 2, -2, ..."""
+
+    cycle: int
+    starts: int
+    first: int
+
+
+@dataclass(frozen=True, slots=True)
+class Basins:
+    """Every start with |n| <= a claim's bound by the cycle its orbit ends in (builder.search.basins counts
+    them); ``unknown`` starts are unresolved or reach one.  The counts and ``unknown`` add up to 2 bound + 1."""
+
+    basins: tuple[Basin, ...]
+    unknown: int
+
+
+@dataclass(frozen=True, slots=True)
 class Coverage:
     """A completeness claim: every start with |n| <= bound was iterated under the stated limits.
 
     It says: every cycle whose least |member| is at most ``bound`` is catalogued,
     and the starts in ``unresolved`` are exactly those whose orbits could not be
     resolved within ``max_steps`` steps and ``max_bits`` bits.  ``recheck`` is what
-    this verification searched again (None: nothing); the part beyond it is attested.
+    this verification searched again (None: nothing); the part beyond it is attested.  ``basins``
+    (None: the claim gives none) say where the starts end; they are compared with a count of the
+    search when the whole claim is searched again, and attested otherwise.
     """
 
     kind: str  # "all-starts"
@@ -116,6 +139,7 @@ class Coverage:
     max_bits: int
     unresolved: tuple[int, ...]
     recheck: Recheck | None = None
+    basins: Basins | None = None
 
     @property
     def rechecked_up_to(self) -> int:

@@ -45,7 +45,7 @@ __all__ = [
 ]
 
 #: Bump when what verification decides or keeps changes (a message, a check, a model object's fields).
-CACHE_FORMAT = 3
+CACHE_FORMAT = 4
 #: How long a run waits for another one writing the database before it gives up writing.
 _BUSY_SECONDS = 20.0
 #: The modules whose code decides a verification's outcome (relative to the package).

@@ -15,7 +15,9 @@ from typing import TypeAlias
 from builder.arith.integers import parse_decimal
 from builder.catalogue.cache import FOLDER_NAME, VerifyCache
 from builder.catalogue.limits import DEFAULT_MAX_STEPS, DEFAULT_MAX_WORK, DEFAULT_RECHECK_UP_TO, MAP_WORK_ORBITS, Limits
+from builder.errors import UsageError
 from builder.processes import default_jobs
+from builder.search.ledger import Ledger, LedgerError
 
 __all__ = [
     "Subcommands",
@@ -156,3 +158,13 @@ def jobs_of(args: argparse.Namespace) -> int:
 def add_command(subparsers: Subcommands, name: str, help_text: str, description: str) -> argparse.ArgumentParser:
     """A command's parser: its one-line help for ``periplus --help`` and its description for its own."""
     return subparsers.add_parser(name, help=help_text, description=description)
+
+
+def open_ledger(path: Path | None) -> Ledger | None:
+    """The ledger of --ledger (None without one); a file that is none is a usage error."""
+    if path is None:
+        return None
+    try:
+        return Ledger(path)
+    except LedgerError as exc:
+        raise UsageError(f"--ledger: {exc}") from None

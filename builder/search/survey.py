@@ -52,7 +52,7 @@ REASONS = ("steps", "magnitude", "work")
 _CHUNK_MAX = 1 << 16
 _CHUNKS_PER_JOB = 16
 
-_Task = tuple[AffineMap, int, int, int, int, int]
+_Task = tuple[AffineMap, int, int, int, int, int, bool]
 
 
 class SavedSurveyError(ValueError):
@@ -150,8 +150,20 @@ def _work(task: _Task) -> HuntResult:
     # Imported with numpy when a hunt runs: the program's other commands (a build) do without.
     from builder.search.engine import hunt_range
 
-    mapping, lo, hi, max_steps, max_bits, max_work = task
-    return hunt_range(mapping, lo, hi, max_steps, max_bits, max_work)
+    mapping, lo, hi, max_steps, max_bits, max_work, compiled = task
+    return hunt_range(mapping, lo, hi, max_steps, max_bits, max_work, compiled=compiled)
+
+
+def _engine_for(survey: Survey, low: int, high: int, pooled: bool) -> bool:
+    """Whether the chunks of low..high run in the compiled kernel (the engine's rule, for the whole range: its
+    chunks are smaller); when they do and run in a pool, the kernel is loaded here first, for the workers to
+    inherit instead of each loading it."""
+    from builder.search.engine import COMPILED_FROM, hunt_range
+
+    compiled = high - low + 1 >= COMPILED_FROM
+    if compiled and pooled:
+        hunt_range(survey.mapping, 0, 64, survey.max_steps, survey.max_bits, survey.max_work, compiled=True)
+    return compiled
 
 
 def _indexed(item: tuple[int, _Task]) -> tuple[int, HuntResult]:
@@ -210,7 +222,10 @@ def cover(survey: Survey, low: int, high: int, jobs: int, progress: Callable[[in
     if progress is None:
         progress = _quiet
     parts = chunks(low, high, jobs)
-    tasks = ((survey.mapping, lo, hi, survey.max_steps, survey.max_bits, survey.max_work) for lo, hi in parts)
+    compiled = _engine_for(survey, low, high, pooled=jobs > 1 and len(parts) > 1) if len(parts) else False
+    tasks = (
+        (survey.mapping, lo, hi, survey.max_steps, survey.max_bits, survey.max_work, compiled) for lo, hi in parts
+    )
     # Results of the chunks done so far: the contiguous prefix from the first chunk, and those
     # finished out of order (few: the pool hands chunks out in order).
     prefix: list[HuntResult] = []

@@ -169,10 +169,11 @@ def _map(m: MapRecord) -> dict[str, Any]:
     coverage = [
         _pick(
             claim,
-            "kind bound found_on method max_steps max_bits unresolved",
+            "kind bound found_on method max_steps max_bits unresolved unknown",
             rechecked_by_this_build="rechecked",
             rechecked_up_to_by_this_build="rechecked_up_to",
         )
+        | {"basins": None if claim.basins is None else [_pick(b, "cycle url starts first") for b in claim.basins]}
         for claim in m.coverage
     ]
     branches = [{"residue": i, "multiplier": a, "increment": b} for i, (a, b) in enumerate(m.branches)]

@@ -20,7 +20,7 @@ from itertools import repeat
 
 from builder.arith.integers import to_decimal
 
-__all__ = ["grouped", "grouped_ints"]
+__all__ = ["grouped", "grouped_ints", "percent"]
 
 # Up to this many digits, ``int`` reads the text well within Python's limit on conversions (4,300
 # digits) and ``format`` groups it in C; longer numbers are grouped by slicing the text.
@@ -71,3 +71,17 @@ def _sliced(text: str) -> str:
     head = len(digits) % 3 or 3
     groups = [digits[:head], *(digits[i : i + 3] for i in range(head, len(digits), 3))]
     return ("-" if negative else "") + ",".join(groups)
+
+
+def percent(part: int, whole: int) -> str:
+    """``part`` of ``whole`` (0 <= part <= whole, whole > 0) as a percentage with two decimals, rounded half up
+    with integers: "49.82%".  A share that is neither none nor all is never written as 0.00% or 100.00%, but
+    as "< 0.01%" or "> 99.99%", so that a reader never takes one start for none or most for all."""
+    if not 0 <= part <= whole or whole <= 0:
+        raise ValueError(f"expected 0 <= part <= whole and whole > 0, got {part} of {whole}")
+    hundredths = (part * 20_000 + whole) // (2 * whole)  # round(part / whole * 10,000), half up
+    if part and not hundredths:
+        return "< 0.01%"
+    if part < whole and hundredths == 10_000:
+        return "> 99.99%"
+    return f"{hundredths // 100}.{hundredths % 100:02d}%"

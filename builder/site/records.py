@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import heapq
 import sys
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from datetime import date
 from typing import NamedTuple, TypeVar
@@ -22,10 +22,12 @@ from builder.arith.words import word_text
 from builder.catalogue.model import Coverage, Cycle, MapEntry, Provenance, Record
 from builder.catalogue.relations import Relations
 from builder.history import Edition, FileHistory, NoHistory, RepoHistory
+from builder.site.numbers import percent
 from builder.site.paths import cycle_url, map_url
 
 __all__ = [
     "AboutRecord",
+    "BasinRecord",
     "CoverageRecord",
     "CycleRecord",
     "HistoryRecord",
@@ -168,6 +170,18 @@ class CycleRecord(NamedTuple):
         )
 
 
+class BasinRecord(NamedTuple):
+    """The starts up to a claim's bound that end in one cycle: the cycle's least |member| and its page (None when
+    the record lists no such cycle: its least member lies beyond the bound), how many starts, their share of all
+    starts up to the bound (text: "49.82%"), and the first of them in the order 0, 1, -1, 2, -2, ..."""
+
+    cycle: str
+    url: str | None
+    starts: int
+    share: str
+    first: str
+
+
 @dataclass(frozen=True, slots=True)
 class CoverageRecord:
     """A completeness claim (every start up to ``bound`` in absolute value was followed under the map),
@@ -185,11 +199,27 @@ class CoverageRecord:
     recheck_steps: int | None  # the limits it did so with (the claim's, capped by the build's)
     recheck_bits: int | None
     stopped_by: str | None  # why it stopped short of the bound: "recheck-up-to", "work" or "limits"
+    # Where the starts end, when the claim says (None: it does not): each cycle's basin, in the order of their
+    # first starts, and how many starts end in no known cycle, with its share.
+    basins: tuple[BasinRecord, ...] | None = None
+    all_starts: int | None = None  # 2 bound + 1, the starts the basins share
+    unknown: int | None = None
+    unknown_share: str | None = None
 
     @classmethod
-    def of(cls, claim: Coverage) -> CoverageRecord:
+    def of(cls, claim: Coverage, urls: Mapping[int, str] | None = None) -> CoverageRecord:
+        """``urls``: the pages of the map's cycles by least |member| (needed when the claim gives basins)."""
         recheck = claim.recheck
         searched = recheck is not None and recheck.up_to >= 0
+        basins = all_starts = unknown = unknown_share = None
+        if claim.basins is not None:
+            total, pages = 2 * claim.bound + 1, urls or {}
+            basins = tuple(
+                BasinRecord(to_decimal(b.cycle), pages.get(b.cycle), b.starts, percent(b.starts, total),
+                            to_decimal(b.first))
+                for b in claim.basins.basins
+            )  # fmt: skip
+            all_starts, unknown, unknown_share = total, claim.basins.unknown, percent(claim.basins.unknown, total)
         return cls(
             claim.kind,
             to_decimal(claim.bound),
@@ -203,6 +233,10 @@ class CoverageRecord:
             recheck.max_steps if recheck is not None else None,
             recheck.max_bits if recheck is not None else None,
             recheck.stopped_by if recheck is not None and not claim.rechecked else None,
+            basins,
+            all_starts,
+            unknown,
+            unknown_share,
         )
 
 
@@ -234,6 +268,8 @@ class MapRecord:
         about: AboutRecord,
     ) -> MapRecord:
         branches = tuple((to_decimal(a), to_decimal(b)) for a, b in entry.branches)
+        with_basins = any(c.basins is not None for c in entry.coverage)
+        urls = {r.cycle.canonical: r.url for r in cycles} if with_basins else None
         return cls(
             entry.id,
             entry.name,
@@ -244,7 +280,7 @@ class MapRecord:
             entry.notes,
             tuple(entry.references),
             rel.mirror_map.get(entry.id),
-            tuple(CoverageRecord.of(c) for c in entry.coverage),
+            tuple(CoverageRecord.of(c, urls) for c in entry.coverage),
             history,
             cycles,
             about,

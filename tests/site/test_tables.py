@@ -300,7 +300,12 @@ def test_every_table_wrapper_has_a_label_of_its_own(site: Built) -> None:
         seen += len(labels)
     assert seen > 100
     labels = [w["aria-label"] for w in site.pages["maps/3x-plus-1/index.html"].select(".table-wrap")]
-    assert labels == ["Branches of 3x+1", "Cycles of 3x+1"]
+    assert labels == [
+        "Branches of 3x+1",
+        "Basins of the starts with |n| ≤ 100,000, claim 1",
+        "Basins of the starts with |n| ≤ 1,000,000, claim 2",
+        "Cycles of 3x+1",
+    ]
 
 
 def test_every_cell_of_a_stacked_table_carries_its_column_s_label(site: Built) -> None:
