@@ -317,7 +317,7 @@ def test_every_cell_of_a_stacked_table_carries_its_column_s_label(site: Built) -
         for table in soup.select("table.stack"):
             heads = headers_of(table)
             for row in table.select("tbody tr"):
-                cells = row.find_all("td", recursive=False)
+                cells = row.find_all(["th", "td"], recursive=False)  # a row's header cell is labelled too
                 assert [str(td.get("data-label")) for td in cells] == heads, f"{rel}: {row}"
                 seen += 1
         for table in soup.select("table.stack-later"):
