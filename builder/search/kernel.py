@@ -7,11 +7,15 @@ takes, for each, only the decisions the definition takes at the very step it tak
 * event (b), the orbit reaches a value that precedes the start;
 * event (m), when max_bits is below 62, a value has more than max_bits bits.
 
-Every other start is handed to the exact reference (builder.search.definition.settle), which
-restarts it from scratch, so nothing done here can change its fate:
+Every other start is handed on, so nothing done here can change its fate:
 
 * a value beyond the overflow bound L of ``builder.search.engine.int64_bound`` (the next step
-  could leave int64);
+  could leave int64): reported with its step and value (``Decided.escaped``), for the multi-word
+  follower (builder.search.wide) or the exact path;
+
+and the rest to the exact reference (builder.search.definition.settle), which restarts each from
+scratch:
+
 * an orbit still undecided after ``steps`` steps, a bound chosen by the caller that keeps the work
   of those steps under max_work (``engine.hunt_range``);
 * an orbit that repeats a value without returning to its start (Brent's comparison with the value

@@ -385,11 +385,15 @@ def test_a_family_hunt_keeps_a_ledger_and_resumes_from_it(capsys: pytest.Capture
     assert code == 0, out
     first = {p.relative_to(tmp_path).as_posix(): p.read_bytes() for p in (tmp_path / "c").rglob("*.yaml")}
     assert {"c/cycles/3x-plus-5/19.yaml", "c/cycles/3x-plus-5/23.yaml", "c/cycles/3x-plus-7/5.yaml"} <= set(first)
-    import sqlite3
+    from builder.arith.dynamics import AffineMap
+    from builder.search.ledger import Ledger
 
-    with sqlite3.connect(ledger) as db:
-        tables = {row[0] for row in db.execute("select name from sqlite_master where type = 'table'")}
-        assert tables  # the ledger's own layout: builder.search.ledger
+    held = Ledger(ledger)
+    try:  # 0..2,000 in units of 500 magnitudes: 5 units for each of the two maps
+        for d in (5, 7):
+            assert len(held.recorded(AffineMap(2, ((1, 0), (3, d))))) == 5
+    finally:
+        held.close()
     code, out, _ = run(capsys, *argv)
     assert code == 0, out
     again = {p.relative_to(tmp_path).as_posix(): p.read_bytes() for p in (tmp_path / "c").rglob("*.yaml")}
