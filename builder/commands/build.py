@@ -20,8 +20,6 @@ from builder.commands.options import (
 )
 from builder.commands.summary import show_report
 from builder.errors import UsageError
-from builder.history import NoHistory
-from builder.site.build import build_site
 
 __all__ = ["register", "run"]
 
@@ -57,6 +55,9 @@ def register(subparsers: Subcommands) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Run ``periplus build``; return the exit status."""
+    from builder.history import NoHistory  # a later stage: imported here (builder.commands.main)
+    from builder.site.build import build_site
+
     base_url = args.base_url
     if base_url is not None:
         base_url = site_address(args.base_url)

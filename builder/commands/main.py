@@ -1,4 +1,10 @@
-"""The ``periplus`` command line: the parser built from the command modules, and the one error handler."""
+"""The ``periplus`` command line: the parser built from the command modules, and the one error handler.
+
+Every command module is imported to build the parser, so a module imports at its top only what its
+parser and the catalogue stage need; a command that needs a later stage (the site, the diff, the
+history) imports it in its ``run``.  ``periplus verify`` then does not load Jinja, Markdown and the page
+code it never uses (tests/commands/test_cli.py checks which stages the command line loads).
+"""
 
 from __future__ import annotations
 

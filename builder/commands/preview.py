@@ -6,7 +6,6 @@ import argparse
 from pathlib import Path
 
 from builder.commands.options import Subcommands
-from builder.site.preview import open_server, serving_text
 
 __all__ = ["register", "run"]
 
@@ -25,6 +24,8 @@ def register(subparsers: Subcommands) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Run ``periplus preview`` until Ctrl-C (which the shared handler turns into exit status 130)."""
+    from builder.site.preview import open_server, serving_text  # a later stage: imported here (builder.commands.main)
+
     server = open_server(args.site, args.port, HOST)
     with server:
         print(serving_text(args.site, HOST, server), flush=True)

@@ -9,9 +9,7 @@ from pathlib import Path
 from builder.catalogue import Report, verify_catalogue, verify_source
 from builder.catalogue.cache import FOLDER_NAME, default_cache_folder
 from builder.commands.options import Subcommands, add_cache, add_command, add_limits, limits_of, open_cache
-from builder.diff import compare, github_commands, render_markdown
 from builder.errors import NoCatalogueAtRevision, UsageError
-from builder.history.revisions import catalogue_path, empty_source, repository_top, revision_source
 
 __all__ = ["register", "run"]
 
@@ -62,6 +60,8 @@ def _reports(args: argparse.Namespace) -> tuple[Report, Report, str, str, str]:
             base = verify_catalogue(base_root, limits_of(args), cache)
             head = verify_catalogue(head_root, limits_of(args), cache)
         return base, head, head_root.as_posix(), args.base, args.head
+    from builder.history.revisions import catalogue_path, empty_source, repository_top, revision_source
+
     repo = args.repo if args.repo is not None else Path.cwd()
     path = args.path if args.path is not None else "catalogue"
     top = repository_top(repo)
@@ -82,6 +82,9 @@ def _reports(args: argparse.Namespace) -> tuple[Report, Report, str, str, str]:
 
 def run(args: argparse.Namespace) -> int:
     """Run ``periplus review``; return the exit status."""
+    # a later stage: imported here (builder.commands.main)
+    from builder.diff import compare, github_commands, render_markdown
+
     base, head, prefix, base_label, head_label = _reports(args)
     comparison = compare(base, head)
     if args.format == "github":

@@ -24,11 +24,11 @@ from dataclasses import dataclass
 
 import numpy as np
 import numpy.typing as npt
-from numba import njit
 
 from builder.arith.dynamics import AffineMap, CycleFound
 from builder.search.definition import settle
 from builder.search.engine import hunt_range, int64_bound
+from builder.search.jit import njit
 from builder.search.kernel import I64, step_of, tables
 
 __all__ = ["BASIN_LIMIT", "Basin", "Basins", "basins", "start_at", "start_index"]
@@ -121,9 +121,7 @@ def basins(
     _inherit(parent, basin)
     counts = np.bincount(basin[basin >= 0], minlength=len(cycles))
     firsts = _firsts(basin, len(cycles))
-    found = tuple(
-        Basin(c, int(counts[k]), start_at(int(firsts[k]))) for k, c in enumerate(cycles) if counts[k]
-    )
+    found = tuple(Basin(c, int(counts[k]), start_at(int(firsts[k]))) for k, c in enumerate(cycles) if counts[k])
     return Basins(bound, tuple(sorted(found, key=lambda b: start_index(b.first))), int((basin < 0).sum()))
 
 

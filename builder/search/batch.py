@@ -1,6 +1,6 @@
 """The hunt's numpy engine: the kernel's decisions (builder.search.kernel) taken on batches of starts at once.
 
-For a small range numba's fixed cost (about a second of CPU and 130 MB for its compiler in every
+For a small range numba's fixed cost (about 0.6 s of CPU and 100 MB for its compiler in every
 process that loads it) outweighs its speed, so builder.search.engine gives such ranges to this
 module, which needs numpy alone.  Each batch holds one lane per start, as int64.  Every step, each
 active lane computes T with per-residue multiplier and increment tables, then retires when event

@@ -34,7 +34,7 @@ __all__ = ["hunt_range", "int64_bound"]
 DEFAULT_BATCH = 1 << 18
 NUMPY_BATCH = 1 << 15
 #: Ranges of at least this many magnitudes go to the compiled kernel (when numba is not loaded yet: a
-#: smaller range is decided sooner by numpy than numba starts, and numba costs each process ~130 MB).
+#: smaller range is decided sooner by numpy than numba starts, and numba costs each process ~100 MB).
 COMPILED_FROM = 1 << 16
 #: Orbits past int64 go to the compiled follower (builder.search.wide) from this many in one range.
 WIDE_FROM = 32
@@ -140,9 +140,7 @@ def hunt_range(
     return result
 
 
-def _decide(
-    mapping: AffineMap, lo: int, hi: int, bounds: tuple[int, int, int], sieve: bool, compiled: bool
-) -> Decided:
+def _decide(mapping: AffineMap, lo: int, hi: int, bounds: tuple[int, int, int], sieve: bool, compiled: bool) -> Decided:
     steps, limit, magnitude_limit = bounds
     if compiled:
         from builder.search.kernel import decide  # numba, loaded only when a hunt needs it

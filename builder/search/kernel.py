@@ -59,10 +59,10 @@ from dataclasses import dataclass
 
 import numpy as np
 import numpy.typing as npt
-from numba import njit
 
 from builder.arith.dynamics import AffineMap
 from builder.search.batch import Decided
+from builder.search.jit import njit
 
 __all__ = ["Sieve", "Tables", "decide", "sieve_applies", "sieve_depth", "sieve_of", "step_of", "tables"]
 

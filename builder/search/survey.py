@@ -224,9 +224,7 @@ def cover(survey: Survey, low: int, high: int, jobs: int, progress: Callable[[in
         progress = _quiet
     parts = chunks(low, high, jobs)
     compiled = _engine_for(survey, low, high, pooled=jobs > 1 and len(parts) > 1) if len(parts) else False
-    tasks = (
-        (survey.mapping, lo, hi, survey.max_steps, survey.max_bits, survey.max_work, compiled) for lo, hi in parts
-    )
+    tasks = ((survey.mapping, lo, hi, survey.max_steps, survey.max_bits, survey.max_work, compiled) for lo, hi in parts)
     # Results of the chunks done so far: the contiguous prefix from the first chunk, and those
     # finished out of order (few: the pool hands chunks out in order).
     prefix: list[HuntResult] = []

@@ -26,9 +26,9 @@ from __future__ import annotations
 
 import numpy as np
 import numpy.typing as npt
-from numba import njit
 
 from builder.arith.dynamics import STEP_FLOOR_BITS, AffineMap
+from builder.search.jit import njit
 
 __all__ = ["follow", "follows"]
 

@@ -439,3 +439,18 @@ def test_bidirectional_controls_are_escaped_in_diagnostics(cli, tmp_path: Path) 
     assert run.code == 1
     assert not set(run.out) & {"\u2066", "\u202e"}
     assert "got '3x-plus\\u2066-1\\u202e'" in run.out
+
+
+def test_the_command_line_loads_no_later_stage_before_a_command_needs_it() -> None:
+    # What builder.commands.main's docstring promises: building the parser (and so every `periplus verify`)
+    # loads neither the site, diff and history stages nor their libraries (common practice, no source:
+    # import a heavy dependency only where it is used).
+    probe = (
+        "import sys\n"
+        "from builder.commands.main import parser\n"
+        "parser()\n"
+        "later = ('builder.site', 'builder.diff', 'builder.history', 'jinja2', 'markdown', 'numba')\n"
+        "loaded = sorted(m for m in sys.modules if m.split('.')[0] in later or m.rsplit('.', 1)[0] in later)\n"
+        "assert not loaded, loaded\n"
+    )
+    subprocess.run([sys.executable, "-c", probe], check=True, cwd=REPO)
