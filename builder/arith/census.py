@@ -49,6 +49,7 @@ import gmpy2
 
 __all__ = [
     "ClassBound",
+    "ClassRow",
     "class_bound",
     "class_side",
     "first_admitted",
@@ -65,6 +66,21 @@ def class_side(q: int, d: int, k: int, x: int) -> int:
         raise ValueError(f"expected 0 <= x <= k and k >= 1, got k={k}, x={x}")
     side = 1 if (1 << k) > q**x else -1
     return side if d > 0 else -side
+
+
+@dataclass(frozen=True, slots=True)
+class ClassRow:
+    """One class (k, x): its number of words L(k, x), its target 2^k - q^x, bound(k, x) (rule (B)), its status,
+    the words tried and the cycles found (canonical first members), when enumerated."""
+
+    k: int
+    x: int
+    words: int
+    target: int
+    bound: int
+    status: str
+    tried: int = 0
+    cycles: tuple[int, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)

@@ -23,6 +23,8 @@ __all__ = [
     "BASIN",
     "BASIN_LIMIT",
     "BRANCH",
+    "CENSUS",
+    "CENSUS_MAX_LENGTH",
     "COVERAGE",
     "COVERAGE_KINDS",
     "LINE_MAX_CHARACTERS",
@@ -50,6 +52,8 @@ __all__ = [
 ]
 
 COVERAGE_KINDS = ("all-starts",)
+#: The longest census claim: every build decides each length's classes again (builder.search.census_map).
+CENSUS_MAX_LENGTH = 10_000
 #: The largest bound a claim may give basins for: builder.search.basins.BASIN_LIMIT (2^22), which counts them in
 #: memory, written here too so that reading a map file needs no numerical library (tests/catalogue check both agree).
 BASIN_LIMIT = 1 << 22
@@ -224,6 +228,15 @@ COVERAGE = Shape("a coverage record", (
     ),
 ))  # fmt: skip
 
+CENSUS = Shape("a census record", (
+    Field(
+        "up_to", {"type": "integer", "minimum": 1, "maximum": CENSUS_MAX_LENGTH},
+        f"every cycle of at most this many steps is listed (1 to {CENSUS_MAX_LENGTH:,})", True, reads=Reads.INTEGER,
+    ),
+    Field("found_on", DATE, "when the census was taken", True, reads=Reads.DATE),
+    Field("method", TEXT, "how it was taken (program, command, machine)", True, reads=Reads.TEXT),
+))  # fmt: skip
+
 MAP = Shape("a map entry", (
     Field("name", LINE, "display name, one line", True, reads=Reads.LINE),
     Field(
@@ -247,6 +260,18 @@ MAP = Shape("a map entry", (
             "items": COVERAGE.schema(),
         },
         "list of completeness claims (fields below), rechecked by every build up to `--recheck-up-to`",
+    ),
+    Field(
+        "census",
+        {
+            "description": "Completeness claims by length, for maps n/2, (qn+d)/2 with q and d odd: every cycle of "
+            "at most up_to steps is listed. Each build proves it again from the necklaces of each length and the "
+            "rechecked coverage bound, within its census budget.",
+            "type": "array",
+            "items": CENSUS.schema(),
+        },
+        "list of census claims (fields below), for maps n/2, (qn+d)/2 with q, d odd; rechecked by every build "
+        "within `--census-words`",
     ),
 ))  # fmt: skip
 
@@ -303,6 +328,7 @@ SHAPES: Mapping[str, Shape] = {
     "map": MAP,
     "branch": BRANCH,
     "coverage": COVERAGE,
+    "census": CENSUS,
     "basin": BASIN,
     "cycle": CYCLE,
     "provenance": PROVENANCE,

@@ -1,15 +1,26 @@
-"""Map entries (``maps/<id>.yaml``): the definition, checked to be well defined, and its coverage claims."""
+"""Map entries (``maps/<id>.yaml``): the definition, checked to be well defined, and its coverage and census claims."""
 
 from __future__ import annotations
 
 from collections.abc import Collection
 from typing import Any
 
-from builder.arith.dynamics import AffineMap, branch_defects
+from builder.arith.dynamics import AffineMap, branch_defects, shortcut_form
 from builder.arith.integers import show
-from builder.catalogue.fields import BASIN, BASIN_LIMIT, BRANCH, COVERAGE, COVERAGE_KINDS, MAP, MAX_LIMIT, MAX_MODULUS
+from builder.catalogue.fields import (
+    BASIN,
+    BASIN_LIMIT,
+    BRANCH,
+    CENSUS,
+    CENSUS_MAX_LENGTH,
+    COVERAGE,
+    COVERAGE_KINDS,
+    MAP,
+    MAX_LIMIT,
+    MAX_MODULUS,
+)
 from builder.catalogue.files import RawFile
-from builder.catalogue.model import Basin, Basins, Coverage, MapEntry
+from builder.catalogue.model import Basin, Basins, Census, Coverage, MapEntry
 from builder.catalogue.nodes import Node, SequenceNode
 from builder.catalogue.reader import EntryReader, describe, open_entry, short
 from builder.errors import KeyPath, Problem
@@ -36,11 +47,20 @@ def check_map(raw: RawFile, known: Collection[str] | None, problems: list[Proble
         modulus = None
     branches = _check_branches(doc, f["branches"], modulus) if "branches" in f and modulus is not None else None
     coverage = doc.listing(f["coverage"], ("coverage",), lambda n, p: _coverage(doc, n, p)) if "coverage" in f else []
-    if doc.failed or branches is None or coverage is None:
+    census = doc.listing(f["census"], ("census",), lambda n, p: _census(doc, n, p)) if "census" in f else []
+    if doc.failed or branches is None or coverage is None or census is None or modulus is None:
+        return None
+    dynamics = AffineMap(modulus, branches)
+    if census and shortcut_form(dynamics) is None:
+        message = (
+            "expected census claims only for a map n/2, (qn+d)/2 with q and d odd (modulus 2, branches (1, 0) and "
+            f"(q, d)), got modulus {show(modulus)} with branches {', '.join(map(str, branches))}"
+        )
+        doc.error(f["census"], ("census",), message, "census-map-shape")
         return None
     name, summary, notes, refs = v.get("name"), v.get("summary"), v.get("notes"), v.get("references", [])
     assert name is not None and summary is not None and refs is not None and modulus is not None
-    return MapEntry(raw.id, name, summary, notes, tuple(refs), AffineMap(modulus, branches), raw.path, tuple(coverage))
+    return MapEntry(raw.id, name, summary, notes, tuple(refs), dynamics, raw.path, tuple(coverage), tuple(census))
 
 
 def _check_branches(doc: EntryReader, node: Node, modulus: int) -> tuple[tuple[int, int], ...] | None:
@@ -128,6 +148,24 @@ def _coverage(doc: EntryReader, node: Node, key_path: KeyPath) -> Coverage | Non
     if len(doc.problems) > before:
         return None
     return Coverage(kind, v["bound"], found_on, method, v["max_steps"], v["max_bits"], tuple(unresolved), basins=basins)
+
+
+def _census(doc: EntryReader, node: Node, key_path: KeyPath) -> Census | None:
+    """A census record: up_to (1 to CENSUS_MAX_LENGTH), found_on, method."""
+    before = len(doc.problems)
+    f = doc.fields(node, key_path, CENSUS)
+    if f is None or len(doc.problems) > before:
+        return None
+    v = doc.values(f, CENSUS, key_path)
+    up_to = v["up_to"]
+    if up_to is not None and not 1 <= up_to <= CENSUS_MAX_LENGTH:
+        message = f"expected a length from 1 to {CENSUS_MAX_LENGTH:,}, got {show(up_to)}"
+        doc.error(f["up_to"], key_path + ("up_to",), message)
+    if len(doc.problems) > before:
+        return None
+    found_on, method = v["found_on"], v["method"]
+    assert up_to is not None and found_on is not None and method is not None
+    return Census(up_to, found_on, method)
 
 
 def _basins(doc: EntryReader, f: dict[str, Node], v: dict[str, Any], key_path: KeyPath) -> Basins | None:

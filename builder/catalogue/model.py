@@ -13,6 +13,7 @@ from datetime import date
 from pathlib import Path
 from typing import ClassVar
 
+from builder.arith.census import ClassRow
 from builder.arith.dynamics import AffineMap, Equation
 from builder.arith.words import rotate
 from builder.catalogue.written import WrittenEntry
@@ -23,6 +24,8 @@ __all__ = [
     "Basin",
     "Basins",
     "Catalogue",
+    "Census",
+    "CensusCheck",
     "Coverage",
     "Recheck",
     "Cycle",
@@ -158,6 +161,50 @@ class Coverage:
 
 
 @dataclass(frozen=True, slots=True)
+class CensusCheck:
+    """What one verification proved of a census claim (builder.search.census_map.MapCensus, kept as it ended).
+
+    Lengths 1..``up_to`` are settled: every class excluded by ``search_bound`` (the rechecked coverage
+    bound, -1: none) or enumerated, ``words`` words in all; ``stopped_by`` is the first class left over
+    the budget (None: none was, or the census was not taken further).  ``rows`` are the classes that are
+    not excluded, ``excluded`` the count of those that are, ``cycles`` the canonical members found.
+    """
+
+    up_to: int
+    search_bound: int
+    words: int
+    stopped_by: tuple[int, int] | None
+    rows: tuple[ClassRow, ...]
+    excluded: int
+    cycles: tuple[int, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class Census:
+    """A completeness claim by length: every cycle of at most ``up_to`` steps is listed.  ``check`` is what this
+    verification proved (None: nothing); the part beyond it is attested."""
+
+    up_to: int
+    found_on: date
+    method: str
+    check: CensusCheck | None = None
+
+    @property
+    def rechecked_up_to(self) -> int:
+        """The longest length this verification proved complete (0: none)."""
+        return 0 if self.check is None else min(self.check.up_to, self.up_to)
+
+    @property
+    def rechecked(self) -> bool:
+        return self.rechecked_up_to >= self.up_to
+
+    @property
+    def attested(self) -> bool:
+        """Whether part of the claim rests on its word alone (this verification did not prove it)."""
+        return not self.rechecked
+
+
+@dataclass(frozen=True, slots=True)
 class MapEntry:
     id: str
     name: str
@@ -167,6 +214,7 @@ class MapEntry:
     dynamics: AffineMap
     path: Path
     coverage: tuple[Coverage, ...] = ()
+    census: tuple[Census, ...] = ()
 
     @property
     def modulus(self) -> int:

@@ -21,6 +21,7 @@ from typing import TypeGuard
 from builder.arith.dynamics import AffineMap
 from builder.arith.integers import show
 from builder.catalogue.cache import PathsUnder, VerifyCache, definition_digest, scope_of
+from builder.catalogue.census import recheck_census
 from builder.catalogue.coverage import recheck_coverage, searches_ahead
 from builder.catalogue.cycles import check_cycle
 from builder.catalogue.files import (
@@ -440,6 +441,8 @@ class _Verification:
                 where = partial(self.where, entry.path)
                 found = self.by_map.get(map_id, {})
                 self.maps[map_id] = recheck_coverage(entry, found, self.limits, self.problems, where, self.cache)
+        if self.limits.recheck_up_to >= 0 and any(entry.census for entry in self.maps.values()):
+            recheck_census(self.maps, self.by_map, self.limits, self.problems, lambda e, key: self.where(e.path, key))
         catalogue = Catalogue(
             root=self.raw.root,
             maps=MappingProxyType(dict(sorted(self.maps.items()))),

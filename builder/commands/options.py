@@ -14,7 +14,14 @@ from typing import TypeAlias
 
 from builder.arith.integers import parse_decimal
 from builder.catalogue.cache import FOLDER_NAME, VerifyCache
-from builder.catalogue.limits import DEFAULT_MAX_STEPS, DEFAULT_MAX_WORK, DEFAULT_RECHECK_UP_TO, MAP_WORK_ORBITS, Limits
+from builder.catalogue.limits import (
+    DEFAULT_CENSUS_WORDS,
+    DEFAULT_MAX_STEPS,
+    DEFAULT_MAX_WORK,
+    DEFAULT_RECHECK_UP_TO,
+    MAP_WORK_ORBITS,
+    Limits,
+)
 from builder.errors import UsageError
 from builder.processes import default_jobs
 from builder.search.ledger import Ledger, LedgerError
@@ -70,7 +77,7 @@ def add_catalogue(parser: argparse.ArgumentParser, positional: bool = True) -> N
 
 def limits_of(args: argparse.Namespace) -> Limits:
     """The verification limits given by add_limits' options."""
-    return Limits(args.max_steps, args.max_bits, args.recheck_up_to, args.max_work)
+    return Limits(args.max_steps, args.max_bits, args.recheck_up_to, args.max_work, args.census_words)
 
 
 def add_max_work(parser: argparse.ArgumentParser, extra: str = "") -> None:
@@ -110,6 +117,14 @@ def add_limits(parser: argparse.ArgumentParser) -> None:
         metavar="N",
         help="re-run every coverage claim for the starts with |n| up to N; the part of a claim beyond N "
         f"is shown as attested (default {DEFAULT_RECHECK_UP_TO:,})",
+    )
+    parser.add_argument(
+        "--census-words",
+        type=natural,
+        default=DEFAULT_CENSUS_WORDS,
+        metavar="W",
+        help="prove census claims again trying at most W words in all, shortest lengths first; a claim left "
+        f"beyond them is shown as attested (default {DEFAULT_CENSUS_WORDS:,})",
     )
 
 

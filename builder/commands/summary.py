@@ -26,6 +26,10 @@ def summary(report: Report) -> str:
     warnings = len(report.problems) - len(errors)
     attested = sum(claim.attested for entry in cat.maps.values() for claim in entry.coverage)
     partly = f"; {count(attested, 'coverage claim')} attested beyond what this run searched again" if attested else ""
+    by_word = sum(claim.attested for entry in cat.maps.values() for claim in entry.census)
+    if by_word:
+        partly += f"; {count(by_word, 'census claim')} attested beyond what this run proved"
+    attested += by_word
     if not errors:
         tail = f" ({count(warnings, 'warning')})" if warnings else ""
         holds = "every claim holds" if not attested else "every claim holds as far as it was checked"

@@ -18,6 +18,7 @@ import numpy.typing as npt
 
 from builder.arith.census import lyndon_words
 from builder.arith.dynamics import AffineMap, CycleFound, cycle_equation, from_canonical
+from builder.arith.words import divisors, mobius
 from builder.processes import share_work
 
 __all__ = [
@@ -106,10 +107,11 @@ def class_divisors(q: int, k: int, x: int, admissible: Iterable[int]) -> tuple[i
 
 
 def words_in_length(k: int) -> int:
-    """The aperiodic necklaces of length k, all x together (what a scan of the length tries)."""
-    from builder.arith.words import necklace_row
-
-    return sum(necklace_row(k))
+    """The aperiodic necklaces of length k, all x together (what a scan of the length tries): Witt's formula
+    (1/k) sum over j | k of mu(j) 2^(k/j), Moreau's count summed over x."""
+    total = sum(mobius(j) * (1 << (k // j)) for j in divisors(k))
+    assert total % k == 0, k
+    return total // k
 
 
 Wanted = Callable[[int, int], tuple[int, ...]]

@@ -21,36 +21,22 @@ The census claims the lengths up to the last one before its first unsettled clas
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import gmpy2
 
-from builder.arith.census import class_bound, class_side
+from builder.arith.census import ClassRow, class_bound, class_side
 from builder.arith.dynamics import CycleFound
-from builder.arith.words import divisors, necklace_row
-from builder.search.census import Scan, class_divisors, close, scan_words, target
+from builder.arith.words import aperiodic_necklace_count, divisors
+from builder.search.census import Scan, class_divisors, close, scan_words, target, words_in_length
 
-__all__ = ["ClassRow", "MapCensus", "map_census"]
+__all__ = ["MapCensus", "Plan", "map_census", "plan_census", "settle"]
 
 EXCLUDED = "excluded"
 ENUMERATED = "enumerated"
 OVER_BUDGET = "over budget"
 NO_WORDS = "no words"
-
-
-@dataclass(frozen=True, slots=True)
-class ClassRow:
-    """One class (k, x): its number of words L(k, x), its target 2^k - q^x, bound(k, x) (rule (B)), its status,
-    the words tried and the cycles found (canonical first members), when enumerated."""
-
-    k: int
-    x: int
-    words: int
-    target: int
-    bound: int
-    status: str
-    tried: int = 0
-    cycles: tuple[int, ...] = ()
 
 
 @dataclass
@@ -89,83 +75,134 @@ def _excluded(q: int, d: int, n: int, k: int, x: int) -> bool:
 
 
 def _open_classes(q: int, d: int, n: int, k: int) -> list[int]:
-    """The x of length k that the search bound does not exclude: a segment on each side of k / log2 q."""
-    # the last x with q^x < 2^k (side +1 of qx + |d|): proposed by a float, settled by integers
-    split = min(k, int(k / math.log2(q))) if q > 1 else k
-    while split < k and q ** (split + 1) < (1 << k):
-        split += 1
-    while split > 0 and q**split > (1 << k):
-        split -= 1
-    found: list[int] = []
+    """The x of length k that the search bound does not exclude: a segment on each side of k / log2 q.
+
+    Floats only propose where each segment ends; each end is taken once exact comparisons on both of its sides
+    confirm it, and found by bisection otherwise."""
+    # the last x with q^x < 2^k (side +1 of qx + |d|)
+    split = _last(lambda x: x == 0 or q**x < (1 << k), 0, k, _guess(k, q))
+    e = abs(d)
+    m = n + 1
     # side +1 (x = 0..split): excluded for small x, open from some x on
-    low, high = 0, split + 1  # excluded(low) holds (x = 0); find the first open x in 1..split
-    while high - low > 1:
-        middle = (low + high) // 2
-        if _excluded(q, d, n, k, middle):
-            low = middle
-        else:
-            high = middle
-    found += range(high, split + 1)
+    first_open = 1 + _last(lambda x: _excluded(q, d, n, k, x), 0, split, _guess(k, q + e / m, ceiling=True) - 1)
     # side -1 (x = split+1..k): open up to some x, excluded from there on
-    low, high = split, k + 1  # find the last open x
+    ratio = q - e / max(m, e // q + 1)
+    guess = _guess(k, ratio) if ratio > 1 else k
+    last_open = _last(lambda x: x == split or not _excluded(q, d, n, k, x), split, k, guess)
+    return list(range(first_open, split + 1)) + list(range(split + 1, last_open + 1))
+
+
+def _guess(k: int, base: float, ceiling: bool = False) -> int:
+    """k / log2(base), rounded down (or up): a float's proposal, which exact comparisons then check."""
+    value = k / math.log2(base) if base > 1 else float(k)
+    return math.ceil(value) if ceiling else math.floor(value)
+
+
+def _last(holds: Callable[[int], bool], low: int, high: int, guess: int) -> int:
+    """The last x in low..high where ``holds``, given holds(low) and that it holds on an initial segment."""
+    guess = min(max(guess, low), high)
+    if holds(guess) and (guess == high or not holds(guess + 1)):
+        return guess
+    high += 1  # not holds(high), or beyond the range
     while high - low > 1:
         middle = (low + high) // 2
-        if _excluded(q, d, n, k, middle):
-            high = middle
-        else:
+        if holds(middle):
             low = middle
-    found += range(split + 1, low + 1)
-    return found
+        else:
+            high = middle
+    return low
+
+
+@dataclass
+class Plan:
+    """What a census of n/2, (qn + d)/2 up to ``up_to`` needs beyond its search bound: for each length with open
+    classes, those x (``lengths``); and how many classes of each length the bound excludes."""
+
+    q: int
+    d: int
+    up_to: int
+    search_bound: int
+    lengths: list[tuple[int, list[int]]] = field(default_factory=list)
+    excluded: dict[int, int] = field(default_factory=dict)
+
+
+def plan_census(q: int, d: int, up_to: int, search_bound: int) -> Plan:
+    """The classes of lengths 1..up_to that the search bound leaves open (classes with words only: L(k, x) > 0
+    exactly for 0 < x < k, and for both x of length 1)."""
+    plan = Plan(q, d, up_to, search_bound)
+    for k in range(1, up_to + 1):
+        open_x = [x for x in _open_classes(q, d, search_bound, k) if k == 1 or 0 < x < k]
+        plan.excluded[k] = (2 if k == 1 else k - 1) - len(open_x)
+        if open_x:
+            plan.lengths.append((k, open_x))
+    return plan
+
+
+def settle(plans: list[Plan], budget: int, jobs: int = 1) -> list[MapCensus]:
+    """The censuses of ``plans`` (maps of one q), from one scan of the lengths any of them leaves open, shortest
+    first, as far as ``budget`` words go: a word serves every map at once (builder.search.census)."""
+    assert len({p.q for p in plans}) <= 1, "one scan serves the maps of one q"
+    if not plans:
+        return []
+    q = plans[0].q
+    needed = sorted({k for p in plans for k, _ in p.lengths})
+    scanned: list[int] = []
+    left = budget
+    for k in needed:
+        cost = words_in_length(k)
+        if cost > left:
+            break
+        left -= cost
+        scanned.append(k)
+    done = set(scanned)
+    wanted_by: dict[tuple[int, int], set[int]] = {}
+    for p in plans:
+        for k, open_x in p.lengths:
+            if k in done:
+                for x in open_x:
+                    wanted_by.setdefault((k, x), set()).update(divisors(abs(p.d)))
+
+    def wanted(k: int, x: int) -> tuple[int, ...]:
+        return class_divisors(q, k, x, wanted_by.get((k, x), ()))
+
+    scan = scan_words(q, scanned, wanted, jobs)
+    return [_census_of(p, scan, done) for p in plans]
+
+
+def _census_of(plan: Plan, scan: Scan, done: set[int]) -> MapCensus:
+    q, d = plan.q, plan.d
+    census = MapCensus(q, d, plan.up_to, plan.search_bound, 0, excluded=dict(plan.excluded))
+    found: dict[tuple[int, int], list[CycleFound]] = {}
+    for hit in scan.hits:
+        cycle = close(q, d, hit) if hit.k <= plan.up_to else None
+        if cycle is not None and (hit.k, sum(cycle.word)) in {
+            (k, x) for k, xs in plan.lengths if k == hit.k for x in xs
+        }:
+            found.setdefault((hit.k, sum(cycle.word)), []).append(cycle)
+            census.cycles.append(cycle)
+    for k, open_x in plan.lengths:
+        if k in done and census.stopped_by is None:
+            census.words += words_in_length(k)
+            for x in open_x:
+                cycles = tuple(sorted(c.members[0] for c in found.get((k, x), [])))
+                census.rows.append(_row(q, d, k, x, ENUMERATED, scan.tried[k, x], cycles))
+        else:
+            census.stopped_by = census.stopped_by or (k, open_x[0])
+            census.rows += [_row(q, d, k, x, OVER_BUDGET) for x in open_x]
+    census.cycles = [c for c in census.cycles if census.stopped_by is None or len(c.members) < census.stopped_by[0]]
+    census.cycles.sort(key=lambda c: (len(c.members), abs(c.members[0]), c.members[0] < 0))
+    census.complete_to = plan.up_to if census.stopped_by is None else census.stopped_by[0] - 1
+    return census
 
 
 def map_census(q: int, d: int, up_to: int, search_bound: int, budget: int, jobs: int = 1) -> MapCensus:
     """The census of n/2, (qn + d)/2 (q, d odd) for every length 1..up_to (see the module docstring)."""
-    census = MapCensus(q, d, up_to, search_bound, budget)
-    left = budget
-    pending: list[tuple[int, list[int]]] = []  # lengths to scan, with their open classes
-    admissible = divisors(abs(d))
-    for k in range(1, up_to + 1):
-        row = necklace_row(k)
-        open_x = [x for x in _open_classes(q, d, search_bound, k) if row[x]]
-        census.excluded[k] = sum(1 for x in range(k + 1) if row[x]) - len(open_x)
-        if not open_x:
-            continue
-        cost = sum(row)
-        if census.stopped_by is None and cost <= left:
-            left -= cost
-            pending.append((k, open_x))
-        else:
-            census.stopped_by = census.stopped_by or (k, open_x[0])
-            census.rows += [_row(q, d, k, x, row[x], OVER_BUDGET) for x in open_x]
-    scanned = _scan(q, d, pending, admissible, jobs)
-    census.words = scanned.words
-    found: dict[tuple[int, int], list[CycleFound]] = {}
-    for hit in scanned.hits:
-        cycle = close(q, d, hit)
-        if cycle is not None:
-            found.setdefault((hit.k, sum(cycle.word)), []).append(cycle)
-            census.cycles.append(cycle)
-    for k, open_x in pending:
-        row = necklace_row(k)
-        for x in open_x:
-            cycles = tuple(sorted(c.members[0] for c in found.get((k, x), [])))
-            census.rows.append(_row(q, d, k, x, row[x], ENUMERATED, scanned.tried[k, x], cycles))
-    census.rows.sort(key=lambda r: (r.k, r.x))
-    census.cycles.sort(key=lambda c: (len(c.members), abs(c.members[0]), c.members[0] < 0))
-    census.complete_to = up_to if census.stopped_by is None else census.stopped_by[0] - 1
+    census = settle([plan_census(q, d, up_to, search_bound)], budget, jobs)[0]
+    census.budget = budget
     return census
 
 
-def _row(
-    q: int, d: int, k: int, x: int, words: int, status: str, tried: int = 0, cycles: tuple[int, ...] = ()
-) -> ClassRow:
-    return ClassRow(k, x, words, target(q, k, x), class_bound(q, d, k, x).bound, status, tried, cycles)
-
-
-def _scan(q: int, d: int, pending: list[tuple[int, list[int]]], admissible: list[int], jobs: int) -> Scan:
-    wanted_classes = {(k, x) for k, open_x in pending for x in open_x}
-
-    def wanted(k: int, x: int) -> tuple[int, ...]:
-        return class_divisors(q, k, x, admissible) if (k, x) in wanted_classes else ()
-
-    return scan_words(q, [k for k, _ in pending], wanted, jobs)
+def _row(q: int, d: int, k: int, x: int, status: str, tried: int = 0, cycles: tuple[int, ...] = ()) -> ClassRow:
+    return ClassRow(
+        k, x, aperiodic_necklace_count(k, x), target(q, k, x), class_bound(q, d, k, x).bound, status, tried, cycles
+    )

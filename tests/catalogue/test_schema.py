@@ -278,6 +278,7 @@ def _catalogue_with_unknown_field(tmp: Path, name: str) -> Path:
         "branch": ("maps/3x-plus-1.yaml", lambda t: t.replace("increment: 0}", "increment: 0, surplus: 1}", 1)),
         "coverage": ("maps/3x-plus-1.yaml", lambda t: t + COVERAGE_WITH_SURPLUS),
         "basin": ("maps/3x-plus-1.yaml", lambda t: t + BASIN_WITH_SURPLUS),
+        "census": ("maps/3x-plus-1.yaml", lambda t: t + CENSUS_WITH_SURPLUS),
         "cycle": ("cycles/3x-plus-1/through-1.yaml", lambda t: t + "surplus: 1\n"),
         "provenance": ("cycles/3x-plus-1/through-1.yaml", lambda t: t + "  surplus: 1\n"),
         "reference": ("references.yaml", lambda t: t.rstrip("\n") + "\n  surplus: 1\n"),
@@ -293,6 +294,7 @@ BASIN_WITH_SURPLUS = (
     "coverage:\n  - {kind: all-starts, bound: 0, found_on: 2024-05-01, method: m, max_steps: 100, max_bits: 64,"
     " basins: [{cycle: 0, starts: 1, first: 0, surplus: 1}]}\n"
 )
+CENSUS_WITH_SURPLUS = "census:\n  - {up_to: 5, found_on: 2024-05-01, method: m, surplus: 1}\n"
 COVERAGE_WITH_SURPLUS = (
     "coverage:\n  - {kind: all-starts, bound: 10, found_on: 2024-05-01, method: m, max_steps: 100, max_bits: 64,"
     " surplus: 1}\n"
