@@ -78,7 +78,9 @@ def _open_classes(q: int, d: int, n: int, k: int) -> list[int]:
     """The x of length k that the search bound does not exclude: a segment on each side of k / log2 q.
 
     Floats only propose where each segment ends; each end is taken once exact comparisons on both of its sides
-    confirm it, and found by bisection otherwise."""
+    confirm it, and found by bisection otherwise.  With no search bound (n < 0) no class is excluded."""
+    if n < 0:
+        return list(range(1, k + 1))
     # the last x with q^x < 2^k (side +1 of qx + |d|)
     split = _last(lambda x: x == 0 or q**x < (1 << k), 0, k, _guess(k, q))
     e = abs(d)
