@@ -40,9 +40,11 @@ from builder.catalogue.record import RECORD_FILE
 from builder.search.survey import Survey
 
 __all__ = [
+    "BELAGA_MIGNOTTE",
     "DEFAULT_FOUND_BY",
     "FamilyError",
     "FamilyMap",
+    "KnownMap",
     "Placement",
     "Target",
     "Written",
@@ -53,6 +55,7 @@ __all__ = [
     "map_text",
     "place",
     "skipped_increments",
+    "write_entry",
     "write_results",
     "write_text",
 ]
@@ -251,14 +254,16 @@ def write_text(path: Path, text: str) -> None:
 
 
 @dataclass(slots=True)
-class _Known:
-    """A map the catalogue holds: its file, definition, coverage claims and canonical members."""
+class KnownMap:
+    """A map the catalogue holds: its file, definition, coverage claims, canonical members and the lengths its
+    census claims reach."""
 
     id: str
     path: Path
     mapping: AffineMap
     claims: list[Coverage]
     cycles: set[int]
+    census: list[int] = field(default_factory=list)
 
 
 @dataclass(slots=True)
@@ -268,7 +273,7 @@ class Target:
     root: Path
     exists: bool
     references: set[str] = field(default_factory=set)
-    maps: dict[str, _Known] = field(default_factory=dict)
+    maps: dict[str, KnownMap] = field(default_factory=dict)
 
     @classmethod
     def new(cls, root: Path) -> Target:
@@ -282,7 +287,8 @@ class Target:
         target = cls(root, True, set(catalogue.references))
         for entry in catalogue.maps.values():
             canon = {c.canonical for c in catalogue.cycles.get(entry.id, ())}
-            target.maps[entry.id] = _Known(entry.id, entry.path, entry.dynamics, list(entry.coverage), canon)
+            census = [claim.up_to for claim in entry.census]
+            target.maps[entry.id] = KnownMap(entry.id, entry.path, entry.dynamics, list(entry.coverage), canon, census)
         return target
 
 
@@ -410,14 +416,14 @@ def write_results(
         cites = placement.member.q == 3 and abs(placement.member.d) > 1 and BELAGA_MIGNOTTE in target.references
         refs = (BELAGA_MIGNOTTE,) if cites else ()
         write_text(placement.path, map_text(placement.member, refs))
-        known = _Known(placement.map_id, placement.path, survey.mapping, [], set())
+        known = KnownMap(placement.map_id, placement.path, survey.mapping, [], set())
         target.maps[placement.map_id] = known
     folder = target.root / "cycles" / placement.map_id
     made: list[int] = []
     for canonical, cycle in survey.cycles.items():
         if canonical in known.cycles:
             continue
-        _write_entry(folder, placement.map_id, cycle, canonical, found_by, found_on.isoformat(),
+        write_entry(folder, placement.map_id, cycle, canonical, found_by, found_on.isoformat(),
                      _entry_method(survey, command, canonical))  # fmt: skip
         known.cycles.add(canonical)
         made.append(canonical)
@@ -427,7 +433,7 @@ def write_results(
     return Written(placement.map_id, placement.path, new_map, tuple(made), added)
 
 
-def _write_entry(
+def write_entry(
     folder: Path, map_id: str, cycle: CycleFound, canonical: int, found_by: str, found_on: str, method: str
 ) -> None:
     if cycle.members[0] != canonical:
@@ -443,7 +449,7 @@ def _write_entry(
     write_text(path, entry_text(map_id, cycle, 2, found_by, found_on, method))
 
 
-def _add_claim(known: _Known, survey: Survey, found_on: _dt.date, method: str, basins: Basins | None) -> None:
+def _add_claim(known: KnownMap, survey: Survey, found_on: _dt.date, method: str, basins: Basins | None) -> None:
     text = known.path.read_text(encoding="utf-8")
     try:
         updated = append_claim(text, known.path, lambda indent: claim_text(survey, found_on, method, indent, basins))

@@ -56,7 +56,7 @@ from builder.search.cluster import ClusterUnavailable, HuntEnd, Plan, run_hunt
 from builder.search.ledger import LedgerError
 from builder.search.survey import Survey
 
-__all__ = ["add_family_arguments", "d_range", "hunt_family", "multiplier", "run_family"]
+__all__ = ["add_family_arguments", "d_range", "hunt_family", "multiplier", "run_family", "target_catalogue"]
 
 #: Below this many magnitudes a map is hunted in this process: a pool of workers would cost more than it saves.
 _ONE_PROCESS_BELOW = 1 << 16
@@ -134,7 +134,7 @@ def run_family(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
     if not found_by:
         raise UsageError("--found-by: expected who found the cycles, got nothing")
     low, high = args.d_range
-    target = _target(args, args.into, out)
+    target = target_catalogue(args, args.into, out)
     if target is None:
         return 1
     limits = (args.max_steps, args.max_bits, args.max_work)
@@ -155,7 +155,7 @@ def run_family(args: argparse.Namespace, out: IO[str], err: IO[str]) -> int:
             ledger.close()
 
 
-def _target(args: argparse.Namespace, into: Path, out: IO[str]) -> Target | None:
+def target_catalogue(args: argparse.Namespace, into: Path, out: IO[str]) -> Target | None:
     """The catalogue to write into (verified first when it exists), or None after saying why it does not verify."""
     if not into.exists() or (into.is_dir() and not any(into.iterdir())):
         return Target.new(into)

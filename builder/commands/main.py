@@ -15,7 +15,7 @@ from collections.abc import Sequence
 from typing import NoReturn, Protocol
 
 from builder import __version__
-from builder.commands import build, draft, hunt, odds, preview, review, verify
+from builder.commands import build, census, draft, hunt, odds, preview, review, verify
 from builder.commands.options import Subcommands
 from builder.errors import PeriplusError, printable
 from builder.processes import kept_to_the_end
@@ -33,7 +33,7 @@ class Command(Protocol):
 
 
 #: The command modules, in the order ``periplus --help`` lists them.
-COMMANDS: tuple[Command, ...] = (verify, build, draft, odds, hunt, review, preview)
+COMMANDS: tuple[Command, ...] = (verify, build, draft, odds, hunt, census, review, preview)
 
 
 def parser() -> argparse.ArgumentParser:

@@ -4,7 +4,7 @@ attested beyond it, and failing when the census finds a cycle the catalogue does
 The facts: the shortcut 3x+1 map on Z has the cycles through 0, 1, -1, -5 and -17, of shortcut lengths 1, 2, 1,
 3 and 11 with 0, 1, 1, 2 and 7 odd steps (J. C. Lagarias, Amer. Math. Monthly 92 (1985) 3-23, as
 ../shared/literature.md quotes it); every Lyndon word of length at most 20 gives one of those five (common
-practice, no source; tests/search/test_census.py checks it by brute force).
+practice, no source; tests/search/test_census_scan.py checks it by brute force).
 """
 
 from __future__ import annotations

@@ -119,7 +119,7 @@ def test_a_map_census_below_211_enumerates_the_class_8_5_of_3x_plus_13() -> None
 
 def test_the_shipped_bound_of_3x_plus_5_settles_every_length_to_400_without_a_word() -> None:
     # The example: with the search bound 10^5 the first admissible positive class of 3x+5 is (401, 253)
-    # (tests/arith/test_census.py checks that from the window); so lengths 1..400 need no enumeration.
+    # (tests/arith/test_census_rules.py checks that from the window); so lengths 1..400 need no enumeration.
     census = map_census(3, 5, 400, 10**5, 0)
     assert census.complete_to == 400 and census.words == 0 and census.rows == []
 
