@@ -133,6 +133,7 @@ class Comparison:
     warnings: tuple[ReviewWarning, ...]
     other_problems: tuple[Problem, ...]  # new problems of the head that belong to no entry
     head_files: int = 0
+    census: tuple[str, ...] = ()  # the census claims added, removed or changed (builder.diff.census)
 
     def of_kind(self, kind: str) -> tuple[Change, ...]:
         return tuple(c for c in self.changes if c.kind == kind)

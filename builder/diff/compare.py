@@ -21,6 +21,7 @@ from pathlib import Path
 from builder.catalogue.fields import PROVENANCE, field_order
 from builder.catalogue.model import Cycle, Report
 from builder.catalogue.written import WrittenEntry, WrittenValue
+from builder.diff.census import census_notes
 from builder.diff.changes import KINDS, Change, ChangeKind, Comparison, EntryCheck, FieldChange, Identity
 from builder.diff.dependencies import REFERENCES_FILE, attested_warnings, cycle_key, dependency_warnings
 from builder.errors import Problem, Severity
@@ -263,4 +264,5 @@ def _compare_sides(b_side: _Side, h_side: _Side) -> Comparison:
         b_side.report.catalogue.maps, b_side.cycles, h_side.report.catalogue.maps, h_side.entries, changes
     )
     other = _other_problems(b_side, h_side)
-    return Comparison(tuple(changes), unchanged, tuple(warnings), tuple(other), h_side.report.files)
+    census = census_notes(b_side.report.catalogue.maps, h_side.report.catalogue.maps, h_side.entries)
+    return Comparison(tuple(changes), unchanged, tuple(warnings), tuple(other), h_side.report.files, tuple(census))

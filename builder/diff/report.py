@@ -118,6 +118,9 @@ def render_markdown(comparison: Comparison, base_label: str, head_label: str) ->
                 cells.append(_identity_cell(c))
             cells.append(_verification(c))
             lines.append("| " + " | ".join(cells) + " |")
+    if comparison.census:
+        lines += ["", "## Census claims", ""]
+        lines += [f"- {_md(note)}" for note in comparison.census]
     if comparison.warnings:
         lines += ["", "## Warnings", ""]
         lines += [f"- {_md(w.message)}" for w in comparison.warnings]
