@@ -176,11 +176,29 @@ def _map(m: MapRecord) -> dict[str, Any]:
         | {"basins": None if claim.basins is None else [_pick(b, "cycle url starts first") for b in claim.basins]}
         for claim in m.coverage
     ]
+    census = [
+        _pick(
+            claim,
+            "up_to found_on method search_bound excluded words",
+            proved_by_this_build="rechecked",
+            proved_up_to_by_this_build="proved_up_to",
+        )
+        | {
+            "stopped_by": None if claim.stopped_by is None else list(claim.stopped_by),
+            "classes": [
+                _pick(r, "k x words target bound status tried")
+                | {"cycles": [{"cycle": n, "url": url} for n, url in r.cycles]}
+                for r in claim.classes
+            ],
+        }
+        for claim in m.census
+    ]
     branches = [{"residue": i, "multiplier": a, "increment": b} for i, (a, b) in enumerate(m.branches)]
     return {
         **_pick(m, "id name url modulus summary notes references mirror_map"),
         "branches": branches,
         "coverage": coverage,
+        "census": census,
         "history": _history(m.history),
     }
 

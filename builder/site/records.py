@@ -19,7 +19,7 @@ from typing import NamedTuple, TypeVar
 
 from builder.arith.integers import decimals, to_decimal
 from builder.arith.words import word_text
-from builder.catalogue.model import Coverage, Cycle, MapEntry, Provenance, Record
+from builder.catalogue.model import Census, Coverage, Cycle, MapEntry, Provenance, Record
 from builder.catalogue.relations import Relations
 from builder.history import Edition, FileHistory, NoHistory, RepoHistory
 from builder.site.numbers import percent
@@ -28,6 +28,8 @@ from builder.site.paths import cycle_url, map_url
 __all__ = [
     "AboutRecord",
     "BasinRecord",
+    "CensusClassRecord",
+    "CensusRecord",
     "CoverageRecord",
     "CycleRecord",
     "HistoryRecord",
@@ -241,6 +243,64 @@ class CoverageRecord:
 
 
 @dataclass(frozen=True, slots=True)
+class CensusClassRecord:
+    """One class (k, x) a census did not exclude: its words L(k, x), target 2^k - q^x and bound on the least
+    member (decimal text, any size), its status ("enumerated" or "over budget"), the words tried, and the
+    cycles found as (least member, its page or None)."""
+
+    k: int
+    x: int
+    words: str
+    target: str
+    bound: str
+    status: str
+    tried: int
+    cycles: tuple[tuple[str, str | None], ...]
+
+
+@dataclass(frozen=True, slots=True)
+class CensusRecord:
+    """A completeness claim by length (every cycle of at most ``up_to`` steps is listed) and what this build proved
+    of it: every length up to ``proved_up_to`` (0: none), from the searched bound (None: no coverage claim was
+    searched again), with ``excluded`` classes excluded by it and ``words`` words tried."""
+
+    up_to: int
+    found_on: str  # ISO date
+    method: str
+    rechecked: bool
+    proved_up_to: int
+    search_bound: str | None
+    excluded: int
+    words: int
+    stopped_by: tuple[int, int] | None  # the first class the build's budget left open
+    classes: tuple[CensusClassRecord, ...]  # those not excluded, by k then x
+
+    @classmethod
+    def of(cls, claim: Census, urls: Mapping[int, str]) -> CensusRecord:
+        check = claim.check
+        classes: tuple[CensusClassRecord, ...] = ()
+        if check is not None:
+            classes = tuple(
+                CensusClassRecord(r.k, r.x, to_decimal(r.words), to_decimal(r.target), to_decimal(r.bound), r.status,
+                                  r.tried, tuple((to_decimal(c), urls.get(c)) for c in r.cycles))
+                for r in check.rows
+            )  # fmt: skip
+        bound = None if check is None or check.search_bound < 0 else to_decimal(check.search_bound)
+        return cls(
+            claim.up_to,
+            claim.found_on.isoformat(),
+            claim.method,
+            claim.rechecked,
+            claim.rechecked_up_to,
+            bound,
+            0 if check is None else check.excluded,
+            0 if check is None else check.words,
+            None if check is None else check.stopped_by,
+            classes,
+        )
+
+
+@dataclass(frozen=True, slots=True)
 class MapRecord:
     """One map with its definition, claims and cycles, and the record it belongs to."""
 
@@ -254,6 +314,7 @@ class MapRecord:
     references: tuple[str, ...]
     mirror_map: str | None  # the map of n -> -T(-n), when the record has it
     coverage: tuple[CoverageRecord, ...]
+    census: tuple[CensusRecord, ...]
     history: HistoryRecord | None
     cycles: tuple[CycleRecord, ...]  # in order of canonical member
     about: AboutRecord
@@ -269,7 +330,7 @@ class MapRecord:
     ) -> MapRecord:
         branches = tuple((to_decimal(a), to_decimal(b)) for a, b in entry.branches)
         with_basins = any(c.basins is not None for c in entry.coverage)
-        urls = {r.cycle.canonical: r.url for r in cycles} if with_basins else None
+        urls = {r.cycle.canonical: r.url for r in cycles} if with_basins or entry.census else None
         return cls(
             entry.id,
             entry.name,
@@ -281,6 +342,7 @@ class MapRecord:
             tuple(entry.references),
             rel.mirror_map.get(entry.id),
             tuple(CoverageRecord.of(c, urls) for c in entry.coverage),
+            tuple(CensusRecord.of(c, urls or {}) for c in entry.census),
             history,
             cycles,
             about,

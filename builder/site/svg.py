@@ -47,6 +47,7 @@ LETTER_ROW = 20  # the row of residue digits above the cells, when the cells are
 LETTERS_AT_MOST = 350  # a strip with digits is at most this wide, so a phone never shrinks them
 INK, BG = "#1c1d1f", "#fbfaf6"  # the charts' ink and paper (style.css: figure.plot svg)
 LINE, ACCENT, GRID = "#4a5d7e", "#c0692b", "#8c8c8c"  # on BG: 6.4:1, 3.8:1, 3.2:1
+PROVED = "#2e7d5b"  # a band under proved lengths, at 16% opacity: the bars and text on it keep their contrast
 # Residue colours: distinct in hue and lightness, each at least 3:1 against BG.
 PALETTE = ("#4a5d7e", "#c0692b", "#2e7d5b", "#8e3b72", "#7a6a1f", "#356f8a", "#a23b3b", "#5b5196", "#60753a", "#8a5a2e")
 
@@ -385,7 +386,7 @@ def _percent(chance: float) -> str:
 
 
 @functools.lru_cache(maxsize=1024)  # maps with the same lengths share most columns (those with no cycles above all)
-def _odds_column(x0: float, slot: float, k: int, chance: float, count: int, most: int) -> str:
+def _odds_column(x0: float, slot: float, k: int, chance: float, count: int, most: int, proved: bool) -> str:
     """One length's column of the odds chart, from x0 and ``slot`` wide: its bar (the chance), its diamond
     (``count`` of at most ``most`` on the count axis), and its numbers.  A column shows its numbers on
     hover (its title, and a line above the plot) and when tapped (tabindex -1: focusable by a pointer,
@@ -402,18 +403,22 @@ def _odds_column(x0: float, slot: float, k: int, chance: float, count: int, most
             f'fill="{ACCENT}" stroke="#ffffff" stroke-width="1"/>'
         )
     cycles = _count(count, "cycle")
+    status = ", proved complete" if proved else ""
     return (
-        f'<g class="col" tabindex="-1"><title>length {k}: chance {_percent(chance)}, {cycles} recorded</title>'
+        f'<g class="col" tabindex="-1"><title>length {k}: chance {_percent(chance)}, {cycles} recorded{status}</title>'
         f'<rect class="hit" x="{_fmt(x0)}" y="{top}" width="{_fmt(slot)}" height="{plot_h}" fill-opacity="0"/>'
         f'<rect x="{_fmt(x0 + slot * 0.1)}" y="{_fmt(top + plot_h - h)}" width="{_fmt(slot * 0.8)}" '
         f'height="{_fmt(h)}" fill="{LINE}"/>{diamond}<text class="val" x="{WIDTH // 2}" y="{top - 10}" '
-        f'text-anchor="middle">k = {k}: {_percent(chance)}, {cycles}</text></g>'
+        f'text-anchor="middle">k = {k}: {_percent(chance)}, {cycles}{", proved complete" if proved else ""}</text></g>'
     )
 
 
-def odds_chart(rows: Sequence[tuple[int, float, int]], title: str, svg_id: str) -> Markup:
+def odds_chart(
+    rows: Sequence[tuple[int, float, int]], title: str, svg_id: str, proved_to: int = 0
+) -> Markup:  # kept whole: one chart, its parts in drawing order
     """Bars: the heuristic chance of an integer cycle at each length k (left axis, %); diamonds: the number of
-    catalogued cycles of that length (right axis, its own scale); and a key naming both."""
+    catalogued cycles of that length (right axis, its own scale); a band under the lengths up to ``proved_to``,
+    which a census claim proved complete (the heuristic beside what is certain); and a key naming them."""
     plot_w = WIDTH - ODDS_LEFT - ODDS_RIGHT
     top = ODDS_TOP
     plot_h = HEIGHT - top - BOTTOM
@@ -434,8 +439,15 @@ def odds_chart(rows: Sequence[tuple[int, float, int]], title: str, svg_id: str) 
             f'<text x="{ODDS_LEFT - 10}" y="{y}" dy="0.35em" text-anchor="end" fill="currentColor">{25 * j}%</text>'
             f'<text x="{right + 10}" y="{y}" dy="0.35em" fill="currentColor">{quarter * j:,}</text>'
         )
+    proved = sum(1 for k, _, _ in rows if k <= proved_to)
+    if proved:
+        parts.append(
+            f'<rect x="{ODDS_LEFT}" y="{top}" width="{_fmt(proved * slot)}" height="{plot_h}" fill="{PROVED}" '
+            'fill-opacity="0.16"/>'
+            f'<text x="{ODDS_LEFT + 6}" y="{top + 14}" fill="currentColor">proved complete to k = {proved_to:,}</text>'
+        )
     columns = [
-        _odds_column(ODDS_LEFT + i * slot, slot, k, chance, count, 4 * quarter)
+        _odds_column(ODDS_LEFT + i * slot, slot, k, chance, count, 4 * quarter, k <= proved_to)
         for i, (k, chance, count) in enumerate(rows)
     ]
     ticks = []
@@ -457,20 +469,22 @@ def odds_chart(rows: Sequence[tuple[int, float, int]], title: str, svg_id: str) 
         f'<text x="{ODDS_LEFT + plot_w / 2:.1f}" y="{top + plot_h + 8}" dy="2.2em" text-anchor="middle" '
         f'fill="currentColor">Cycle length k</text>'
     )
+    band = f"A shaded band covers the lengths up to {proved_to:,}, which a census claim proved complete. "
     if rows:
         lengths = ", ".join(f"{k} ({count:,})" for k, _, count in rows if count) or "none"
         desc = (
             f"Bars, on the left axis from 0 to 100%: the heuristic chance that some word of each length k from "
             f"{rows[0][0]} to {rows[-1][0]} gives an integer cycle. Diamonds, on the right axis from 0 to "
-            f"{4 * quarter:,}: how many catalogued cycles have that length. Lengths with catalogued cycles "
-            f"(and how many): {lengths}."
+            f"{4 * quarter:,}: how many catalogued cycles have that length. {band if proved else ''}Lengths with "
+            f"catalogued cycles (and how many): {lengths}."
         )
     else:
         desc = "No lengths."
+    shaded = '<li><span class="key key-band" aria-hidden="true"></span>Shaded band: lengths proved complete</li>'
     key = (
         '<ul class="chart-key"><li><span class="key key-bar" aria-hidden="true"></span>Bars: the heuristic chance of '
         'a cycle of length k (left axis, %)</li><li><span class="key key-diamond" aria-hidden="true"></span>'
-        "Diamonds: the cycles of length k in the record (right axis, a count)</li></ul>"
+        f"Diamonds: the cycles of length k in the record (right axis, a count)</li>{shaded if proved else ''}</ul>"
     )
     return Markup(
         f'{_open(svg_id, title, desc, HEIGHT)}{"".join(parts)}<g fill="currentColor">{"".join(columns)}</g>'

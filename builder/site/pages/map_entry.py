@@ -1,7 +1,8 @@
-"""Each map's page: its definition in MathML, its branches, notes, completeness claims and cycles.
+"""Each map's page: its definition in MathML, its branches, notes, completeness claims (by start and by length)
+and cycles.
 
 For a map of two branches the page also draws the heuristic chance of a cycle at each length
-beside the catalogued counts (builder.arith.odds).
+beside the catalogued counts (builder.arith.odds), and shades the lengths a census claim proved complete.
 """
 
 from __future__ import annotations
@@ -42,7 +43,8 @@ def _odds_svg(site: SiteContext, entry: MapEntry) -> Markup | None:
     chances = length_chances(entry.dynamics, top)
     rows = [(k, chances[k - 1], counts.get(k, 0)) for k in range(1, top + 1)]
     title = f"Heuristic chance of a cycle of each length for {entry.name}, with the catalogued cycles"
-    return odds_chart(rows, title, f"odds-{entry.id}")
+    proved = max((claim.rechecked_up_to for claim in entry.census), default=0)  # what this build proved
+    return odds_chart(rows, title, f"odds-{entry.id}", proved)
 
 
 BY_LEAST, BY_LENGTH = "by member of least |n|", "by length, then member of least |n|"
@@ -90,6 +92,7 @@ def map_pages(site: SiteContext, map_id: str, cycles: Sequence[Cycle]) -> list[P
         "self_mirror": mirror == map_id,
         "export": f"data/maps/{map_id}.json",
         "coverage": [(claim, claim.unresolved[:UNRESOLVED_SHOWN]) for claim in record.coverage],
+        "census": record.census,
         "counts_label": "Odd, even steps" if entry.modulus == 2 else "Residue counts",
         "odds_svg": _odds_svg(site, entry),
         "history": site.history_view(record.history),
