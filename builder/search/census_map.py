@@ -60,12 +60,15 @@ class MapCensus:
     stopped_by: tuple[int, int] | None = None
 
 
-def _excluded(q: int, d: int, n: int, k: int, x: int) -> bool:
-    """bound(k, x) <= n, by rule (B)'s inequality at M = n + 1 (see the module docstring)."""
+def _excluded(q: int, d: int, n: int, k: int, x: int, growing: bool | None = None) -> bool:
+    """bound(k, x) <= n, by rule (B)'s inequality at M = n + 1 (see the module docstring); ``growing``: whether
+    2^k > q^x (the positive side of qx + |d|), when the caller knows it."""
     if x == 0:
         return True  # bound 0: the only cycle is {0}
     e = abs(d)
-    if class_side(q, d, k, x) == (1 if d > 0 else -1):  # the positive side of qx + |d|
+    if growing is None:
+        growing = class_side(q, d, k, x) == (1 if d > 0 else -1)
+    if growing:
         m = gmpy2.mpz(n + 1)
         return not (m**x << k) <= (q * m + e) ** x
     # side -1: rule (B)'s segment of M starts at |d| // q + 1, so bound <= n when it fails at the larger of
@@ -85,12 +88,17 @@ def _open_classes(q: int, d: int, n: int, k: int) -> list[int]:
     split = _last(lambda x: x == 0 or q**x < (1 << k), 0, k, _guess(k, q))
     e = abs(d)
     m = n + 1
-    # side +1 (x = 0..split): excluded for small x, open from some x on
-    first_open = 1 + _last(lambda x: _excluded(q, d, n, k, x), 0, split, _guess(k, q + e / m, ceiling=True) - 1)
-    # side -1 (x = split+1..k): open up to some x, excluded from there on
-    ratio = q - e / max(m, e // q + 1)
-    guess = _guess(k, ratio) if ratio > 1 else k
-    last_open = _last(lambda x: x == split or not _excluded(q, d, n, k, x), split, k, guess)
+    # side +1 (x = 0..split): excluded for small x, open from some x on; none open when x = split is excluded
+    first_open = split + 1
+    if split and not _excluded(q, d, n, k, split, True):
+        guess = _guess(k, q + e / m, ceiling=True) - 1
+        first_open = 1 + _last(lambda x: _excluded(q, d, n, k, x, True), 0, split, guess)
+    # side -1 (x = split+1..k): open up to some x, excluded from there on; none open when x = split + 1 is excluded
+    last_open = split
+    if split < k and not _excluded(q, d, n, k, split + 1, False):
+        ratio = q - e / max(m, e // q + 1)
+        guess = _guess(k, ratio) if ratio > 1 else k
+        last_open = _last(lambda x: x == split or not _excluded(q, d, n, k, x, False), split, k, guess)
     return list(range(first_open, split + 1)) + list(range(split + 1, last_open + 1))
 
 
