@@ -20,6 +20,7 @@ from pathlib import Path
 
 from builder.arith.dynamics import shortcut_form
 from builder.arith.integers import show
+from builder.arith.words import aperiodic_necklace_count
 from builder.catalogue.cache import default_cache_folder
 from builder.catalogue.census import searched_bound
 from builder.catalogue.model import Report
@@ -57,6 +58,9 @@ def register(subparsers: Subcommands) -> None:
     parser.add_argument("map", nargs="?", metavar="MAP", help="a map id of the catalogue (without --qx)")
     parser.add_argument("--up-to", type=_length, required=True, metavar="K", help="the longest cycle length, in steps")
     parser.add_argument("--write", action="store_true", help="with MAP: add the census claim to the map file")
+    parser.add_argument(
+        "--every-class", action="store_true", help="with MAP: list every class (k, x), the excluded ones too"
+    )
     family = parser.add_argument_group("whole families", "every map n/2, (Qn+d)/2 with d odd in A..B, Q not dividing d")
     family.add_argument("--qx", type=multiplier, metavar="Q", help="the family's multiplier: an odd Q >= 3")
     family.add_argument("--d", dest="d_range", type=d_range, metavar="A..B", help="the increments d (-999..999)")
@@ -136,9 +140,15 @@ def _run_map(args: argparse.Namespace) -> int:
     excluded = sum(census.excluded.values())
     print(f"  {excluded:,} classes (k, x) excluded by it: each cycle of such a class has a member no larger than")
     print("  the class's bound, and that bound is at most the searched bound")
-    if census.rows:
+    if census.rows or args.every_class:
         print(f"  {'k':>6} {'x':>6} {'L(k,x)':>12} {'target 2^k - q^x':>22} {'bound':>14}  status")
-    for row in census.rows:
+    rows = {(row.k, row.x): row for row in census.rows}
+    for k, x in _classes(args.up_to) if args.every_class else sorted(rows):
+        row = rows.get((k, x))
+        if row is None:  # excluded: its bound is at most the searched bound (not computed: that is all it needs)
+            words, goal = aperiodic_necklace_count(k, x), (1 << k) - q**x
+            print(f"  {k:>6} {x:>6} {_short(words):>12} {_short(goal):>22} {'<= ' + show(bound):>14}  excluded")
+            continue
         status = row.status
         if row.status == ENUMERATED:
             marks = [f"{show(c)} ({'catalogued' if c in listed else 'new'})" for c in row.cycles]
@@ -175,6 +185,11 @@ def _write(path: Path, up_to: int, bound: int, words: int, args: argparse.Namesp
     except ClaimError as exc:
         raise UsageError(str(exc)) from None
     print(f"wrote the census claim (up_to: {up_to}) to {path}")
+
+
+def _classes(up_to: int) -> list[tuple[int, int]]:
+    """Every class (k, x) with words, k = 1..up_to: both x of length 1, and 0 < x < k beyond it."""
+    return [(k, x) for k in range(1, up_to + 1) for x in range(k + 1) if (k == 1 or 0 < x < k)]
 
 
 def _short(n: int) -> str:

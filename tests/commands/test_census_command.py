@@ -97,3 +97,26 @@ def test_the_two_forms_are_told_apart(cli) -> None:
     assert "expected --qx Q and --d A..B together" in cli("census", "--qx", "3", "--up-to", "5").err
     assert "--into applies to a family" in cli("census", "3x-plus-1", "--up-to", "5", "--into", "x").err
     assert "expected a length from 1 to 10,000, got 0" in cli("census", "3x-plus-1", "--up-to", "0").err
+
+
+def test_every_class_of_a_map_is_reported_with_its_status(cli) -> None:
+    # The shipped 3x+13 searched again only to 200: the seven cycles 211 .. 319 of class (8, 5)
+    # (../shared/literature.md, d = 13) lie beyond it, so that class is enumerated; every other class of
+    # lengths 1..8 is excluded by the bound 200.
+    from conftest import REPO
+
+    run = cli(
+        "census", "3x-plus-13", "--up-to", "8", "--every-class", "--recheck-up-to", "200",
+        "--catalogue", str(REPO / "catalogue"), "--no-cache", "--jobs", "1",
+    )  # fmt: skip
+    assert run.code == 0, run.err
+    rows = [line.split() for line in run.out.splitlines() if re.match(r"^\s+\d+\s+\d+\s", line)]
+    assert len(rows) == 2 + sum(k - 1 for k in range(2, 9))  # both classes of length 1, then 0 < x < k
+    enumerated = [r for r in rows if "enumerated:" in r]
+    assert [r[:2] for r in enumerated] == [["8", "5"]]
+    assert " ".join(enumerated[0]).endswith(
+        "7 words, 211 (catalogued), 227 (catalogued), 251 (catalogued), 259 (catalogued), 283 (catalogued), "
+        "287 (catalogued), 319 (catalogued)"
+    )
+    assert all(r[-1] == "excluded" and r[-2] == "200" for r in rows if r not in enumerated)
+    assert "every cycle of at most 8 steps is listed" in run.out
