@@ -74,9 +74,18 @@ def test_a_claim_is_added_after_the_last_claim_keeping_comments_and_later_fields
 
 
 def test_a_claim_is_added_to_the_shipped_map_file_at_its_indent() -> None:
+    # after the last coverage claim, before the census claims that follow the coverage list in the shipped file
     text = SHIPPED_MAP.read_text(encoding="utf-8")
+    head, census, tail = text.partition("\ncensus:\n")
+    assert census, "the shipped 3x+5 has census claims after its coverage claims"
     updated = append_claim(text, PATH, _claim)
-    assert updated == text + _claim("  ")
+    assert updated == head + "\n" + _claim("  ") + census.lstrip("\n") + tail
+
+
+def test_a_census_claim_is_added_to_its_own_list() -> None:
+    text = "name: 3x+5\ncoverage:\n  - {kind: all-starts}\ncensus:\n  - {up_to: 5}\n"
+    updated = append_claim(text, PATH, lambda indent: f"{indent}- {{up_to: 9}}\n", "census")
+    assert updated == text + "  - {up_to: 9}\n"
 
 
 def test_a_file_without_claims_gets_a_coverage_field_at_its_end() -> None:
