@@ -9,6 +9,8 @@ from __future__ import annotations
 import math
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from builder.arith.census import class_bound
 from builder.arith.words import necklace_row
@@ -148,3 +150,61 @@ def test_the_open_classes_are_those_whose_bound_passes_the_search_bound(q: int, 
         by_definition = [x for x in range(1, k + 1) if class_bound(q, d, k, x).bound > n]
         assert _open_classes(q, d, n, k) == by_definition, k
         assert all(_excluded(q, d, n, k, x) == (x not in by_definition) for x in range(k + 1))
+
+
+# --- the whole chain against brute force --------------------------------------------------------------------
+
+
+def _all_cycles_by_words(q: int, d: int, up_to: int) -> set[int]:
+    """The canonical member of every cycle of n/2, (qn + d)/2 of length at most up_to, by brute force over every
+    Lyndon word (its cycle equation's start, when an integer, followed around; common practice, no source)."""
+    from builder.arith.census import lyndon_words_up_to
+    from builder.arith.dynamics import AffineMap, canonical_index, cycle_equation
+
+    mapping = AffineMap(2, ((1, 0), (q, d)))
+    found = set()
+    for word in lyndon_words_up_to(up_to):
+        start, denominator = cycle_equation(mapping, word).start()
+        if denominator == 1:
+            members = [start]
+            for _ in word[1:]:
+                members.append(mapping(members[-1]))
+            found.add(members[canonical_index(members)])
+    return found
+
+
+@given(
+    st.sampled_from([1, 3, 5, 7]),
+    st.integers(-61, 61).filter(lambda d: d % 2),
+    st.integers(0, 400),
+    st.integers(1, 13),
+)
+@settings(max_examples=60, deadline=None)
+def test_what_the_bound_covers_and_what_the_census_finds_are_every_cycle(q: int, d: int, n: int, up_to: int) -> None:
+    # Rules (B) and (E) of builder.arith.census: a class excluded by the search bound n holds only cycles with a
+    # member of magnitude at most n; every other class is enumerated.  So the cycles with such a member, together
+    # with those the census finds, are every cycle of length at most up_to (brute force over every word).
+    every = _all_cycles_by_words(q, d, up_to)
+    census = map_census(q, d, up_to, n, 10**9)
+    found = {c.members[0] for c in census.cycles}
+    assert census.complete_to == up_to
+    assert found <= every
+    covered = set()
+    for c in every:
+        if c not in found:
+            covered.add(c)
+    mapping_members = _members(q, d, covered, up_to)
+    assert all(min(map(abs, members)) <= n for members in mapping_members), (covered, n)
+
+
+def _members(q: int, d: int, canonicals: set[int], up_to: int) -> list[list[int]]:
+    from builder.arith.dynamics import AffineMap
+
+    mapping = AffineMap(2, ((1, 0), (q, d)))
+    cycles = []
+    for c in canonicals:
+        members = [c]
+        while len(members) <= up_to and mapping(members[-1]) != c:
+            members.append(mapping(members[-1]))
+        cycles.append(members)
+    return cycles
