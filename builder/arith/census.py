@@ -232,8 +232,9 @@ def lyndon_words(k: int, x: int | None = None) -> list[tuple[int, ...]]:
     return [w for w in lyndon_words_up_to(k) if len(w) == k and (x is None or sum(w) == x)]
 
 
-def lyndon_words_up_to(n: int) -> list[tuple[int, ...]]:
-    """Every binary Lyndon word of length 1..n, in lexicographic order, by Duval's algorithm
+def lyndon_words_up_to(n: int, letters: int = 2) -> list[tuple[int, ...]]:
+    """Every Lyndon word over 0..letters-1 (binary unless said) of length 1..n, in lexicographic order, by Duval's
+    algorithm
     (J.-P. Duval, "Generation d'une section des classes de conjugaison et arbre des mots de Lyndon de longueur
     bornee", Theoret. Comput. Sci. 60 (1988) 255-283; from memory): increment the last letter, then repeat the
     word periodically to length n and drop trailing maximal letters."""
@@ -247,7 +248,7 @@ def lyndon_words_up_to(n: int) -> list[tuple[int, ...]]:
         m = len(w)
         while len(w) < n:
             w.append(w[-m])
-        while w and w[-1] == 1:
+        while w and w[-1] == letters - 1:
             w.pop()
     return words
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from collections.abc import Collection
 from typing import Any
 
-from builder.arith.dynamics import AffineMap, branch_defects, shortcut_form
+from builder.arith.dynamics import AffineMap, branch_defects
 from builder.arith.integers import show
 from builder.catalogue.fields import (
     BASIN,
@@ -51,10 +51,10 @@ def check_map(raw: RawFile, known: Collection[str] | None, problems: list[Proble
     if doc.failed or branches is None or coverage is None or census is None or modulus is None:
         return None
     dynamics = AffineMap(modulus, branches)
-    if census and shortcut_form(dynamics) is None:
+    if census and not all(a > 0 for a, _ in branches):
         message = (
-            "expected census claims only for a map n/2, (qn+d)/2 with q and d odd (modulus 2, branches (1, 0) and "
-            f"(q, d)), got modulus {show(modulus)} with branches {', '.join(map(str, branches))}"
+            "expected census claims only for a map whose multipliers are all positive (such as n/2, (qn+d)/2 with "
+            f"q > 0), got modulus {show(modulus)} with branches {', '.join(map(str, branches))}"
         )
         doc.error(f["census"], ("census",), message, "census-map-shape")
         return None

@@ -17,13 +17,14 @@ import datetime as _dt
 import sys
 import time
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from builder.arith.dynamics import shortcut_form
 from builder.arith.integers import show
 from builder.arith.words import aperiodic_necklace_count
 from builder.catalogue.cache import default_cache_folder
 from builder.catalogue.census import searched_bound
-from builder.catalogue.model import Report
+from builder.catalogue.model import MapEntry, Report
 from builder.catalogue.verify import verify_catalogue
 from builder.commands.family import d_range, multiplier
 from builder.commands.options import (
@@ -39,6 +40,9 @@ from builder.commands.options import (
 )
 from builder.commands.summary import show_report
 from builder.errors import UsageError
+
+if TYPE_CHECKING:
+    from builder.search.census_map import MapCensus
 
 __all__ = ["register", "run"]
 
@@ -124,11 +128,8 @@ def _run_map(args: argparse.Namespace) -> int:
     if entry is None:
         raise UsageError(f"census: expected a map id of the catalogue, got '{args.map}'")
     form = shortcut_form(entry.dynamics)
-    if form is None:
-        raise UsageError(
-            f"census: expected a map n/2, (qn+d)/2 with q and d odd, got {args.map} "
-            f"(modulus {entry.modulus}, branches {', '.join(map(str, entry.branches))})"
-        )
+    if form is None or form[0] < 1:
+        return _run_residue(args, report, entry)
     q, d = form
     bound = searched_bound(entry.coverage)
     started = time.perf_counter()
@@ -157,10 +158,16 @@ def _run_map(args: argparse.Namespace) -> int:
             f"  {row.k:>6} {row.x:>6} {_short(row.words):>12} {_short(row.target):>22} {_short(row.bound):>14}  {status}"
         )
     print(f"words tried: {census.words:,} in {seconds:.1f} s")
+    return _conclude(args, entry, census, listed, bound)
+
+
+def _conclude(args: argparse.Namespace, entry: MapEntry, census: MapCensus, listed: set[int], bound: int) -> int:
+    """Say what the census settled and what it found; with --write, record the claim when everything is listed."""
     new = [c.members[0] for c in census.cycles if c.members[0] not in listed]
     if census.stopped_by is not None:
         k, x = census.stopped_by
-        print(f"stopped by the class ({k}, {x}): its length's words pass what is left of --census-words")
+        where = f"the class ({k}, {x})" if x >= 0 else f"the length {k}"
+        print(f"stopped by {where}: its words pass what is left of --census-words, or cannot all be settled")
     if census.complete_to == 0:
         print("no length is settled: nothing to claim")
         return 0
@@ -174,12 +181,35 @@ def _run_map(args: argparse.Namespace) -> int:
     return 0
 
 
+def _run_residue(args: argparse.Namespace, report: Report, entry: MapEntry) -> int:
+    """The census of a map by residue classes with positive multipliers: every word of each length tried."""
+    from builder.search.census_residue import applies, residue_census
+
+    if not applies(entry.dynamics):
+        raise UsageError(
+            f"census: expected a map n/2, (qn+d)/2 with q and d odd, or one whose multipliers are all positive, got "
+            f"{args.map} (modulus {entry.modulus}, branches {', '.join(map(str, entry.branches))})"
+        )
+    started = time.perf_counter()
+    census = residue_census(entry.dynamics, args.up_to, args.census_words)
+    seconds = time.perf_counter() - started
+    listed = {c.canonical for c in report.catalogue.cycles.get(entry.id, ())}
+    print(f"census of {entry.name} ({entry.id}) up to {args.up_to:,} steps: every word of each length tried")
+    print(f"  {'k':>6} {'words':>12}  status")
+    for row in census.rows:
+        marks = [f"{show(c)} ({'catalogued' if c in listed else 'new'})" for c in row.cycles]
+        status = row.status + (": " + (", ".join(marks) if marks else "no cycle") if row.status == "enumerated" else "")
+        print(f"  {row.k:>6} {_short(row.words):>12}  {status}")
+    print(f"words tried: {census.words:,} in {seconds:.1f} s (in Python integers)")
+    return _conclude(args, entry, census, listed, -1)
+
+
 def _write(path: Path, up_to: int, bound: int, words: int, args: argparse.Namespace) -> None:
     from builder.catalogue.census_entries import add_census_claim
     from builder.catalogue.claims import ClaimError
 
-    base = f"searched bound {bound:,}" if bound >= 0 else "no searched bound"
-    method = f"periplus census {args.map} --up-to {args.up_to}: classes excluded by the {base}, {words:,} words tried"
+    base = f"classes excluded by the searched bound {bound:,}" if bound >= 0 else "no searched bound"
+    method = f"periplus census {args.map} --up-to {args.up_to}: {base}, {words:,} words tried"
     try:
         add_census_claim(path, up_to, _dt.date.today(), method)
     except ClaimError as exc:

@@ -64,7 +64,7 @@ def _excluded(q: int, d: int, n: int, k: int, x: int, growing: bool | None = Non
     """bound(k, x) <= n, by rule (B)'s inequality at M = n + 1 (see the module docstring); ``growing``: whether
     2^k > q^x (the positive side of qx + |d|), when the caller knows it."""
     if x == 0:
-        return True  # bound 0: the only cycle is {0}
+        return n >= 0  # bound 0: the only cycle is {0}, listed once any start was searched
     e = abs(d)
     if growing is None:
         growing = class_side(q, d, k, x) == (1 if d > 0 else -1)
@@ -83,7 +83,7 @@ def _open_classes(q: int, d: int, n: int, k: int) -> list[int]:
     Floats only propose where each segment ends; each end is taken once exact comparisons on both of its sides
     confirm it, and found by bisection otherwise.  With no search bound (n < 0) no class is excluded."""
     if n < 0:
-        return list(range(1, k + 1))
+        return list(range(k + 1))
     # the last x with q^x < 2^k (side +1 of qx + |d|)
     split = _last(lambda x: x == 0 or q**x < (1 << k), 0, k, _guess(k, q))
     e = abs(d)

@@ -41,7 +41,7 @@ def test_a_true_claim_is_proved_again_from_every_word(catalogue) -> None:
     assert claim.rechecked and claim.check is not None
     assert claim.check.search_bound == -1  # no coverage claim: every class of every length is enumerated
     assert claim.check.words == sum(words_in_length(k) for k in range(1, 21))
-    assert sorted(claim.check.cycles) == [-17, -5, -1, 1]
+    assert sorted(claim.check.cycles) == [-17, -5, -1, 0, 1]
     assert "every claim holds" in summary(report) and "attested" not in summary(report)
 
 
@@ -98,14 +98,14 @@ def test_a_census_on_a_map_of_another_shape_is_refused(catalogue) -> None:
     root = catalogue()
     path = root / "maps" / "3x-plus-1.yaml"
     text = path.read_text(encoding="utf-8").replace(
-        "{residue: 1, multiplier: 3, increment: 1}", "{residue: 1, multiplier: 6, increment: 2}"
+        "{residue: 1, multiplier: 3, increment: 1}", "{residue: 1, multiplier: -3, increment: 1}"
     )
     path.write_text(text + "census:\n  - {up_to: 5, found_on: 2026-12-04, method: m}\n", encoding="utf-8")
     report = verify_catalogue(root)
     messages = [p.message for p in report.problems if p.code == "census-map-shape"]
     assert messages == [
-        "census: expected census claims only for a map n/2, (qn+d)/2 with q and d odd (modulus 2, branches (1, 0) "
-        "and (q, d)), got modulus 2 with branches (1, 0), (6, 2)"
+        "census: expected census claims only for a map whose multipliers are all positive (such as n/2, (qn+d)/2 "
+        "with q > 0), got modulus 2 with branches (1, 0), (-3, 1)"
     ]
 
 
@@ -115,4 +115,37 @@ def test_a_length_out_of_range_is_refused_with_the_range(catalogue) -> None:
     report = verify_catalogue(root)
     assert [str(p) for p in report.problems if "up_to" in p.message] == [
         f"{path}:13:13: error: census[0].up_to: expected a length from 1 to 10,000, got 0"
+    ]
+
+
+def _mod_3_catalogue(tmp_path: Path) -> Path:
+    """The shipped catalogue's mod-3 permutation map with its cycles, alone in a catalogue."""
+    import shutil
+
+    from conftest import REPO
+
+    shipped, root = REPO / "catalogue", tmp_path / "mod-3"
+    (root / "maps").mkdir(parents=True)
+    for name in ("record.yaml", "references.yaml", "maps/mod-3-permutation.yaml"):
+        shutil.copyfile(shipped / name, root / name)
+    shutil.copytree(shipped / "cycles" / "mod-3-permutation", root / "cycles" / "mod-3-permutation")
+    path = root / "maps" / "mod-3-permutation.yaml"
+    path.write_text(path.read_text(encoding="utf-8") + "census:\n  - {up_to: 12, found_on: 2026-12-04, method: m}\n")
+    return root
+
+
+def test_a_claim_on_a_map_by_residue_classes_is_proved_from_every_word(tmp_path: Path) -> None:
+    # The mod-3 permutation's cycles through 0, +-1, +-2, +-4 and +-44 (lengths 1, 1, 2, 5, 12: M. S. Klamkin,
+    # SIAM Review 5 (1963) 275-276, as ../shared/literature.md quotes it, and the mirror images) are listed.
+    root = _mod_3_catalogue(tmp_path)
+    report = verify_catalogue(root)
+    assert report.ok, [str(p) for p in report.errors]
+    claim = report.catalogue.maps["mod-3-permutation"].census[0]
+    assert claim.rechecked and claim.check is not None
+    assert sorted(claim.check.cycles) == [-44, -4, -2, -1, 0, 1, 2, 4, 44]
+    (root / "cycles" / "mod-3-permutation" / "44.yaml").unlink()
+    messages = [p.message for p in verify_catalogue(root).problems if p.code == "census-cycle-missing"]
+    assert messages == [
+        "census[0]: the census finds the cycle through 44 (12 steps), which the catalogue does not list; every cycle "
+        "of at most 12 steps must be listed"
     ]

@@ -50,9 +50,7 @@ def test_a_map_census_over_its_budget_claims_only_the_lengths_below_the_class_th
         "--no-cache",
     )  # fmt: skip
     assert run.code == 0, run.err
-    assert re.search(
-        r"stopped by the class \(13, \d+\): its length's words pass what is left of --census-words", run.out
-    )
+    assert re.search(r"stopped by the class \(13, \d+\): its words pass what is left of --census-words", run.out)
     assert "every cycle of at most 12 steps is listed" in run.out
     assert "census:\n  - up_to: 12\n" in (root / "maps" / "3x-plus-1.yaml").read_text(encoding="utf-8")
 
