@@ -130,7 +130,8 @@ def _mod_3_catalogue(tmp_path: Path) -> Path:
         shutil.copyfile(shipped / name, root / name)
     shutil.copytree(shipped / "cycles" / "mod-3-permutation", root / "cycles" / "mod-3-permutation")
     path = root / "maps" / "mod-3-permutation.yaml"
-    path.write_text(path.read_text(encoding="utf-8") + "census:\n  - {up_to: 12, found_on: 2026-12-04, method: m}\n")
+    text = path.read_text(encoding="utf-8").partition("\ncensus:\n")[0].rstrip("\n") + "\n"  # the shipped claim out
+    path.write_text(text + "census:\n  - {up_to: 12, found_on: 2026-12-04, method: m}\n")
     return root
 
 
