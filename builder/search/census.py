@@ -39,7 +39,7 @@ UNIT_BITS = 20
 ROOM = 1 << 12
 
 
-#: Lengths with q^n below this run in the kernel (see the module docstring).
+#: Lengths with q^n below this run in the kernel (builder.search.necklaces says why B then fits int64).
 KERNEL_LIMIT = 1 << 62
 
 
