@@ -77,13 +77,13 @@ def _excluded(q: int, d: int, n: int, k: int, x: int, growing: bool | None = Non
     return not (q * m - e) ** x <= (m**x << k)
 
 
-def _open_classes(q: int, d: int, n: int, k: int) -> list[int]:
+def _open_classes(q: int, d: int, n: int, k: int) -> range:
     """The x of length k that the search bound does not exclude: a segment on each side of k / log2 q.
 
     Floats only propose where each segment ends; each end is taken once exact comparisons on both of its sides
     confirm it, and found by bisection otherwise.  With no search bound (n < 0) no class is excluded."""
     if n < 0:
-        return list(range(k + 1))
+        return range(k + 1)
     # the last x with q^x < 2^k (side +1 of qx + |d|)
     split = _last(lambda x: x == 0 or q**x < (1 << k), 0, k, _guess(k, q))
     e = abs(d)
@@ -99,7 +99,7 @@ def _open_classes(q: int, d: int, n: int, k: int) -> list[int]:
         ratio = q - e / max(m, e // q + 1)
         guess = _guess(k, ratio) if ratio > 1 else k
         last_open = _last(lambda x: x == split or not _excluded(q, d, n, k, x, False), split, k, guess)
-    return list(range(first_open, split + 1)) + list(range(split + 1, last_open + 1))
+    return range(first_open, last_open + 1)  # the two segments meet at split: one run of x
 
 
 def _guess(k: int, base: float, ceiling: bool = False) -> int:
@@ -132,7 +132,7 @@ class Plan:
     d: int
     up_to: int
     search_bound: int
-    lengths: list[tuple[int, list[int]]] = field(default_factory=list)
+    lengths: list[tuple[int, range]] = field(default_factory=list)  # a range: no list of x at 10,000 steps
     excluded: dict[int, int] = field(default_factory=dict)
 
 
@@ -141,7 +141,8 @@ def plan_census(q: int, d: int, up_to: int, search_bound: int) -> Plan:
     exactly for 0 < x < k, and for both x of length 1)."""
     plan = Plan(q, d, up_to, search_bound)
     for k in range(1, up_to + 1):
-        open_x = [x for x in _open_classes(q, d, search_bound, k) if k == 1 or 0 < x < k]
+        found = _open_classes(q, d, search_bound, k)
+        open_x = found if k == 1 else range(max(found.start, 1), min(found.stop, k))  # words only for 0 < x < k
         plan.excluded[k] = (2 if k == 1 else k - 1) - len(open_x)
         if open_x:
             plan.lengths.append((k, open_x))
@@ -183,11 +184,10 @@ def _census_of(plan: Plan, scan: Scan, done: set[int]) -> MapCensus:
     q, d = plan.q, plan.d
     census = MapCensus(q, d, plan.up_to, plan.search_bound, 0, excluded=dict(plan.excluded))
     found: dict[tuple[int, int], list[CycleFound]] = {}
+    open_at = dict(plan.lengths)
     for hit in scan.hits:
-        cycle = close(q, d, hit) if hit.k <= plan.up_to else None
-        if cycle is not None and (hit.k, sum(cycle.word)) in {
-            (k, x) for k, xs in plan.lengths if k == hit.k for x in xs
-        }:
+        cycle = close(q, d, hit) if hit.k in open_at else None
+        if cycle is not None and sum(cycle.word) in open_at[hit.k]:
             found.setdefault((hit.k, sum(cycle.word)), []).append(cycle)
             census.cycles.append(cycle)
     for k, open_x in plan.lengths:
@@ -196,8 +196,8 @@ def _census_of(plan: Plan, scan: Scan, done: set[int]) -> MapCensus:
             for x in open_x:
                 cycles = tuple(sorted(c.members[0] for c in found.get((k, x), [])))
                 census.rows.append(_row(q, d, k, x, ENUMERATED, scan.tried[k, x], cycles))
-        else:
-            census.stopped_by = census.stopped_by or (k, open_x[0])
+        elif census.stopped_by is None:  # the first length the budget leaves open: its classes, and no later ones
+            census.stopped_by = (k, open_x[0])
             census.rows += [_row(q, d, k, x, OVER_BUDGET) for x in open_x]
     census.cycles = [c for c in census.cycles if census.stopped_by is None or len(c.members) < census.stopped_by[0]]
     census.cycles.sort(key=lambda c: (len(c.members), abs(c.members[0]), c.members[0] < 0))

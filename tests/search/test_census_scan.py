@@ -148,7 +148,7 @@ def test_the_open_classes_are_those_whose_bound_passes_the_search_bound(q: int, 
     # (rules (B) and (E) of builder.arith.census).
     for k in range(1, 40):
         by_definition = [x for x in range(1, k + 1) if class_bound(q, d, k, x).bound > n]
-        assert _open_classes(q, d, n, k) == by_definition, k
+        assert list(_open_classes(q, d, n, k)) == by_definition, k
         assert all(_excluded(q, d, n, k, x) == (x not in by_definition) for x in range(k + 1))
 
 
