@@ -43,6 +43,7 @@ node of the tree inside an interval has the least denominator and numerator ther
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import gmpy2
@@ -113,6 +114,9 @@ def class_bound(q: int, d: int, k: int, x: int) -> ClassBound:
     low = 1 if growing else e // q + 1  # side -1 needs q M > |d|
     if not holds(low):  # no M at all: the class has no cycle
         return ClassBound(k, x, side, 0)
+    guess = _proposed_bound(q, e, k, x, growing)  # a float's proposal, taken only when integers confirm it
+    if guess is not None and guess >= low and holds(guess) and not holds(guess + 1):
+        return ClassBound(k, x, side, guess)
     high = low * 2
     while holds(high):
         low, high = high, high * 2
@@ -123,6 +127,16 @@ def class_bound(q: int, d: int, k: int, x: int) -> ClassBound:
         else:
             high = middle
     return ClassBound(k, x, side, low)
+
+
+def _proposed_bound(q: int, e: int, k: int, x: int, growing: bool) -> int | None:
+    """Where rule (B)'s inequality stops holding, as floats see it: |d| / (2^(k/x) - q) on the positive side,
+    |d| / (q - 2^(k/x)) on the other; None when the floats cannot say (class_bound then bisects)."""
+    try:
+        gap = 2 ** (k / x) - q if growing else q - 2 ** (k / x)
+        return math.floor(e / gap) if gap > 0 and e / gap < 2**62 else None
+    except (OverflowError, ZeroDivisionError):
+        return None
 
 
 def window_admits(q: int, d: int, n: int, k: int, x: int) -> bool:

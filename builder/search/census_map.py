@@ -13,13 +13,14 @@ A class that is not excluded is *enumerated*: every word of its length is tried 
 (builder.search.census.scan_words), those of the class whose e divides d are followed around
 (``close``), and what they give is the class's complete list.  A length is scanned whole, so it
 costs its number of aperiodic necklaces in words; when that passes what is left of the budget, the
-classes of the length that need it are *over budget*, and so is every later length's.
+classes of the length that need it are *over budget*, and the census stops there (no later length is tried).
 
 The census claims the lengths up to the last one before its first unsettled class, and names that class.
 """
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -168,10 +169,11 @@ def settle(plans: list[Plan], budget: int, jobs: int = 1) -> list[MapCensus]:
     done = set(scanned)
     wanted_by: dict[tuple[int, int], set[int]] = {}
     for p in plans:
+        own = divisors(abs(p.d))
         for k, open_x in p.lengths:
             if k in done:
                 for x in open_x:
-                    wanted_by.setdefault((k, x), set()).update(divisors(abs(p.d)))
+                    wanted_by.setdefault((k, x), set()).update(own)
 
     def wanted(k: int, x: int) -> tuple[int, ...]:
         return class_divisors(q, k, x, wanted_by.get((k, x), ()))
@@ -213,6 +215,10 @@ def map_census(q: int, d: int, up_to: int, search_bound: int, budget: int, jobs:
 
 
 def _row(q: int, d: int, k: int, x: int, status: str, tried: int = 0, cycles: tuple[int, ...] = ()) -> ClassRow:
-    return ClassRow(
-        k, x, aperiodic_necklace_count(k, x), target(q, k, x), class_bound(q, d, k, x).bound, status, tried, cycles
-    )
+    return ClassRow(k, x, _words(k, x), target(q, k, x), class_bound(q, d, k, x).bound, status, tried, cycles)
+
+
+@functools.lru_cache(maxsize=1 << 16)
+def _words(k: int, x: int) -> int:
+    """L(k, x), kept: the maps of a family census share every class's count."""
+    return aperiodic_necklace_count(k, x)
