@@ -44,6 +44,7 @@ node of the tree inside an interval has the least denominator and numerator ther
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import gmpy2
@@ -54,6 +55,7 @@ __all__ = [
     "class_bound",
     "class_side",
     "first_admitted",
+    "last_holding",
     "lyndon_words",
     "lyndon_words_up_to",
     "window_admits",
@@ -114,19 +116,36 @@ def class_bound(q: int, d: int, k: int, x: int) -> ClassBound:
     low = 1 if growing else e // q + 1  # side -1 needs q M > |d|
     if not holds(low):  # no M at all: the class has no cycle
         return ClassBound(k, x, side, 0)
-    guess = _proposed_bound(q, e, k, x, growing)  # a float's proposal, taken only when integers confirm it
-    if guess is not None and guess >= low and holds(guess) and not holds(guess + 1):
-        return ClassBound(k, x, side, guess)
-    high = low * 2
-    while holds(high):
-        low, high = high, high * 2
+    # a float's proposal, taken only when integers confirm it
+    return ClassBound(k, x, side, last_holding(holds, low, guess=_proposed_bound(q, e, k, x, growing)))
+
+
+def last_holding(holds: Callable[[int], bool], low: int, high: int | None = None, guess: int | None = None) -> int:
+    """The last m >= low (and <= high, when given) where ``holds``, given holds(low) and that it holds on an
+    initial segment.  A ``guess`` (a float's proposal, say) is taken when holds confirms it on both sides;
+    otherwise, without ``high``, doubling from low >= 1 finds an m where it fails, then bisection."""
+    if (
+        guess is not None
+        and low <= guess
+        and (high is None or guess <= high)
+        and holds(guess)
+        and (guess == high or not holds(guess + 1))
+    ):
+        return guess
+    if high is None:
+        assert low >= 1, "doubling needs a positive start"
+        high = low * 2
+        while holds(high):
+            low, high = high, high * 2
+    else:
+        high += 1  # beyond the range: treated as failing
     while high - low > 1:  # holds(low), not holds(high)
         middle = (low + high) // 2
         if holds(middle):
             low = middle
         else:
             high = middle
-    return ClassBound(k, x, side, low)
+    return low
 
 
 def _proposed_bound(q: int, e: int, k: int, x: int, growing: bool) -> int | None:
@@ -184,16 +203,7 @@ def _longest_run(window: tuple[int, int, int], base: tuple[int, int], step: tupl
     def keeps(t: int) -> bool:
         return _side_of(window, base[0] + t * step[0], base[1] + t * step[1]) == where
 
-    low, high = 1, 2
-    while keeps(high):
-        low, high = high, high * 2
-    while high - low > 1:
-        middle = (low + high) // 2
-        if keeps(middle):
-            low = middle
-        else:
-            high = middle
-    return low
+    return last_holding(keeps, 1)
 
 
 def _side_of(window: tuple[int, int, int], k: int, x: int) -> int:

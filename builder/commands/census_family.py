@@ -13,6 +13,7 @@ import argparse
 import datetime as _dt
 import sys
 import time
+from math import gcd
 from pathlib import Path
 
 from builder.arith.dynamics import CycleFound
@@ -78,8 +79,6 @@ def run_family_census(args: argparse.Namespace) -> int:
 
 def _primitive(cycle: CycleFound, d: int) -> bool:
     """Whether the cycle's members are coprime to d (it is not g times a cycle of d/g)."""
-    from math import gcd
-
     g = abs(d)
     for n in cycle.members:
         g = gcd(g, n)

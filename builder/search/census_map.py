@@ -22,12 +22,11 @@ from __future__ import annotations
 
 import functools
 import math
-from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import gmpy2
 
-from builder.arith.census import ClassRow, class_bound, class_side
+from builder.arith.census import ClassRow, class_bound, class_side, last_holding
 from builder.arith.dynamics import CycleFound
 from builder.arith.words import aperiodic_necklace_count, divisors
 from builder.search.census import Scan, class_divisors, close, scan_words, target, words_in_length
@@ -86,20 +85,20 @@ def _open_classes(q: int, d: int, n: int, k: int) -> range:
     if n < 0:
         return range(k + 1)
     # the last x with q^x < 2^k (side +1 of qx + |d|)
-    split = _last(lambda x: x == 0 or q**x < (1 << k), 0, k, _guess(k, q))
+    split = last_holding(lambda x: x == 0 or q**x < (1 << k), 0, k, _guess(k, q))
     e = abs(d)
     m = n + 1
     # side +1 (x = 0..split): excluded for small x, open from some x on; none open when x = split is excluded
     first_open = split + 1
     if split and not _excluded(q, d, n, k, split, True):
         guess = _guess(k, q + e / m, ceiling=True) - 1
-        first_open = 1 + _last(lambda x: _excluded(q, d, n, k, x, True), 0, split, guess)
+        first_open = 1 + last_holding(lambda x: _excluded(q, d, n, k, x, True), 0, split, guess)
     # side -1 (x = split+1..k): open up to some x, excluded from there on; none open when x = split + 1 is excluded
     last_open = split
     if split < k and not _excluded(q, d, n, k, split + 1, False):
         ratio = q - e / max(m, e // q + 1)
         guess = _guess(k, ratio) if ratio > 1 else k
-        last_open = _last(lambda x: x == split or not _excluded(q, d, n, k, x, False), split, k, guess)
+        last_open = last_holding(lambda x: x == split or not _excluded(q, d, n, k, x, False), split, k, guess)
     return range(first_open, last_open + 1)  # the two segments meet at split: one run of x
 
 
@@ -107,21 +106,6 @@ def _guess(k: int, base: float, ceiling: bool = False) -> int:
     """k / log2(base), rounded down (or up): a float's proposal, which exact comparisons then check."""
     value = k / math.log2(base) if base > 1 else float(k)
     return math.ceil(value) if ceiling else math.floor(value)
-
-
-def _last(holds: Callable[[int], bool], low: int, high: int, guess: int) -> int:
-    """The last x in low..high where ``holds``, given holds(low) and that it holds on an initial segment."""
-    guess = min(max(guess, low), high)
-    if holds(guess) and (guess == high or not holds(guess + 1)):
-        return guess
-    high += 1  # not holds(high), or beyond the range
-    while high - low > 1:
-        middle = (low + high) // 2
-        if holds(middle):
-            low = middle
-        else:
-            high = middle
-    return low
 
 
 @dataclass

@@ -50,7 +50,8 @@ def test_a_binary_map_gives_the_same_cycles_as_the_census_by_classes(d: int) -> 
 
 def test_5x_plus_1_has_its_published_positive_cycles() -> None:
     # ../shared/literature.md: 5x+1 on positives has cycles through 1, 13 and 17 (Metzger 1999, as annotated by
-    # Lagarias); the shortest of each has 3 (1 -> 3 -> 8 -> 4 -> 2 -> 1: 5 steps), ... so length 10 holds them all.
+    # Lagarias); in shortcut steps they have 5 (1 -> 3 -> 8 -> 4 -> 2 -> 1, by hand), 7 and 7 members, so the
+    # lengths up to 10 hold them all.
     census = residue_census(AffineMap(2, ((1, 0), (5, 1))), 10, 10**9)
     assert sorted(c.members[0] for c in census.cycles if c.members[0] > 0) == [1, 13, 17]
 
