@@ -207,48 +207,15 @@ def _longest_run(window: tuple[int, int, int], base: tuple[int, int], step: tupl
 
 
 def _side_of(window: tuple[int, int, int], k: int, x: int) -> int:
-    """-1 when k/x <= log2 q (2^k <= q^x), +1 when k/x >= log2(q + d/n) (2^k n^x >= (qn + d)^x), 0 inside.
-
-    Each side is settled by a certified enclosure first (``_certain_sign``: MPFR's logarithms rounded
-    down and up, which decide only when the integer k lies outside the enclosure of the other side)
-    and otherwise by the integers themselves."""
+    """-1 when k/x <= log2 q (2^k <= q^x), +1 when k/x >= log2(q + d/n) (2^k n^x >= (qn + d)^x), 0 inside:
+    both compared as integers (GMP), so nothing rests on a rounded logarithm."""
     q, d, n = window
     if x == 0:
         return 1  # k/0 is infinite
-    low = _certain_sign(k, x, (q, 1))
-    if low is None:
-        low = 1 if (gmpy2.mpz(1) << k) > gmpy2.mpz(q) ** x else -1
-    if low <= 0:
+    if (gmpy2.mpz(1) << k) <= gmpy2.mpz(q) ** x:
         return -1
-    high = _certain_sign(k, x, (q * n + d, n))
-    if high is None:
-        nn = gmpy2.mpz(n)
-        high = 1 if (nn**x << k) >= (q * nn + d) ** x else -1
-    return 1 if high >= 0 else 0
-
-
-def _certain_sign(k: int, x: int, ratio: tuple[int, int], precision: int = 128) -> int | None:
-    """The sign of k - x log2(a/b) (a > b >= 1), when an enclosure of x log2(a/b) at ``precision`` bits settles it,
-    else None.
-
-    MPFR rounds every operation correctly in the direction asked (gmpy2's RoundDown and RoundUp): the
-    lower end takes a and log2 a rounded down, b and log2 b rounded up, and their difference and its
-    product with x rounded down, so it is at most the true x log2(a/b); the upper end is the mirror
-    image.  An integer k above the upper end or below the lower one has that sign, whatever the rounding.
-    """
-    a, b = ratio
-    ends = []
-    for toward, away in ((gmpy2.RoundDown, gmpy2.RoundUp), (gmpy2.RoundUp, gmpy2.RoundDown)):
-        with gmpy2.context(precision=precision, round=away):
-            log_b = gmpy2.log2(gmpy2.mpfr(b))
-        with gmpy2.context(precision=precision, round=toward):
-            ends.append((gmpy2.log2(gmpy2.mpfr(a)) - log_b) * x)
-    lower, upper = ends
-    if k > upper:
-        return 1
-    if k < lower:
-        return -1
-    return None
+    nn = gmpy2.mpz(n)
+    return 1 if (nn**x << k) >= (q * nn + d) ** x else 0
 
 
 def lyndon_words(k: int, x: int | None = None) -> list[tuple[int, ...]]:
